@@ -1,0 +1,48 @@
+//! Human response to whole-body vibration per ISO 2631-1:1997: frequency
+//! weightings (Annex A), the basic evaluation (aw), the additional methods
+//! (running r.m.s./MTVV, VDV), crest factor, and the comfort and health
+//! guidance of Annexes B and C with the EU Directive 2002/44/EC values.
+
+use std::path::PathBuf;
+
+use thiserror::Error;
+
+/// A measured acceleration record or its evaluation was refused.
+#[derive(Debug, Error)]
+pub enum ComfortError {
+    /// The record file could not be read.
+    #[error("{path}: cannot read: {source}")]
+    Read {
+        /// The record file.
+        path: PathBuf,
+        /// What the operating system said.
+        source: std::io::Error,
+    },
+    /// A row or column of the record is malformed.
+    #[error("{path}: line {line}: {message}")]
+    BadRow {
+        /// The record file.
+        path: PathBuf,
+        /// 1-based line number (the header is line 1).
+        line: u64,
+        /// What was wrong.
+        message: String,
+    },
+    /// The record or parameter cannot be evaluated (sample rate too low, …).
+    #[error("{0}")]
+    Unusable(String),
+}
+
+impl ComfortError {
+    /// Exit status for the command line: 2 for bad input, 1 for I/O trouble.
+    pub fn exit_status(&self) -> u8 {
+        match self {
+            ComfortError::Read { source, .. }
+                if source.kind() != std::io::ErrorKind::NotFound =>
+            {
+                1
+            }
+            _ => 2,
+        }
+    }
+}

@@ -1,0 +1,36 @@
+//! The crate-level error: one variant per boundary, each carrying its own
+//! typed error with the file, line, key or value that was wrong.
+//!
+//! The binary maps [`Error::exit_status`] to the process exit code: 2 for
+//! bad input or usage, 1 for anything else (contract, `interface.md`).
+
+use thiserror::Error as ThisError;
+
+/// Any failure the library reports to the command line.
+#[derive(Debug, ThisError)]
+pub enum Error {
+    /// A road profile could not be read, generated or classified.
+    #[error(transparent)]
+    Profile(#[from] crate::road::ProfileError),
+    /// A result could not be written.
+    #[error(transparent)]
+    Export(#[from] crate::report::ExportError),
+    /// A measured acceleration record or its evaluation was refused.
+    #[error(transparent)]
+    Comfort(#[from] crate::comfort::ComfortError),
+    /// A command-line value was malformed (option name and value in the text).
+    #[error("{0}")]
+    Usage(String),
+}
+
+impl Error {
+    /// Exit status for the command line: 2 for bad input, 1 otherwise.
+    pub fn exit_status(&self) -> u8 {
+        match self {
+            Error::Profile(e) => e.exit_status(),
+            Error::Export(_) => 1,
+            Error::Comfort(e) => e.exit_status(),
+            Error::Usage(_) => 2,
+        }
+    }
+}

@@ -1,0 +1,264 @@
+//! The profile CSV of the command-line contract: a header row, then rows
+//! `distance_m,elevation_m` (other columns ignored), strictly increasing in
+//! distance. Rows that are not uniformly spaced are resampled onto a uniform
+//! grid (with a warning) unless a gap is too large to bridge honestly.
+
+use std::io::{Read, Write};
+use std::path::{Path, PathBuf};
+
+use super::{Profile, ProfileError};
+
+/// Relative spacing deviation tolerated without resampling (rounding in the
+/// file's printed distances).
+const UNIFORM_TOLERANCE: f64 = 1e-6;
+/// A gap wider than this many median spacings is refused rather than bridged.
+const MAX_GAP_FACTOR: f64 = 4.0;
+
+/// Reads a profile CSV. Warnings (resampling) are returned beside the profile
+/// so the caller decides where they go.
+pub fn read_profile_csv(path: &Path) -> Result<(Profile, Vec<String>), ProfileError> {
+    let file = std::fs::File::open(path).map_err(|source| ProfileError::Read {
+        path: path.to_path_buf(),
+        source,
+    })?;
+    read_profile_from(file, path)
+}
+
+/// Reads a profile CSV from any reader; `path` names it in messages.
+pub fn read_profile_from(
+    reader: impl Read,
+    path: &Path,
+) -> Result<(Profile, Vec<String>), ProfileError> {
+    let p = || path.to_path_buf();
+    let mut rdr = csv::ReaderBuilder::new()
+        .has_headers(true)
+        .trim(csv::Trim::All)
+        .comment(Some(b'#'))
+        .flexible(true)
+        .from_reader(reader);
+    let headers = rdr
+        .headers()
+        .map_err(|e| csv_error(p(), 1, e))?
+        .clone();
+    let col = |name: &str| -> Result<usize, ProfileError> {
+        headers
+            .iter()
+            .position(|h| h.trim_start_matches('\u{feff}') == name)
+            .ok_or_else(|| ProfileError::MissingColumn {
+                path: p(),
+                column: name.to_string(),
+            })
+    };
+    let (ix, iz) = (col("distance_m")?, col("elevation_m")?);
+
+    let mut xs: Vec<f64> = Vec::new();
+    let mut zs: Vec<f64> = Vec::new();
+    let mut lines: Vec<u64> = Vec::new();
+    let mut record = csv::StringRecord::new();
+    loop {
+        match rdr.read_record(&mut record) {
+            Ok(false) => break,
+            Ok(true) => {}
+            Err(e) => {
+                let line = e.position().map(|q| q.line()).unwrap_or(0);
+                return Err(csv_error(p(), line, e));
+            }
+        }
+        let line = record.position().map(|q| q.line()).unwrap_or(0);
+        let field = |i: usize, name: &str| -> Result<f64, ProfileError> {
+            let s = record.get(i).ok_or_else(|| ProfileError::BadRow {
+                path: p(),
+                line,
+                message: format!("missing value for `{name}`"),
+            })?;
+            let v: f64 = s.parse().map_err(|_| ProfileError::BadRow {
+                path: p(),
+                line,
+                message: format!("`{name}` is not a number: {s:?}"),
+            })?;
+            if !v.is_finite() {
+                return Err(ProfileError::BadRow {
+                    path: p(),
+                    line,
+                    message: format!("`{name}` must be finite, got {s}"),
+                });
+            }
+            Ok(v)
+        };
+        let x = field(ix, "distance_m")?;
+        let z = field(iz, "elevation_m")?;
+        if let Some(&prev) = xs.last() {
+            if x <= prev {
+                return Err(ProfileError::BadRow {
+                    path: p(),
+                    line,
+                    message: format!(
+                        "distance_m must increase strictly: {x} follows {prev}"
+                    ),
+                });
+            }
+        }
+        xs.push(x);
+        zs.push(z);
+        lines.push(line);
+    }
+    if xs.len() < 2 {
+        return Err(ProfileError::Unusable {
+            path: p(),
+            message: format!(
+                "a profile needs at least two data rows, found {}",
+                xs.len()
+            ),
+        });
+    }
+    to_uniform(&xs, &zs, &lines, path)
+}
+
+fn csv_error(path: PathBuf, line: u64, e: csv::Error) -> ProfileError {
+    match e.into_kind() {
+        csv::ErrorKind::Io(source) => ProfileError::Read { path, source },
+        kind => ProfileError::BadRow {
+            path,
+            line,
+            message: format!("malformed CSV: {kind:?}"),
+        },
+    }
+}
+
+/// Puts the rows on a uniform grid: as they are when already uniform,
+/// otherwise by linear interpolation at the median spacing.
+fn to_uniform(
+    xs: &[f64],
+    zs: &[f64],
+    lines: &[u64],
+    path: &Path,
+) -> Result<(Profile, Vec<String>), ProfileError> {
+    let n = xs.len();
+    let span = xs[n - 1] - xs[0];
+    let nominal = span / (n - 1) as f64;
+    let uniform = xs
+        .windows(2)
+        .all(|w| ((w[1] - w[0]) - nominal).abs() <= UNIFORM_TOLERANCE * nominal.max(1e-9) + 1e-9);
+    if uniform {
+        return Ok((Profile::new(xs[0], nominal, zs.to_vec()), Vec::new()));
+    }
+    let mut gaps: Vec<f64> = xs.windows(2).map(|w| w[1] - w[0]).collect();
+    gaps.sort_by(f64::total_cmp);
+    let median = gaps[gaps.len() / 2];
+    for (i, w) in xs.windows(2).enumerate() {
+        if w[1] - w[0] > MAX_GAP_FACTOR * median {
+            return Err(ProfileError::BadRow {
+                path: path.to_path_buf(),
+                line: lines[i + 1],
+                message: format!(
+                    "gap of {:.4} m after distance {} is more than {MAX_GAP_FACTOR} times the median spacing ({median:.4} m); \
+                     fill the gap or split the profile",
+                    w[1] - w[0],
+                    w[0]
+                ),
+            });
+        }
+    }
+    let count = (span / median).round() as usize + 1;
+    let spacing = span / (count - 1) as f64;
+    let mut out = Vec::with_capacity(count);
+    let mut j = 0;
+    for i in 0..count {
+        let x = xs[0] + i as f64 * spacing;
+        while j + 2 < n && xs[j + 1] <= x {
+            j += 1;
+        }
+        let f = ((x - xs[j]) / (xs[j + 1] - xs[j])).clamp(0.0, 1.0);
+        out.push(zs[j] + f * (zs[j + 1] - zs[j]));
+    }
+    let warning = format!(
+        "{}: rows are not uniformly spaced; resampled {n} rows to {count} at {spacing:.6} m by linear interpolation",
+        path.display()
+    );
+    Ok((Profile::new(xs[0], spacing, out), vec![warning]))
+}
+
+/// Writes a profile as the contract's CSV. Distances are printed from the
+/// sample index so they carry no accumulated rounding.
+pub fn write_profile_csv(profile: &Profile, out: &mut dyn Write) -> std::io::Result<()> {
+    writeln!(out, "distance_m,elevation_m")?;
+    for (i, z) in profile.elevation_m.iter().enumerate() {
+        writeln!(out, "{},{:e}", fmt_distance(profile.distance_m(i)), z)?;
+    }
+    Ok(())
+}
+
+/// Distances to 1 µm, without trailing zeros, so files stay small and stable.
+fn fmt_distance(x: f64) -> String {
+    let s = format!("{x:.6}");
+    let s = s.trim_end_matches('0').trim_end_matches('.');
+    if s.is_empty() || s == "-" { "0".into() } else { s.to_string() }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn read(text: &str) -> Result<(Profile, Vec<String>), ProfileError> {
+        read_profile_from(text.as_bytes(), Path::new("road.csv"))
+    }
+
+    #[test]
+    fn reads_uniform_rows_and_ignores_other_columns() {
+        let (p, w) = read("distance_m,elevation_m,note\n0,0.0,a\n0.5,0.01,b\n1.0,0.02,c\n").unwrap();
+        assert!(w.is_empty());
+        assert_eq!(p.len(), 3);
+        assert!((p.spacing_m - 0.5).abs() < 1e-12);
+        assert_eq!(p.elevation_m[2], 0.02);
+    }
+
+    #[test]
+    fn refuses_non_increasing_distance_naming_the_line() {
+        let e = read("distance_m,elevation_m\n0,0\n1,0\n1,0\n").unwrap_err();
+        let msg = e.to_string();
+        assert!(msg.contains("road.csv: line 4"), "{msg}");
+        assert!(msg.contains("increase"), "{msg}");
+    }
+
+    #[test]
+    fn refuses_nan_and_text() {
+        let e = read("distance_m,elevation_m\n0,0\n1,NaN\n").unwrap_err();
+        assert!(e.to_string().contains("line 3"), "{e}");
+        let e = read("distance_m,elevation_m\n0,0\n1,abc\n").unwrap_err();
+        assert!(e.to_string().contains("not a number"), "{e}");
+    }
+
+    #[test]
+    fn refuses_a_single_row_and_a_missing_column() {
+        assert!(read("distance_m,elevation_m\n0,0\n").unwrap_err().to_string().contains("two data rows"));
+        let e = read("x,elevation_m\n0,0\n1,0\n").unwrap_err();
+        assert!(e.to_string().contains("distance_m"), "{e}");
+    }
+
+    #[test]
+    fn resamples_slightly_irregular_rows_with_a_warning() {
+        let (p, w) = read("distance_m,elevation_m\n0,0\n0.9,0.9\n2.1,2.1\n3,3\n").unwrap();
+        assert_eq!(w.len(), 1);
+        assert!((p.end_m() - 3.0).abs() < 1e-12);
+        // A linear road stays linear after resampling.
+        for (i, z) in p.elevation_m.iter().enumerate() {
+            assert!((z - p.distance_m(i)).abs() < 1e-12);
+        }
+    }
+
+    #[test]
+    fn refuses_large_gaps() {
+        let e = read("distance_m,elevation_m\n0,0\n1,0\n2,0\n10,0\n11,0\n").unwrap_err();
+        assert!(e.to_string().contains("gap"), "{e}");
+    }
+
+    #[test]
+    fn writes_what_it_reads() {
+        let p = Profile::new(0.0, 0.05, vec![0.001, -0.002, 0.0031]);
+        let mut buf = Vec::new();
+        write_profile_csv(&p, &mut buf).unwrap();
+        let (q, _) = read(std::str::from_utf8(&buf).unwrap()).unwrap();
+        assert_eq!(p.elevation_m, q.elevation_m);
+        assert!((p.spacing_m - q.spacing_m).abs() < 1e-12);
+    }
+}

@@ -1,0 +1,193 @@
+//! Road profiles: the elevation a wheel sees, as a function of distance.
+//!
+//! Owns the [`Profile`] type (uniformly spaced elevations, metres), reading
+//! and writing the profile CSV of the command-line contract
+//! (`distance_m,elevation_m`), ISO 8608 synthesis, discrete obstacles and
+//! roughness classification (ISO 8608 class, IRI per ASTM E1926).
+//!
+//! Between samples the road is linear in distance; before the first sample
+//! and after the last it is held at the end value.
+
+mod csv_io;
+
+pub use csv_io::{read_profile_csv, read_profile_from, write_profile_csv};
+
+use std::path::PathBuf;
+
+use thiserror::Error;
+
+/// A road profile on a uniform distance grid.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Profile {
+    /// Distance of the first sample, m.
+    pub start_m: f64,
+    /// Spacing between samples, m (> 0).
+    pub spacing_m: f64,
+    /// Elevation at `start_m + i·spacing_m`, m.
+    pub elevation_m: Vec<f64>,
+}
+
+impl Profile {
+    /// A profile from uniformly spaced samples. Panics on a non-positive
+    /// spacing or fewer than two samples: callers validate user input first.
+    pub fn new(start_m: f64, spacing_m: f64, elevation_m: Vec<f64>) -> Self {
+        assert!(
+            spacing_m > 0.0 && spacing_m.is_finite(),
+            "profile spacing must be positive, got {spacing_m}"
+        );
+        assert!(
+            elevation_m.len() >= 2,
+            "a profile needs two samples, got {}",
+            elevation_m.len()
+        );
+        Profile {
+            start_m,
+            spacing_m,
+            elevation_m,
+        }
+    }
+
+    /// Number of samples.
+    pub fn len(&self) -> usize {
+        self.elevation_m.len()
+    }
+
+    /// Always false: a profile holds at least two samples.
+    pub fn is_empty(&self) -> bool {
+        self.elevation_m.is_empty()
+    }
+
+    /// Distance of the last sample, m.
+    pub fn end_m(&self) -> f64 {
+        self.start_m + (self.len() - 1) as f64 * self.spacing_m
+    }
+
+    /// Length covered, m (last distance − first distance).
+    pub fn length_m(&self) -> f64 {
+        (self.len() - 1) as f64 * self.spacing_m
+    }
+
+    /// Distance of sample `i`, m.
+    pub fn distance_m(&self, i: usize) -> f64 {
+        self.start_m + i as f64 * self.spacing_m
+    }
+
+    /// Index of the segment holding `x_m` and the fraction along it, with
+    /// `x_m` clamped to the profile.
+    #[inline]
+    fn locate(&self, x_m: f64) -> (usize, f64) {
+        let u = (x_m - self.start_m) / self.spacing_m;
+        let last = self.len() - 1;
+        if u <= 0.0 || u.is_nan() {
+            return (0, 0.0);
+        }
+        if u >= last as f64 {
+            return (last - 1, 1.0);
+        }
+        let i = u.floor() as usize;
+        (i.min(last - 1), u - i as f64)
+    }
+
+    /// Elevation at distance `x_m`, m: linear between samples, held at the
+    /// end values outside the profile.
+    #[inline]
+    pub fn elevation_at(&self, x_m: f64) -> f64 {
+        let (i, f) = self.locate(x_m);
+        let e = &self.elevation_m;
+        e[i] + f * (e[i + 1] - e[i])
+    }
+
+    /// Slope dz/dx at `x_m` (the segment to the right of a sample; zero
+    /// outside the profile, where the road is held flat).
+    #[inline]
+    pub fn slope_at(&self, x_m: f64) -> f64 {
+        if x_m < self.start_m || x_m >= self.end_m() {
+            return 0.0;
+        }
+        let (i, _) = self.locate(x_m);
+        (self.elevation_m[i + 1] - self.elevation_m[i]) / self.spacing_m
+    }
+
+    /// R.m.s. elevation about the mean, m.
+    pub fn rms_m(&self) -> f64 {
+        let n = self.len() as f64;
+        let mean = self.elevation_m.iter().sum::<f64>() / n;
+        (self.elevation_m.iter().map(|z| (z - mean).powi(2)).sum::<f64>() / n).sqrt()
+    }
+}
+
+/// A road profile could not be read, generated or classified.
+#[derive(Debug, Error)]
+pub enum ProfileError {
+    /// The file could not be opened or read.
+    #[error("{path}: cannot read: {source}")]
+    Read {
+        /// The profile file.
+        path: PathBuf,
+        /// What the operating system said.
+        source: std::io::Error,
+    },
+    /// The header row lacks a required column.
+    #[error("{path}: line 1: missing column `{column}` (the header must name distance_m and elevation_m)")]
+    MissingColumn {
+        /// The profile file.
+        path: PathBuf,
+        /// The missing column's name.
+        column: String,
+    },
+    /// A row is malformed: not a number, NaN, not increasing, …
+    #[error("{path}: line {line}: {message}")]
+    BadRow {
+        /// The profile file.
+        path: PathBuf,
+        /// 1-based line number in the file (the header is line 1).
+        line: u64,
+        /// What was wrong.
+        message: String,
+    },
+    /// The profile as a whole is unusable (too short, gaps too large, …).
+    #[error("{path}: {message}")]
+    Unusable {
+        /// The profile file (or a description of a generated road).
+        path: PathBuf,
+        /// What was wrong.
+        message: String,
+    },
+    /// A generation or classification parameter is out of range.
+    #[error("{0}")]
+    Parameter(String),
+}
+
+impl ProfileError {
+    /// Exit status for the command line: 2 for bad input, 1 for I/O trouble.
+    pub fn exit_status(&self) -> u8 {
+        match self {
+            ProfileError::Read { source, .. }
+                if source.kind() != std::io::ErrorKind::NotFound
+                    && source.kind() != std::io::ErrorKind::InvalidData =>
+            {
+                1
+            }
+            _ => 2,
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn interpolation_is_linear_and_held_at_the_ends() {
+        let p = Profile::new(10.0, 0.5, vec![0.0, 1.0, 3.0]);
+        assert_eq!(p.end_m(), 11.0);
+        assert_eq!(p.elevation_at(9.0), 0.0);
+        assert_eq!(p.elevation_at(10.25), 0.5);
+        assert_eq!(p.elevation_at(10.75), 2.0);
+        assert_eq!(p.elevation_at(12.0), 3.0);
+        assert_eq!(p.slope_at(10.1), 2.0);
+        assert_eq!(p.slope_at(10.6), 4.0);
+        assert_eq!(p.slope_at(11.0), 0.0);
+        assert_eq!(p.slope_at(9.9), 0.0);
+    }
+}
