@@ -3,6 +3,10 @@
 //! success, so a failed or interrupted run never leaves a partial file and
 //! never clobbers a good one).
 
+pub mod table;
+
+pub use table::{Table, sig};
+
 use std::io::{self, Write};
 use std::path::{Path, PathBuf};
 
@@ -92,6 +96,17 @@ where
             Ok(())
         }
     }
+}
+
+/// Serialises `value` as one JSON object on one line followed by a newline
+/// (the contract's `--json` output).
+pub fn json_line<T: serde::Serialize>(value: &T, what: &str) -> Result<String, ExportError> {
+    serde_json::to_string(value)
+        .map(|s| s + "\n")
+        .map_err(|e| ExportError::Serialise {
+            what: what.to_string(),
+            message: e.to_string(),
+        })
 }
 
 /// Wraps an I/O error while writing `path` (use inside `fill` closures).
