@@ -9,6 +9,9 @@ use thiserror::Error as ThisError;
 /// Any failure the library reports to the command line.
 #[derive(Debug, ThisError)]
 pub enum Error {
+    /// A vehicle file could not be read or describes an impossible vehicle.
+    #[error(transparent)]
+    Vehicle(#[from] crate::vehicle::VehicleError),
     /// A road profile could not be read, generated or classified.
     #[error(transparent)]
     Profile(#[from] crate::road::ProfileError),
@@ -27,6 +30,7 @@ impl Error {
     /// Exit status for the command line: 2 for bad input, 1 otherwise.
     pub fn exit_status(&self) -> u8 {
         match self {
+            Error::Vehicle(e) => e.exit_status(),
             Error::Profile(e) => e.exit_status(),
             Error::Export(_) => 1,
             Error::Comfort(e) => e.exit_status(),

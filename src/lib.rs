@@ -30,5 +30,6 @@ pub mod error;
 pub mod report;
 pub mod road;
 pub mod stats;
+pub mod vehicle;
 
 pub use error::Error;

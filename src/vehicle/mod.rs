@@ -1,0 +1,429 @@
+//! The vehicle: its description (read from the TOML file of the contract)
+//! and the damped bounce–pitch model built from it.
+//!
+//! # Model
+//! Generalised coordinates `q = [z, θ, z_uf, z_ur]`: body heave at the
+//! centre of gravity (CG, positive up), pitch (positive nose-up) and, for an
+//! axle with an unsprung mass, that wheel's vertical displacement. An axle
+//! without an unsprung mass connects the body to the road through its
+//! spring and damper directly (the 2-DOF bounce–pitch model). Axle `i` sits
+//! at `x_i` (front `+a`, rear `−b`), so its body point moves by `z + x_i·θ`.
+//!
+//! The equations follow from Lagrange's equations with
+//! `T = ½mż² + ½Jθ̇² + ½Σ m_ui ż_ui²`,
+//! `V = ½Σ k_i (δ_i)² + ½Σ k_ti (r_i − z_ui)²` and the Rayleigh function
+//! of the dampers (e.g. Gillespie, *Fundamentals of Vehicle Dynamics*,
+//! SAE 1992, ch. 5; Wong, *Theory of Ground Vehicles*, 4th ed., ch. 7):
+//! `M q̈ + C q̇ + K q = K_r r + C_r ṙ + f_b F`, with `M` diagonal in these
+//! coordinates and the heave–pitch stiffness coupling `K[0][1] = a·k_f − b·k_r`.
+//! [`Vehicle::matrices`] assembles them from the same elements that
+//! [`Vehicle::evaluate`] uses for the nonlinear time-domain model, so the
+//! two cannot drift apart (a test checks that they agree).
+//!
+//! # Signs and states
+//! Travel `δ_i` is positive in compression (wheel or road moving up towards
+//! the body); suspension and tyre forces are positive in compression. All
+//! states are deviations from static equilibrium on the first road sample,
+//! so gravity enters only through the static loads that decide tyre lift-off.
+
+mod spec;
+
+pub use spec::{VehicleError, parse_vehicle, read_vehicle};
+
+use nalgebra::{DMatrix, DVector};
+
+/// Standard gravity, m/s² (ISO 80000-3).
+pub const GRAVITY_M_S2: f64 = 9.80665;
+
+/// Most degrees of freedom a vehicle can have (heave, pitch, two wheels).
+pub const MAX_DOF: usize = 4;
+
+/// Front (index 0) and rear (index 1).
+pub const AXLE_NAMES: [&str; 2] = ["front", "rear"];
+
+/// A validated vehicle.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Vehicle {
+    /// Free text from the file.
+    pub name: String,
+    /// Sprung (body) mass, kg.
+    pub body_mass_kg: f64,
+    /// Body pitch inertia about the CG, kg m².
+    pub pitch_inertia_kg_m2: f64,
+    /// Front and rear axle.
+    pub axles: [Axle; 2],
+    /// Evaluation points on the body.
+    pub seats: Vec<Seat>,
+}
+
+/// One axle (both wheels together).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Axle {
+    /// Signed distance from the CG, m: positive ahead (front), negative behind (rear).
+    pub x_m: f64,
+    /// Suspension spring rate, N/m.
+    pub spring_n_m: f64,
+    /// Suspension damper.
+    pub damper: Damper,
+    /// Unsprung mass on a tyre; `None` for a body on springs.
+    pub tyre: Option<Tyre>,
+    /// Bump and rebound stops.
+    pub stops: Option<Stops>,
+}
+
+/// A damper, linear in each direction.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Damper {
+    /// Rate in compression (travel rate > 0), N s/m.
+    pub bump_n_s_m: f64,
+    /// Rate in extension (travel rate < 0), N s/m.
+    pub rebound_n_s_m: f64,
+}
+
+impl Damper {
+    /// The rate a linear model uses: the mean of bump and rebound (equal for
+    /// a symmetric damper).
+    pub fn linear_n_s_m(&self) -> f64 {
+        0.5 * (self.bump_n_s_m + self.rebound_n_s_m)
+    }
+
+    /// True when bump and rebound rates differ.
+    pub fn is_asymmetric(&self) -> bool {
+        self.bump_n_s_m != self.rebound_n_s_m
+    }
+
+    /// Force (compression positive) at a travel rate (compression positive).
+    #[inline]
+    pub fn force_n(&self, travel_rate_m_s: f64) -> f64 {
+        if travel_rate_m_s >= 0.0 {
+            self.bump_n_s_m * travel_rate_m_s
+        } else {
+            self.rebound_n_s_m * travel_rate_m_s
+        }
+    }
+}
+
+/// An unsprung mass and its tyre.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Tyre {
+    /// Unsprung mass, kg.
+    pub unsprung_mass_kg: f64,
+    /// Tyre radial rate, N/m.
+    pub rate_n_m: f64,
+    /// Tyre damping, N s/m.
+    pub damping_n_s_m: f64,
+}
+
+/// Travel stops: a linear spring that engages past a clearance.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Stops {
+    /// Compression travel before the bump stop engages, m.
+    pub bump_clearance_m: Option<f64>,
+    /// Extension travel before the rebound stop engages, m.
+    pub rebound_clearance_m: Option<f64>,
+    /// Stop rate, N/m.
+    pub rate_n_m: f64,
+}
+
+impl Stops {
+    /// Stop force (compression positive) at a travel (compression positive).
+    /// Continuous in travel, so the adaptive solver sees a kink, not a jump.
+    #[inline]
+    pub fn force_n(&self, travel_m: f64) -> f64 {
+        if let Some(c) = self.bump_clearance_m {
+            if travel_m > c {
+                return self.rate_n_m * (travel_m - c);
+            }
+        }
+        if let Some(c) = self.rebound_clearance_m {
+            if travel_m < -c {
+                return self.rate_n_m * (travel_m + c);
+            }
+        }
+        0.0
+    }
+}
+
+/// An evaluation point on the body.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Seat {
+    /// Position ahead of the CG, m.
+    pub x_m: f64,
+    /// Label for tables and history columns.
+    pub name: String,
+}
+
+/// The linear model's matrices, `M q̈ + C q̇ + K q = K_r r + C_r ṙ + f_b F`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Matrices {
+    /// Mass matrix (diagonal), ndof × ndof.
+    pub m: DMatrix<f64>,
+    /// Damping matrix (dampers at their mean rate), ndof × ndof.
+    pub c: DMatrix<f64>,
+    /// Stiffness matrix, ndof × ndof.
+    pub k: DMatrix<f64>,
+    /// Road elevation input, ndof × 2 (front, rear).
+    pub k_road: DMatrix<f64>,
+    /// Road elevation-rate input, ndof × 2 (front, rear).
+    pub c_road: DMatrix<f64>,
+}
+
+/// First-order form `ẋ = A x + B u` with `x = [q; q̇]` and
+/// `u = [r_f, r_r, ṙ_f, ṙ_r, F]`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StateSpace {
+    /// State matrix, 2·ndof square.
+    pub a: DMatrix<f64>,
+    /// Input matrix, 2·ndof × 5.
+    pub b: DMatrix<f64>,
+}
+
+/// Road seen by each axle: dynamic elevation (relative to the first
+/// sample) and its time rate.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct RoadState {
+    /// Elevation under front and rear, m.
+    pub elevation_m: [f64; 2],
+    /// Elevation rate under front and rear, m/s.
+    pub rate_m_s: [f64; 2],
+}
+
+/// Element forces and kinematics at one instant.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct ElementState {
+    /// Suspension travel, compression positive, m (dynamic).
+    pub travel_m: [f64; 2],
+    /// Travel rate, compression positive, m/s.
+    pub travel_rate_m_s: [f64; 2],
+    /// Suspension force (spring + damper + stop), compression positive, N (dynamic).
+    pub suspension_n: [f64; 2],
+    /// Dynamic road contact force, compression positive, N: the tyre force,
+    /// or the suspension force for an axle without an unsprung mass.
+    pub contact_n: [f64; 2],
+    /// False while the tyre (or the spring, without a tyre) is off the road.
+    pub in_contact: [bool; 2],
+}
+
+impl Vehicle {
+    /// Wheelbase `a + b`, m: the rear wheel sees the front wheel's road this
+    /// much later in distance.
+    pub fn wheelbase_m(&self) -> f64 {
+        self.axles[0].x_m - self.axles[1].x_m
+    }
+
+    /// Degrees of freedom: 2 (heave, pitch) plus one per unsprung mass.
+    pub fn dof_count(&self) -> usize {
+        2 + self.axles.iter().filter(|a| a.tyre.is_some()).count()
+    }
+
+    /// Index of axle `i`'s wheel coordinate in `q`, if it has one.
+    pub fn wheel_dof(&self, i: usize) -> Option<usize> {
+        self.axles[i].tyre?;
+        let front_wheel = usize::from(self.axles[0].tyre.is_some());
+        Some(if i == 0 { 2 } else { 2 + front_wheel })
+    }
+
+    /// Names of the coordinates in `q`, in order.
+    pub fn dof_names(&self) -> Vec<&'static str> {
+        let mut v = vec!["heave", "pitch"];
+        if self.axles[0].tyre.is_some() {
+            v.push("front_wheel");
+        }
+        if self.axles[1].tyre.is_some() {
+            v.push("rear_wheel");
+        }
+        v
+    }
+
+    /// True when every element is linear (symmetric dampers, no stops).
+    /// Tyre lift-off can still occur on a rough road; the solver watches for it.
+    pub fn is_linear(&self) -> bool {
+        self.axles
+            .iter()
+            .all(|a| !a.damper.is_asymmetric() && a.stops.is_none())
+    }
+
+    /// Static suspension force of each axle, N: the body weight shared by
+    /// moment balance about the CG (`W·b/L` front, `W·a/L` rear).
+    pub fn static_suspension_n(&self) -> [f64; 2] {
+        let w = self.body_mass_kg * GRAVITY_M_S2;
+        let l = self.wheelbase_m();
+        [w * -self.axles[1].x_m / l, w * self.axles[0].x_m / l]
+    }
+
+    /// Static road contact force of each axle, N (suspension plus unsprung weight).
+    pub fn static_contact_n(&self) -> [f64; 2] {
+        let s = self.static_suspension_n();
+        let mut out = s;
+        for i in 0..2 {
+            if let Some(t) = &self.axles[i].tyre {
+                out[i] += t.unsprung_mass_kg * GRAVITY_M_S2;
+            }
+        }
+        out
+    }
+
+    /// Diagonal of the mass matrix.
+    pub fn mass_diagonal(&self) -> [f64; MAX_DOF] {
+        let mut m = [0.0; MAX_DOF];
+        m[0] = self.body_mass_kg;
+        m[1] = self.pitch_inertia_kg_m2;
+        for i in 0..2 {
+            if let (Some(j), Some(t)) = (self.wheel_dof(i), &self.axles[i].tyre) {
+                m[j] = t.unsprung_mass_kg;
+            }
+        }
+        m
+    }
+
+    /// Assembles `M`, `C`, `K`, `K_r`, `C_r` element by element.
+    ///
+    /// A suspension between body point `e_b = [1, x_i, 0…]` and wheel `e_w`
+    /// adds `k (e_b − e_w)(e_b − e_w)ᵀ`; a tyre adds `k_t e_w e_wᵀ` and
+    /// `k_t e_w` to the road input; an axle without a wheel adds `k e_b e_bᵀ`
+    /// and `k e_b` to the road input (same for the dampers).
+    pub fn matrices(&self) -> Matrices {
+        let n = self.dof_count();
+        let mut m = DMatrix::zeros(n, n);
+        for (j, v) in self.mass_diagonal().iter().take(n).enumerate() {
+            m[(j, j)] = *v;
+        }
+        let mut k = DMatrix::zeros(n, n);
+        let mut c = DMatrix::zeros(n, n);
+        let mut k_road = DMatrix::zeros(n, 2);
+        let mut c_road = DMatrix::zeros(n, 2);
+        for (i, axle) in self.axles.iter().enumerate() {
+            let mut e = DVector::zeros(n);
+            e[0] = 1.0;
+            e[1] = axle.x_m;
+            let (ks, cs) = (axle.spring_n_m, axle.damper.linear_n_s_m());
+            match (self.wheel_dof(i), &axle.tyre) {
+                (Some(w), Some(t)) => {
+                    e[w] = -1.0; // e_b − e_w
+                    let outer = &e * e.transpose();
+                    k += &outer * ks;
+                    c += &outer * cs;
+                    k[(w, w)] += t.rate_n_m;
+                    c[(w, w)] += t.damping_n_s_m;
+                    k_road[(w, i)] += t.rate_n_m;
+                    c_road[(w, i)] += t.damping_n_s_m;
+                }
+                _ => {
+                    let outer = &e * e.transpose();
+                    k += &outer * ks;
+                    c += &outer * cs;
+                    for r in 0..n {
+                        k_road[(r, i)] += ks * e[r];
+                        c_road[(r, i)] += cs * e[r];
+                    }
+                }
+            }
+        }
+        Matrices {
+            m,
+            c,
+            k,
+            k_road,
+            c_road,
+        }
+    }
+
+    /// Generalised force of a vertical force on the body at `x_m`: heave 1,
+    /// pitch `x_m` (virtual work of `F` on `δz + x·δθ`).
+    pub fn body_force_input(&self, x_m: f64) -> DVector<f64> {
+        let mut f = DVector::zeros(self.dof_count());
+        f[0] = 1.0;
+        f[1] = x_m;
+        f
+    }
+
+    /// The first-order form with a body force applied at `force_x_m`.
+    pub fn state_space(&self, force_x_m: f64) -> StateSpace {
+        let n = self.dof_count();
+        let mats = self.matrices();
+        let minv = DMatrix::from_diagonal(&mats.m.diagonal().map(|v| 1.0 / v));
+        let mut a = DMatrix::zeros(2 * n, 2 * n);
+        a.view_mut((0, n), (n, n)).fill_with_identity();
+        a.view_mut((n, 0), (n, n)).copy_from(&(-&minv * &mats.k));
+        a.view_mut((n, n), (n, n)).copy_from(&(-&minv * &mats.c));
+        let mut b = DMatrix::zeros(2 * n, 5);
+        b.view_mut((n, 0), (n, 2)).copy_from(&(&minv * &mats.k_road));
+        b.view_mut((n, 2), (n, 2)).copy_from(&(&minv * &mats.c_road));
+        b.view_mut((n, 4), (n, 1))
+            .copy_from(&(&minv * self.body_force_input(force_x_m)));
+        StateSpace { a, b }
+    }
+
+    /// Element forces at state `(q, q̇)` on `road`, and the accelerations
+    /// `q̈` they cause together with a body force `force_n` at `force_x_m`.
+    /// This is the full (nonlinear) model: asymmetric dampers, stops, and
+    /// contact forces that cannot pull (lift-off). Unused entries of the
+    /// fixed-size arrays are ignored and `q̈` is zero there.
+    #[inline]
+    pub fn evaluate(
+        &self,
+        q: &[f64; MAX_DOF],
+        qd: &[f64; MAX_DOF],
+        road: &RoadState,
+        force_n: f64,
+        force_x_m: f64,
+        qdd: &mut [f64; MAX_DOF],
+    ) -> ElementState {
+        let static_s = self.static_suspension_n();
+        let static_c = self.static_contact_n();
+        let mass = self.mass_diagonal();
+        let mut out = ElementState::default();
+        let mut body_force = force_n;
+        let mut body_moment = force_n * force_x_m;
+        *qdd = [0.0; MAX_DOF];
+        for (i, axle) in self.axles.iter().enumerate() {
+            let zb = q[0] + axle.x_m * q[1];
+            let vb = qd[0] + axle.x_m * qd[1];
+            let wheel = self.wheel_dof(i);
+            let (zl, vl) = match wheel {
+                Some(w) => (q[w], qd[w]),
+                None => (road.elevation_m[i], road.rate_m_s[i]),
+            };
+            let travel = zl - zb;
+            let rate = vl - vb;
+            let mut fs = axle.spring_n_m * travel + axle.damper.force_n(rate);
+            if let Some(s) = &axle.stops {
+                fs += s.force_n(travel);
+            }
+            let mut contact = true;
+            match (wheel, &axle.tyre) {
+                (Some(w), Some(t)) => {
+                    let mut ft = t.rate_n_m * (road.elevation_m[i] - q[w])
+                        + t.damping_n_s_m * (road.rate_m_s[i] - qd[w]);
+                    // A tyre cannot pull on the road: total force ≥ 0.
+                    if ft + static_c[i] < 0.0 {
+                        ft = -static_c[i];
+                        contact = false;
+                    }
+                    qdd[w] = (ft - fs) / mass[w];
+                    out.contact_n[i] = ft;
+                }
+                _ => {
+                    // Without a wheel the suspension itself rests on the road.
+                    if fs + static_s[i] < 0.0 {
+                        fs = -static_s[i];
+                        contact = false;
+                    }
+                    out.contact_n[i] = fs;
+                }
+            }
+            out.travel_m[i] = travel;
+            out.travel_rate_m_s[i] = rate;
+            out.suspension_n[i] = fs;
+            out.in_contact[i] = contact;
+            body_force += fs;
+            body_moment += axle.x_m * fs;
+        }
+        qdd[0] = body_force / mass[0];
+        qdd[1] = body_moment / mass[1];
+        out
+    }
+}
+
+#[cfg(test)]
+mod tests;
