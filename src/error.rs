@@ -15,6 +15,9 @@ pub enum Error {
     /// A road profile could not be read, generated or classified.
     #[error(transparent)]
     Profile(#[from] crate::road::ProfileError),
+    /// A run could not be completed.
+    #[error(transparent)]
+    Solve(#[from] crate::solve::SolveError),
     /// A result could not be written.
     #[error(transparent)]
     Export(#[from] crate::report::ExportError),
@@ -32,6 +35,7 @@ impl Error {
         match self {
             Error::Vehicle(e) => e.exit_status(),
             Error::Profile(e) => e.exit_status(),
+            Error::Solve(e) => e.exit_status(),
             Error::Export(_) => 1,
             Error::Comfort(e) => e.exit_status(),
             Error::Usage(_) => 2,

@@ -28,6 +28,7 @@
 pub mod comfort;
 pub mod error;
 pub mod report;
+pub mod solve;
 pub mod road;
 pub mod stats;
 pub mod vehicle;

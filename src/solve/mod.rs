@@ -1,0 +1,418 @@
+//! Time-domain runs of a [`Vehicle`] over a road at constant speed.
+//!
+//! Two solvers share one model and one output grid:
+//! - **adaptive**: Dormand–Prince 5(4) from `ode_solvers` on the full
+//!   nonlinear element model ([`Vehicle::evaluate`]), with dense output onto
+//!   the grid. Needed for asymmetric dampers, stops and tyre lift-off.
+//! - **exact**: for linear vehicles, the state-space model discretised once
+//!   per run (matrix exponential with a first-order hold on the inputs,
+//!   Franklin, Powell & Workman, *Digital Control of Dynamic Systems*,
+//!   3rd ed., §6.3), then one matrix–vector update per output sample.
+//!
+//! The choice is made first, as a plain [`Plan`] value ([`plan`]), and run
+//! second ([`run`]). Results stream out sample by sample to a caller's
+//! sink, so memory stays bounded however long the road.
+//!
+//! # Road input
+//! The front wheel is at `x = x₀ + v·t` (x₀ the profile's first distance),
+//! the rear wheel at `x − (a + b)`. The rear wheel sees the first sample
+//! until it reaches the profile start. Elevations are taken relative to the
+//! first sample (static equilibrium there), so the run starts at rest. A run
+//! lasts until the front wheel reaches the last sample.
+
+mod adaptive;
+mod exact;
+
+use thiserror::Error;
+
+use crate::road::Profile;
+use crate::vehicle::{AXLE_NAMES, ElementState, MAX_DOF, RoadState, Vehicle};
+
+/// Default output rate, Hz: 1 kHz resolves wheel hop (10–15 Hz) and the
+/// ISO 2631-1 weightings up to their 100 Hz band limit.
+pub const DEFAULT_OUTPUT_RATE_HZ: f64 = 1000.0;
+/// Default relative tolerance of the adaptive solver.
+pub const DEFAULT_RTOL: f64 = 1e-7;
+/// Default absolute tolerance of the adaptive solver (states in m, rad, m/s).
+pub const DEFAULT_ATOL: f64 = 1e-9;
+
+/// A sinusoidal vertical force on the body, `F(t) = f0·sin(2π f t)`, e.g.
+/// an engine imbalance.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct HarmonicForce {
+    /// Amplitude, N (positive up).
+    pub amplitude_n: f64,
+    /// Frequency, Hz.
+    pub frequency_hz: f64,
+    /// Point of application ahead of the CG, m.
+    pub x_m: f64,
+}
+
+/// What drives the vehicle: a road at a speed, and optionally a body force.
+#[derive(Debug, Clone, Copy)]
+pub struct Excitation<'a> {
+    /// The road under both axles.
+    pub profile: &'a Profile,
+    /// Forward speed, m/s (> 0).
+    pub speed_m_s: f64,
+    /// Distance from the front to the rear axle, m.
+    pub wheelbase_m: f64,
+    /// Optional harmonic body force.
+    pub force: Option<HarmonicForce>,
+}
+
+/// Inputs at one instant.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct Inputs {
+    /// Front axle position along the profile, m.
+    pub distance_m: f64,
+    /// Road under each axle.
+    pub road: RoadState,
+    /// Body force, N.
+    pub force_n: f64,
+}
+
+impl Excitation<'_> {
+    /// `(last distance − first distance) / speed`, s (the contract's `duration_s`).
+    pub fn duration_s(&self) -> f64 {
+        self.profile.length_m() / self.speed_m_s
+    }
+
+    /// Point of application of the body force (0 when there is none).
+    pub fn force_x_m(&self) -> f64 {
+        self.force.map_or(0.0, |f| f.x_m)
+    }
+
+    /// Inputs at time `t_s`.
+    #[inline]
+    pub fn at(&self, t_s: f64) -> Inputs {
+        let p = self.profile;
+        let z0 = p.elevation_m[0];
+        let x_front = p.start_m + self.speed_m_s * t_s;
+        let x_rear = x_front - self.wheelbase_m;
+        let road = RoadState {
+            elevation_m: [p.elevation_at(x_front) - z0, p.elevation_at(x_rear) - z0],
+            rate_m_s: [
+                p.slope_at(x_front) * self.speed_m_s,
+                p.slope_at(x_rear) * self.speed_m_s,
+            ],
+        };
+        let force_n = self.force.map_or(0.0, |f| {
+            f.amplitude_n * (2.0 * std::f64::consts::PI * f.frequency_hz * t_s).sin()
+        });
+        Inputs {
+            distance_m: x_front,
+            road,
+            force_n,
+        }
+    }
+}
+
+/// Which solver the user asked for.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum SolverChoice {
+    /// Exact for linear vehicles (falling back to adaptive if a tyre leaves
+    /// the road), adaptive otherwise.
+    #[default]
+    Auto,
+    /// Always the exact discrete path (refused for nonlinear vehicles).
+    Exact,
+    /// Always the adaptive Dormand–Prince path.
+    Adaptive,
+}
+
+impl std::str::FromStr for SolverChoice {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Self, String> {
+        match s.to_ascii_lowercase().as_str() {
+            "auto" => Ok(SolverChoice::Auto),
+            "exact" => Ok(SolverChoice::Exact),
+            "adaptive" => Ok(SolverChoice::Adaptive),
+            _ => Err(format!("unknown solver {s:?}: use auto, exact or adaptive")),
+        }
+    }
+}
+
+/// The solver that actually runs.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum SolverKind {
+    /// Discrete state transition (linear vehicles).
+    Exact,
+    /// Dormand–Prince 5(4) with error control.
+    Adaptive,
+}
+
+/// User-settable solver options.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SolverSettings {
+    /// Which solver.
+    pub choice: SolverChoice,
+    /// Output grid rate, Hz.
+    pub output_rate_hz: f64,
+    /// Relative tolerance (adaptive).
+    pub rtol: f64,
+    /// Absolute tolerance (adaptive).
+    pub atol: f64,
+}
+
+impl Default for SolverSettings {
+    fn default() -> Self {
+        SolverSettings {
+            choice: SolverChoice::Auto,
+            output_rate_hz: DEFAULT_OUTPUT_RATE_HZ,
+            rtol: DEFAULT_RTOL,
+            atol: DEFAULT_ATOL,
+        }
+    }
+}
+
+/// A decided run: which solver, on which grid, with which tolerances.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Plan {
+    /// The solver to run first.
+    pub kind: SolverKind,
+    /// Whether an exact run that finds a tyre off the road is re-run adaptively.
+    pub fallback_to_adaptive: bool,
+    /// Output grid rate, Hz.
+    pub output_rate_hz: f64,
+    /// Relative tolerance (adaptive).
+    pub rtol: f64,
+    /// Absolute tolerance (adaptive).
+    pub atol: f64,
+    /// Largest adaptive step, s: one road sample interval at this speed,
+    /// so no road feature is stepped over unseen.
+    pub max_step_s: f64,
+}
+
+/// Decides how to run `vehicle` over `excitation`.
+pub fn plan(
+    vehicle: &Vehicle,
+    excitation: &Excitation<'_>,
+    settings: &SolverSettings,
+) -> Result<Plan, SolveError> {
+    let bad = |m: String| Err(SolveError::Settings(m));
+    if !(settings.output_rate_hz.is_finite() && settings.output_rate_hz > 0.0) {
+        return bad(format!("--rate must be positive, got {}", settings.output_rate_hz));
+    }
+    if !(settings.rtol > 0.0 && settings.rtol < 1.0) {
+        return bad(format!("--rtol must be in (0, 1), got {}", settings.rtol));
+    }
+    if !(settings.atol > 0.0 && settings.atol.is_finite()) {
+        return bad(format!("--atol must be positive, got {}", settings.atol));
+    }
+    if !(excitation.speed_m_s.is_finite() && excitation.speed_m_s > 0.0) {
+        return bad(format!("--speed must be positive, got {} m/s", excitation.speed_m_s));
+    }
+    let (kind, fallback) = match settings.choice {
+        SolverChoice::Auto if vehicle.is_linear() => (SolverKind::Exact, true),
+        SolverChoice::Auto | SolverChoice::Adaptive => (SolverKind::Adaptive, false),
+        SolverChoice::Exact if vehicle.is_linear() => (SolverKind::Exact, false),
+        SolverChoice::Exact => {
+            return bad(
+                "--solver exact needs a linear vehicle (no damping_bump/damping_rebound, no stops); use adaptive or auto"
+                    .to_string(),
+            );
+        }
+    };
+    Ok(Plan {
+        kind,
+        fallback_to_adaptive: fallback,
+        output_rate_hz: settings.output_rate_hz,
+        rtol: settings.rtol,
+        atol: settings.atol,
+        max_step_s: excitation.profile.spacing_m / excitation.speed_m_s,
+    })
+}
+
+/// One output sample.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct Sample {
+    /// Time, s.
+    pub time_s: f64,
+    /// Inputs at this time (front axle distance, road, body force).
+    pub inputs: Inputs,
+    /// Generalised coordinates `q` (heave m, pitch rad, wheels m).
+    pub q: [f64; MAX_DOF],
+    /// Their rates.
+    pub qd: [f64; MAX_DOF],
+    /// Their accelerations (dynamic).
+    pub qdd: [f64; MAX_DOF],
+    /// Element forces and travel.
+    pub elements: ElementState,
+}
+
+impl Sample {
+    /// Builds the sample for state `(q, q̇)` at `t_s`.
+    #[inline]
+    pub fn at(
+        vehicle: &Vehicle,
+        excitation: &Excitation<'_>,
+        time_s: f64,
+        q: [f64; MAX_DOF],
+        qd: [f64; MAX_DOF],
+    ) -> Sample {
+        let inputs = excitation.at(time_s);
+        let mut qdd = [0.0; MAX_DOF];
+        let elements = vehicle.evaluate(
+            &q,
+            &qd,
+            &inputs.road,
+            inputs.force_n,
+            excitation.force_x_m(),
+            &mut qdd,
+        );
+        Sample {
+            time_s,
+            inputs,
+            q,
+            qd,
+            qdd,
+            elements,
+        }
+    }
+
+    /// Vertical acceleration of a body point at `x_m`: `z̈ + x·θ̈`, m/s².
+    #[inline]
+    pub fn body_point_accel_m_s2(&self, x_m: f64) -> f64 {
+        self.qdd[0] + x_m * self.qdd[1]
+    }
+}
+
+/// What a run did.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct RunInfo {
+    /// The solver whose samples were delivered.
+    pub solver: SolverKind,
+    /// Samples delivered.
+    pub samples: usize,
+    /// Output rate, Hz.
+    pub output_rate_hz: f64,
+    /// Accepted adaptive steps (0 for exact).
+    pub steps_accepted: u64,
+    /// Rejected adaptive steps (0 for exact).
+    pub steps_rejected: u64,
+    /// Why the exact path handed over to the adaptive one, if it did.
+    pub fallback: Option<String>,
+}
+
+/// A run could not be completed.
+#[derive(Debug, Error)]
+pub enum SolveError {
+    /// A solver option is out of range.
+    #[error("{0}")]
+    Settings(String),
+    /// The state became NaN or infinite.
+    #[error("the run became unstable at t = {time_s:.4} s (a state is not finite); {hint}")]
+    NonFinite {
+        /// When it was found.
+        time_s: f64,
+        /// The likely cause.
+        hint: String,
+    },
+    /// The adaptive solver could not keep its tolerance.
+    #[error("the adaptive solver gave up at t = {time_s:.4} s ({what}); {hint}")]
+    Integration {
+        /// Where it stopped.
+        time_s: f64,
+        /// The solver's own account.
+        what: String,
+        /// The likely cause.
+        hint: String,
+    },
+    /// A tyre left the road during an exact (linear) run.
+    #[error(
+        "the {axle} tyre left the road at t = {time_s:.4} s; the exact solver holds only while both tyres touch the road: use --solver adaptive (or auto)"
+    )]
+    LiftOff {
+        /// Which axle.
+        axle: &'static str,
+        /// When.
+        time_s: f64,
+    },
+    /// The consumer of the samples failed (e.g. a history file write).
+    #[error(transparent)]
+    Output(#[from] crate::report::ExportError),
+}
+
+impl SolveError {
+    /// Exit status: 2 for bad settings, 1 for a run that failed.
+    pub fn exit_status(&self) -> u8 {
+        match self {
+            SolveError::Settings(_) => 2,
+            _ => 1,
+        }
+    }
+}
+
+/// Receives samples in time order. Returning an error stops the run.
+pub trait SampleSink {
+    /// Called once before a run (and again before a fallback re-run, which
+    /// must discard everything received so far).
+    fn start(&mut self, solver: SolverKind) -> Result<(), SolveError>;
+    /// One sample.
+    fn accept(&mut self, sample: &Sample) -> Result<(), SolveError>;
+}
+
+/// Number of output samples: `t_i = i / rate` for `i = 0..=N` with
+/// `t_N ≤ duration` (a sample landing on the end within rounding is kept).
+pub fn sample_count(duration_s: f64, output_rate_hz: f64) -> usize {
+    (duration_s * output_rate_hz * (1.0 + 1e-12)).floor() as usize + 1
+}
+
+/// Runs the plan, streaming samples into `sink`.
+pub fn run(
+    vehicle: &Vehicle,
+    excitation: &Excitation<'_>,
+    plan: &Plan,
+    sink: &mut dyn SampleSink,
+) -> Result<RunInfo, SolveError> {
+    match plan.kind {
+        SolverKind::Adaptive => {
+            sink.start(SolverKind::Adaptive)?;
+            adaptive::run(vehicle, excitation, plan, sink)
+        }
+        SolverKind::Exact => {
+            sink.start(SolverKind::Exact)?;
+            match exact::run(vehicle, excitation, plan, sink) {
+                Err(SolveError::LiftOff { axle, time_s }) if plan.fallback_to_adaptive => {
+                    sink.start(SolverKind::Adaptive)?;
+                    let mut info = adaptive::run(vehicle, excitation, plan, sink)?;
+                    info.fallback = Some(format!(
+                        "the {axle} tyre left the road at t = {time_s:.3} s, so the run was repeated with the adaptive solver"
+                    ));
+                    Ok(info)
+                }
+                other => other,
+            }
+        }
+    }
+}
+
+/// A guess at why a run went unstable, from the vehicle's rates.
+pub(crate) fn instability_hint(vehicle: &Vehicle) -> String {
+    for (i, axle) in vehicle.axles.iter().enumerate() {
+        if let Some(s) = &axle.stops {
+            let reference = axle.tyre.map_or(axle.spring_n_m, |t| t.rate_n_m);
+            if s.rate_n_m > 100.0 * reference {
+                return format!(
+                    "likely cause: {}.stop_rate ({:.3e} N/m) is far stiffer than the {} ({:.3e} N/m); soften the stop or tighten --rtol",
+                    AXLE_NAMES[i],
+                    s.rate_n_m,
+                    if axle.tyre.is_some() { "tyre" } else { "spring" },
+                    reference
+                );
+            }
+        }
+    }
+    "likely cause: extreme rates or masses in the vehicle file, or a road step far too sharp for the speed; check the vehicle and tighten --rtol".to_string()
+}
+
+/// Checks a state for NaN or infinity.
+#[inline]
+pub(crate) fn all_finite(values: &[f64]) -> bool {
+    values.iter().all(|v| v.is_finite())
+}
+
+#[cfg(test)]
+mod tests;
