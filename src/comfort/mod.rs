@@ -2,6 +2,21 @@
 //! weightings (Annex A), the basic evaluation (aw), the additional methods
 //! (running r.m.s./MTVV, VDV), crest factor, and the comfort and health
 //! guidance of Annexes B and C with the EU Directive 2002/44/EC values.
+//!
+//! Units: accelerations in m/s², VDV in m/s^1.75, times in s, frequencies in
+//! Hz. A channel is evaluated by [`Meter`] (streaming, bounded memory) after
+//! the digital [`WeightingFilter`]; [`guidance`] turns the measures into the
+//! Annex B/C and Directive statements, always with [`HEALTH_CAUTION`].
+
+mod guidance;
+mod measures;
+mod record;
+mod weighting;
+
+pub use guidance::{COMFORT_BANDS, CautionZone, ComfortBand, Guidance, HEALTH_CAUTION, guidance};
+pub use measures::{Measures, Meter};
+pub use record::{Record, read_record, read_record_from};
+pub use weighting::{Weighting, WeightingFilter};
 
 use std::path::PathBuf;
 
@@ -37,11 +52,7 @@ impl ComfortError {
     /// Exit status for the command line: 2 for bad input, 1 for I/O trouble.
     pub fn exit_status(&self) -> u8 {
         match self {
-            ComfortError::Read { source, .. }
-                if source.kind() != std::io::ErrorKind::NotFound =>
-            {
-                1
-            }
+            ComfortError::Read { source, .. } if source.kind() != std::io::ErrorKind::NotFound => 1,
             _ => 2,
         }
     }

@@ -1,0 +1,327 @@
+//! What the measures of one channel suggest: the comfort reactions of
+//! ISO 2631-1 Annex C, the health guidance caution zone of Annex B
+//! (equations B.1 and B.2) for a daily exposure duration, and the daily
+//! exposure A(8) and VDV against the action and limit values of EU Directive
+//! 2002/44/EC. Always printed with [`HEALTH_CAUTION`].
+//!
+//! The health statements apply to seated persons with Wk (z, k = 1) or
+//! Wd (x, y, k = 1.4) (ISO 2631-1 7.2.3; EU Directive 2002/44/EC Annex A);
+//! for the other weightings they are computed with k = 1 and flagged as
+//! outside their scope.
+
+use serde::Serialize;
+
+use super::{Measures, Weighting};
+
+/// The caution printed beside every health-related result.
+pub const HEALTH_CAUTION: &str = "These are estimates from a recorded or simulated signal, \
+not measurements made to the standard. ISO 2631-1, local regulation and qualified \
+occupational-health practice govern any decision about exposure.";
+
+/// Reference daily exposure, s (8 h; Directive 2002/44/EC A(8)).
+pub const REFERENCE_DAY_S: f64 = 8.0 * 3600.0;
+/// Directive 2002/44/EC Art. 3(2)(a): daily exposure limit value A(8), m/s².
+pub const A8_LIMIT_M_S2: f64 = 1.15;
+/// Directive 2002/44/EC Art. 3(2)(b): daily exposure action value A(8), m/s².
+pub const A8_ACTION_M_S2: f64 = 0.5;
+/// Directive 2002/44/EC Art. 3(2)(a): limit value as VDV, m/s^1.75.
+pub const VDV_LIMIT_M_S175: f64 = 21.0;
+/// Directive 2002/44/EC Art. 3(2)(b): action value as VDV, m/s^1.75.
+pub const VDV_ACTION_M_S175: f64 = 9.1;
+/// Lower bound of the Annex B caution zone at 8 h, m/s² (from memory: the
+/// zone "for 4–8 h is roughly 0.45–0.9 m/s²"; sources differ slightly).
+pub const CAUTION_LOWER_8H_M_S2: f64 = 0.45;
+/// Upper bound of the Annex B caution zone at 8 h, m/s² (from memory, as above).
+pub const CAUTION_UPPER_8H_M_S2: f64 = 0.9;
+
+/// One comfort reaction band of ISO 2631-1 Annex C, `[lower, upper)` in m/s².
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct ComfortBand {
+    /// Lower edge, m/s² (inclusive).
+    pub lower_m_s2: f64,
+    /// Upper edge, m/s² (exclusive; infinite for the last band).
+    pub upper_m_s2: f64,
+    /// The reaction.
+    pub label: &'static str,
+}
+
+/// ISO 2631-1 Annex C (C.2.3): the bands overlap, so a value may fall in two.
+pub const COMFORT_BANDS: [ComfortBand; 6] = [
+    ComfortBand {
+        lower_m_s2: 0.0,
+        upper_m_s2: 0.315,
+        label: "not uncomfortable",
+    },
+    ComfortBand {
+        lower_m_s2: 0.315,
+        upper_m_s2: 0.63,
+        label: "a little uncomfortable",
+    },
+    ComfortBand {
+        lower_m_s2: 0.5,
+        upper_m_s2: 1.0,
+        label: "fairly uncomfortable",
+    },
+    ComfortBand {
+        lower_m_s2: 0.8,
+        upper_m_s2: 1.6,
+        label: "uncomfortable",
+    },
+    ComfortBand {
+        lower_m_s2: 1.25,
+        upper_m_s2: 2.5,
+        label: "very uncomfortable",
+    },
+    ComfortBand {
+        lower_m_s2: 2.0,
+        upper_m_s2: f64::INFINITY,
+        label: "extremely uncomfortable",
+    },
+];
+
+/// Where a value stands against the caution zone of one Annex B equation.
+#[derive(Debug, Clone, Serialize)]
+pub struct CautionZone {
+    /// "B.1" (aw·T^½ constant) or "B.2" (aw·T^¼ constant).
+    pub equation: &'static str,
+    /// Zone lower bound at the exposure duration, m/s².
+    pub lower_m_s2: f64,
+    /// Zone upper bound at the exposure duration, m/s².
+    pub upper_m_s2: f64,
+    /// "below", "within" or "above" the zone, for k·aw.
+    pub position: &'static str,
+    /// Daily exposure at which k·aw reaches the lower bound, s (None for aw = 0).
+    pub time_to_lower_s: Option<f64>,
+    /// Daily exposure at which k·aw reaches the upper bound, s (None for aw = 0).
+    pub time_to_upper_s: Option<f64>,
+}
+
+/// The guidance for one channel at one daily exposure duration.
+#[derive(Debug, Clone, Serialize)]
+pub struct Guidance {
+    /// Daily exposure duration assumed, s.
+    pub exposure_s: f64,
+    /// Every Annex C band holding aw (they overlap), mildest first.
+    pub comfort_reactions: Vec<&'static str>,
+    /// The same joined into one phrase, e.g. "a little uncomfortable / fairly uncomfortable".
+    pub comfort_label: String,
+    /// True for Wk and Wd, the weightings Annex B and the Directive address.
+    pub health_applicable: bool,
+    /// Multiplying factor k applied to aw and VDV for health (1.4 for Wd, else 1).
+    pub health_k: f64,
+    /// Annex B caution zone by equation B.1.
+    pub caution_zone_b1: CautionZone,
+    /// Annex B caution zone by equation B.2.
+    pub caution_zone_b2: CautionZone,
+    /// Daily exposure A(8) = k·aw·√(T/8 h), m/s².
+    pub a8_m_s2: f64,
+    /// Directive action value for A(8), m/s².
+    pub a8_action_m_s2: f64,
+    /// Directive limit value for A(8), m/s².
+    pub a8_limit_m_s2: f64,
+    /// "below the action value", "above the action value" or "above the limit value".
+    pub a8_status: &'static str,
+    /// Daily VDV = k·VDV·(T/T_record)^¼, m/s^1.75.
+    pub vdv_exposure_m_s175: f64,
+    /// Directive action value as VDV, m/s^1.75.
+    pub vdv_action_m_s175: f64,
+    /// Directive limit value as VDV, m/s^1.75.
+    pub vdv_limit_m_s175: f64,
+    /// Status of the daily VDV, worded as for A(8).
+    pub vdv_status: &'static str,
+    /// [`HEALTH_CAUTION`].
+    pub caution: &'static str,
+}
+
+/// The Annex C bands that hold `aw_m_s2`.
+pub fn comfort_reactions(aw_m_s2: f64) -> Vec<&'static str> {
+    COMFORT_BANDS
+        .iter()
+        .filter(|b| aw_m_s2 >= b.lower_m_s2 && aw_m_s2 < b.upper_m_s2)
+        .map(|b| b.label)
+        .collect()
+}
+
+fn status(value: f64, action: f64, limit: f64) -> &'static str {
+    if value > limit {
+        "above the limit value"
+    } else if value > action {
+        "above the action value"
+    } else {
+        "below the action value"
+    }
+}
+
+/// Annex B zone for `aw` (already multiplied by k) at `exposure_s`, with
+/// bounds scaled from 8 h by `(8 h / T)^p`: p = ½ for B.1, ¼ for B.2.
+fn zone(equation: &'static str, p: f64, aw: f64, exposure_s: f64) -> CautionZone {
+    let scale = (REFERENCE_DAY_S / exposure_s).powf(p);
+    let (lower, upper) = (CAUTION_LOWER_8H_M_S2 * scale, CAUTION_UPPER_8H_M_S2 * scale);
+    let position = if aw < lower {
+        "below"
+    } else if aw > upper {
+        "above"
+    } else {
+        "within"
+    };
+    // aw·T^p = bound₈·(8 h)^p  ⇒  T = 8 h·(bound₈/aw)^(1/p).
+    let time = |bound: f64| (aw > 0.0).then(|| REFERENCE_DAY_S * (bound / aw).powf(1.0 / p));
+    CautionZone {
+        equation,
+        lower_m_s2: lower,
+        upper_m_s2: upper,
+        position,
+        time_to_lower_s: time(CAUTION_LOWER_8H_M_S2),
+        time_to_upper_s: time(CAUTION_UPPER_8H_M_S2),
+    }
+}
+
+/// The guidance for `m` at a daily exposure of `exposure_s` seconds (> 0).
+pub fn guidance(m: &Measures, exposure_s: f64) -> Guidance {
+    let w = m.weighting.parse::<Weighting>().ok();
+    let health_applicable = matches!(w, Some(Weighting::Wk | Weighting::Wd));
+    // ISO 2631-1 7.2.3: kx = ky = 1.4 (Wd), kz = 1 (Wk), seated.
+    let health_k = if w == Some(Weighting::Wd) { 1.4 } else { 1.0 };
+    let aw_k = health_k * m.aw;
+    let reactions = comfort_reactions(m.aw);
+    let a8 = aw_k * (exposure_s / REFERENCE_DAY_S).sqrt();
+    // Fourth-power dose: the record's VDV extended to the exposure duration.
+    let vdv_exposure = if m.duration_s > 0.0 {
+        health_k * m.vdv * (exposure_s / m.duration_s).powf(0.25)
+    } else {
+        0.0
+    };
+    Guidance {
+        exposure_s,
+        comfort_label: reactions.join(" / "),
+        comfort_reactions: reactions,
+        health_applicable,
+        health_k,
+        caution_zone_b1: zone("B.1", 0.5, aw_k, exposure_s),
+        caution_zone_b2: zone("B.2", 0.25, aw_k, exposure_s),
+        a8_m_s2: a8,
+        a8_action_m_s2: A8_ACTION_M_S2,
+        a8_limit_m_s2: A8_LIMIT_M_S2,
+        a8_status: status(a8, A8_ACTION_M_S2, A8_LIMIT_M_S2),
+        vdv_exposure_m_s175: vdv_exposure,
+        vdv_action_m_s175: VDV_ACTION_M_S175,
+        vdv_limit_m_s175: VDV_LIMIT_M_S175,
+        vdv_status: status(vdv_exposure, VDV_ACTION_M_S175, VDV_LIMIT_M_S175),
+        caution: HEALTH_CAUTION,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn measures(weighting: &str, aw: f64, vdv: f64, duration_s: f64) -> Measures {
+        Measures {
+            weighting: weighting.into(),
+            accel_rms: aw,
+            aw,
+            vdv,
+            mtvv: aw,
+            crest_factor: 1.0,
+            peak_weighted: aw,
+            duration_s,
+            mtvv_ratio: 1.0,
+            vdv_ratio: 1.0,
+            additional_methods_advised: false,
+        }
+    }
+
+    #[test]
+    fn overlapping_annex_c_bands_are_all_reported() {
+        // ISO 2631-1 Annex C (C.2.3) bands, /work/shared/standards.md.
+        assert_eq!(comfort_reactions(0.2), ["not uncomfortable"]);
+        assert_eq!(
+            comfort_reactions(0.55),
+            ["a little uncomfortable", "fairly uncomfortable"]
+        );
+        assert_eq!(comfort_reactions(0.7), ["fairly uncomfortable"]);
+        assert_eq!(
+            comfort_reactions(0.9),
+            ["fairly uncomfortable", "uncomfortable"]
+        );
+        assert_eq!(
+            comfort_reactions(2.2),
+            ["very uncomfortable", "extremely uncomfortable"]
+        );
+        assert_eq!(comfort_reactions(5.0), ["extremely uncomfortable"]);
+        // Every value lands in at least one band.
+        for i in 0..400 {
+            assert!(!comfort_reactions(i as f64 * 0.01).is_empty());
+        }
+    }
+
+    #[test]
+    fn a8_scales_with_the_square_root_of_time_and_k_for_wd() {
+        // EU Directive 2002/44/EC Annex A.1: A(8) = k·aw·√(T/T0), T0 = 8 h,
+        // k = 1.4 for x, y (Wd) and 1 for z (Wk).
+        let g = guidance(&measures("Wk", 0.8, 10.0, 3600.0), 2.0 * 3600.0);
+        assert!((g.a8_m_s2 - 0.8 * 0.5).abs() < 1e-12);
+        assert_eq!(g.a8_status, "below the action value");
+        let g = guidance(&measures("Wd", 0.8, 10.0, 3600.0), 8.0 * 3600.0);
+        assert!((g.a8_m_s2 - 1.12).abs() < 1e-12);
+        assert_eq!(g.a8_status, "above the action value");
+        assert!(g.health_applicable);
+        let g = guidance(&measures("Wk", 1.2, 10.0, 3600.0), 8.0 * 3600.0);
+        assert_eq!(g.a8_status, "above the limit value");
+        assert!(!guidance(&measures("Wf", 1.2, 1.0, 10.0), 3600.0).health_applicable);
+    }
+
+    #[test]
+    fn daily_vdv_extends_the_dose_by_the_fourth_root_of_time() {
+        // VDV is a fourth-power dose: 16 repeats of a record double it
+        // (ISO 2631-1 6.3.2; Directive 2002/44/EC Annex A.1).
+        let g = guidance(&measures("Wk", 0.5, 6.0, 1800.0), 16.0 * 1800.0);
+        assert!((g.vdv_exposure_m_s175 - 12.0).abs() < 1e-9);
+        assert_eq!(g.vdv_status, "above the action value");
+    }
+
+    #[test]
+    fn caution_zone_bounds_follow_equations_b1_and_b2() {
+        // ISO 2631-1 B.1: aw·T^½ constant; B.2: aw·T^¼ constant. The 8 h
+        // anchor is from memory, so only the scaling laws are checked here.
+        let g1 = guidance(&measures("Wk", 0.6, 1.0, 60.0), 2.0 * 3600.0);
+        let g2 = guidance(&measures("Wk", 0.6, 1.0, 60.0), 8.0 * 3600.0);
+        let (a, b) = (&g1.caution_zone_b1, &g2.caution_zone_b1);
+        assert!(
+            (a.lower_m_s2 * 2.0f64.sqrt() * 3600f64.sqrt()
+                - b.lower_m_s2 * (8.0f64 * 3600.0).sqrt())
+            .abs()
+                < 1e-9
+        );
+        assert!((a.upper_m_s2 / b.upper_m_s2 - 2.0).abs() < 1e-12);
+        let (a, b) = (&g1.caution_zone_b2, &g2.caution_zone_b2);
+        assert!((a.upper_m_s2 / b.upper_m_s2 - 4f64.powf(0.25)).abs() < 1e-12);
+        // The time at which aw reaches a bound puts aw exactly on that bound.
+        for z in [&g2.caution_zone_b1, &g2.caution_zone_b2] {
+            let p = if z.equation == "B.1" { 0.5 } else { 0.25 };
+            let t = z.time_to_upper_s.unwrap();
+            let bound_at_t = CAUTION_UPPER_8H_M_S2 * (REFERENCE_DAY_S / t).powf(p);
+            assert!((bound_at_t - 0.6).abs() < 1e-12);
+        }
+        assert_eq!(g2.caution_zone_b1.position, "within");
+        assert_eq!(
+            guidance(&measures("Wk", 0.1, 1.0, 60.0), 3600.0)
+                .caution_zone_b1
+                .position,
+            "below"
+        );
+        assert!(
+            guidance(&measures("Wk", 0.0, 0.0, 60.0), 3600.0)
+                .caution_zone_b1
+                .time_to_lower_s
+                .is_none()
+        );
+    }
+
+    #[test]
+    fn the_caution_says_estimate_and_names_the_standard() {
+        assert!(HEALTH_CAUTION.contains("estimates"));
+        assert!(HEALTH_CAUTION.contains("ISO 2631-1"));
+        assert!(HEALTH_CAUTION.contains("regulation"));
+    }
+}
