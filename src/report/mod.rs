@@ -33,10 +33,88 @@ pub enum ExportError {
     },
 }
 
-/// Writes `path` atomically: `fill` writes into a temporary file in the same
-/// directory, which is flushed, synced and renamed over `path` only when
-/// `fill` succeeds. On any error the temporary file is removed and an
-/// existing `path` is left untouched.
+/// A file being written: the bytes go to a temporary file beside the
+/// target, which [`AtomicFile::commit`] flushes, syncs and renames over the
+/// target. Dropping it uncommitted deletes the temporary file, leaving any
+/// existing target untouched.
+pub struct AtomicFile {
+    target: PathBuf,
+    writer: io::BufWriter<std::fs::File>,
+    tmp_path: tempfile::TempPath,
+}
+
+impl AtomicFile {
+    /// Starts writing `path`.
+    pub fn create(path: &Path) -> Result<Self, ExportError> {
+        let dir = match path.parent() {
+            Some(p) if !p.as_os_str().is_empty() => p,
+            _ => Path::new("."),
+        };
+        let name = path
+            .file_name()
+            .map(|n| n.to_string_lossy().into_owned())
+            .unwrap_or_else(|| "output".to_string());
+        let tmp = tempfile::Builder::new()
+            .prefix(&format!(".{name}."))
+            .suffix(".partial")
+            .tempfile_in(dir)
+            .map_err(|e| io_error(path, e))?;
+        let (file, tmp_path) = tmp.into_parts();
+        Ok(AtomicFile {
+            target: path.to_path_buf(),
+            writer: io::BufWriter::with_capacity(1 << 16, file),
+            tmp_path,
+        })
+    }
+
+    /// The file the user asked for.
+    pub fn target(&self) -> &Path {
+        &self.target
+    }
+
+    /// Discards everything written so far (for a run that starts over).
+    pub fn rewind(&mut self) -> Result<(), ExportError> {
+        use std::io::Seek;
+        let target = self.target.clone();
+        self.writer.flush().map_err(|e| io_error(&target, e))?;
+        let f = self.writer.get_mut();
+        f.set_len(0).map_err(|e| io_error(&target, e))?;
+        f.seek(io::SeekFrom::Start(0))
+            .map_err(|e| io_error(&target, e))?;
+        Ok(())
+    }
+
+    /// Flushes, syncs and renames the temporary file over the target.
+    pub fn commit(self) -> Result<(), ExportError> {
+        let AtomicFile {
+            target,
+            writer,
+            tmp_path,
+        } = self;
+        let file = writer
+            .into_inner()
+            .map_err(|e| io_error(&target, e.into_error()))?;
+        file.sync_all().map_err(|e| io_error(&target, e))?;
+        drop(file);
+        tmp_path
+            .persist(&target)
+            .map_err(|e| io_error(&target, e.error))?;
+        Ok(())
+    }
+}
+
+impl Write for AtomicFile {
+    fn write(&mut self, buf: &[u8]) -> io::Result<usize> {
+        self.writer.write(buf)
+    }
+    fn flush(&mut self) -> io::Result<()> {
+        self.writer.flush()
+    }
+}
+
+/// Writes `path` atomically: `fill` writes into an [`AtomicFile`], which is
+/// committed only when `fill` succeeds. On any error the temporary file is
+/// removed and an existing `path` is left untouched.
 pub fn write_atomic<E>(
     path: &Path,
     fill: impl FnOnce(&mut dyn Write) -> Result<(), E>,
@@ -44,34 +122,9 @@ pub fn write_atomic<E>(
 where
     E: From<ExportError>,
 {
-    let io_err = |source: io::Error| ExportError::Io {
-        path: path.to_path_buf(),
-        source,
-    };
-    let dir = match path.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p,
-        _ => Path::new("."),
-    };
-    let name = path
-        .file_name()
-        .map(|n| n.to_string_lossy().into_owned())
-        .unwrap_or_else(|| "output".to_string());
-    let tmp = tempfile::Builder::new()
-        .prefix(&format!(".{name}."))
-        .suffix(".partial")
-        .tempfile_in(dir)
-        .map_err(io_err)?;
-    let (file, tmp_path) = tmp.into_parts();
-    let mut writer = io::BufWriter::new(file);
-    // `tmp_path` deletes the file when dropped, so every early return below
-    // removes the partial file.
-    fill(&mut writer)?;
-    let file = writer
-        .into_inner()
-        .map_err(|e| io_err(e.into_error()))?;
-    file.sync_all().map_err(io_err)?;
-    drop(file);
-    tmp_path.persist(path).map_err(|e| io_err(e.error))?;
+    let mut file = AtomicFile::create(path)?;
+    fill(&mut file)?;
+    file.commit()?;
     Ok(())
 }
 

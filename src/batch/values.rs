@@ -1,0 +1,194 @@
+//! Command-line values with units and ranges: speeds (`20`, `72kmh`),
+//! speed ranges (`10:40:5`, `36kmh:108kmh:36kmh`), durations (`8h`,
+//! `30min`, `3600s`) and shard specs (`2/8`). Parsed here once, into SI.
+//!
+//! Range values are computed as `start + i·step` (never by repeated
+//! addition) so they do not drift, and the end is included when it lies on
+//! the grid within rounding.
+
+use thiserror::Error;
+
+/// Largest number of values a range may expand to.
+pub const MAX_RANGE_VALUES: usize = 10_000;
+
+/// A malformed value, with the text that was given.
+#[derive(Debug, Error, PartialEq)]
+#[error("invalid {what} {text:?}: {why}")]
+pub struct ValueError {
+    /// Which kind of value (e.g. "speed").
+    pub what: &'static str,
+    /// What the user typed.
+    pub text: String,
+    /// What was wrong.
+    pub why: String,
+}
+
+fn err(what: &'static str, text: &str, why: impl Into<String>) -> ValueError {
+    ValueError {
+        what,
+        text: text.to_string(),
+        why: why.into(),
+    }
+}
+
+/// Parses a speed: m/s by default, km/h with a `kmh` suffix. Must be > 0.
+pub fn parse_speed_m_s(text: &str) -> Result<f64, ValueError> {
+    let t = text.trim();
+    let (number, factor) = match t.strip_suffix("kmh").or_else(|| t.strip_suffix("km/h")) {
+        Some(n) => (n.trim(), 1.0 / 3.6),
+        None => (t.strip_suffix("m/s").unwrap_or(t).trim(), 1.0),
+    };
+    let v: f64 = number
+        .parse()
+        .map_err(|_| err("speed", text, "expected a number in m/s, or km/h with a kmh suffix (e.g. 20 or 72kmh)"))?;
+    if !(v.is_finite() && v > 0.0) {
+        return Err(err("speed", text, "must be positive and finite"));
+    }
+    Ok(v * factor)
+}
+
+/// Parses `start:end:step` (inclusive) or a comma list of speeds, in m/s.
+pub fn parse_speed_list_m_s(text: &str) -> Result<Vec<f64>, ValueError> {
+    let t = text.trim();
+    if t.contains(':') {
+        let parts: Vec<&str> = t.split(':').collect();
+        if parts.len() != 3 {
+            return Err(err("speed range", text, "expected start:end:step, e.g. 10:40:5 or 36kmh:108kmh:36kmh"));
+        }
+        let start = parse_speed_m_s(parts[0]).map_err(|e| err("speed range", text, e.why))?;
+        let end = parse_speed_m_s(parts[1]).map_err(|e| err("speed range", text, e.why))?;
+        let step = parse_speed_m_s(parts[2]).map_err(|_| err("speed range", text, "the step must be a positive speed"))?;
+        if end < start {
+            return Err(err("speed range", text, "the end is below the start"));
+        }
+        let count = ((end - start) / step * (1.0 + 1e-9) + 1e-9).floor() as usize + 1;
+        if count > MAX_RANGE_VALUES {
+            return Err(err("speed range", text, format!("expands to {count} values; at most {MAX_RANGE_VALUES}")));
+        }
+        Ok((0..count).map(|i| start + i as f64 * step).collect())
+    } else {
+        t.split(',').map(parse_speed_m_s).collect()
+    }
+}
+
+/// Parses a duration: `8h`, `30min`, `90s` or a bare number of seconds.
+pub fn parse_duration_s(text: &str) -> Result<f64, ValueError> {
+    let t = text.trim();
+    let (number, factor) = if let Some(n) = t.strip_suffix("min") {
+        (n, 60.0)
+    } else if let Some(n) = t.strip_suffix('h') {
+        (n, 3600.0)
+    } else if let Some(n) = t.strip_suffix('s') {
+        (n, 1.0)
+    } else {
+        (t, 1.0)
+    };
+    let v: f64 = number
+        .trim()
+        .parse()
+        .map_err(|_| err("duration", text, "expected e.g. 8h, 30min or 3600s"))?;
+    if !(v.is_finite() && v > 0.0) {
+        return Err(err("duration", text, "must be positive and finite"));
+    }
+    Ok(v * factor)
+}
+
+/// A slice of a grid: the `index`-th (1-based) of `count` disjoint slices.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Shard {
+    /// 1-based slice number.
+    pub index: usize,
+    /// Number of slices.
+    pub count: usize,
+}
+
+impl Shard {
+    /// The whole grid.
+    pub const ALL: Shard = Shard { index: 1, count: 1 };
+
+    /// Parses `K/N` with `1 ≤ K ≤ N`.
+    pub fn parse(text: &str) -> Result<Shard, ValueError> {
+        let (k, n) = text
+            .trim()
+            .split_once('/')
+            .ok_or_else(|| err("shard", text, "expected K/N, e.g. 3/8 for the third of eight slices"))?;
+        let k: usize = k.trim().parse().map_err(|_| err("shard", text, "K must be a whole number"))?;
+        let n: usize = n.trim().parse().map_err(|_| err("shard", text, "N must be a whole number"))?;
+        if n == 0 || k == 0 || k > n {
+            return Err(err("shard", text, "need 1 ≤ K ≤ N"));
+        }
+        Ok(Shard { index: k, count: n })
+    }
+
+    /// Whether case number `case` (0-based, in grid order) belongs to this
+    /// slice. Contiguous blocks, so the slices' outputs concatenate in order.
+    pub fn contains(&self, case: usize, total: usize) -> bool {
+        let (lo, hi) = self.bounds(total);
+        (lo..hi).contains(&case)
+    }
+
+    /// The half-open range of case numbers in this slice.
+    pub fn bounds(&self, total: usize) -> (usize, usize) {
+        let lo = total * (self.index - 1) / self.count;
+        let hi = total * self.index / self.count;
+        (lo, hi)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn speeds_in_m_s_and_kmh() {
+        assert_eq!(parse_speed_m_s("20").unwrap(), 20.0);
+        assert!((parse_speed_m_s("72kmh").unwrap() - 20.0).abs() < 1e-12);
+        assert!(parse_speed_m_s("0").is_err());
+        assert!(parse_speed_m_s("-3").is_err());
+        assert!(parse_speed_m_s("fast").unwrap_err().to_string().contains("\"fast\""));
+    }
+
+    #[test]
+    fn ranges_are_inclusive_and_do_not_drift() {
+        assert_eq!(parse_speed_list_m_s("10:40:5").unwrap(), vec![10.0, 15.0, 20.0, 25.0, 30.0, 35.0, 40.0]);
+        let v = parse_speed_list_m_s("36kmh:108kmh:36kmh").unwrap();
+        assert_eq!(v.len(), 3);
+        assert!((v[2] - 30.0).abs() < 1e-12);
+        let v = parse_speed_list_m_s("0.1:1.0:0.1").unwrap();
+        assert_eq!(v.len(), 10);
+        assert_eq!(parse_speed_list_m_s("10,20,25").unwrap(), vec![10.0, 20.0, 25.0]);
+        assert!(parse_speed_list_m_s("40:10:5").is_err());
+        assert!(parse_speed_list_m_s("10:40:0").is_err());
+        assert!(parse_speed_list_m_s("10:40").is_err());
+        assert!(parse_speed_list_m_s("1:100000:0.001").is_err());
+    }
+
+    #[test]
+    fn durations() {
+        assert_eq!(parse_duration_s("8h").unwrap(), 28800.0);
+        assert_eq!(parse_duration_s("30min").unwrap(), 1800.0);
+        assert_eq!(parse_duration_s("90s").unwrap(), 90.0);
+        assert!(parse_duration_s("8 days").is_err());
+    }
+
+    #[test]
+    fn shards_partition_the_grid() {
+        for total in [0, 1, 7, 10, 101] {
+            for n in 1..6 {
+                let mut seen = vec![0; total];
+                for k in 1..=n {
+                    let s = Shard { index: k, count: n };
+                    for (c, count) in seen.iter_mut().enumerate() {
+                        if s.contains(c, total) {
+                            *count += 1;
+                        }
+                    }
+                }
+                assert!(seen.iter().all(|c| *c == 1));
+            }
+        }
+        assert!(Shard::parse("0/3").is_err());
+        assert!(Shard::parse("4/3").is_err());
+        assert_eq!(Shard::parse("2/3").unwrap(), Shard { index: 2, count: 3 });
+    }
+}
