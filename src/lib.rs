@@ -25,8 +25,10 @@
 //! - Every state is a deviation from static equilibrium on the first road
 //!   sample; accelerations are dynamic (gravity excluded).
 
+pub mod batch;
 pub mod comfort;
 pub mod error;
+// pub mod pipeline; (waits for stats::Moments)
 pub mod report;
 pub mod solve;
 pub mod road;
