@@ -1,0 +1,190 @@
+//! Durability statistics of a time history: streaming moments and extremes,
+//! distributions and histograms, level crossings and rainflow cycle counts
+//! (ASTM E1049-85).
+//!
+//! Everything here is streaming: values are pushed one at a time and memory
+//! stays bounded by the bin count (histograms, range–mean tables), the level
+//! count (crossings) or the rainflow residue (see [`rainflow`]), never by the
+//! record length. Units are whatever the caller pushes; writers take the
+//! column names (with units) from the caller.
+
+mod crossings;
+mod histogram;
+pub mod rainflow;
+
+pub use crossings::LevelCrossings;
+pub use histogram::{Histogram, percentile_sorted};
+pub use rainflow::{Cycle, DamageEquivalent, Rainflow, RangeMeanTable, damage_equivalent_range};
+
+use thiserror::Error;
+
+/// A statistics parameter was out of range.
+#[derive(Debug, Error)]
+pub enum StatsError {
+    /// A bin width, range or exponent is unusable (name and value in the text).
+    #[error("{0}")]
+    Parameter(String),
+}
+
+/// Streaming count, mean, r.m.s., standard deviation, minimum and maximum
+/// (Welford's update for the mean and variance: B. P. Welford,
+/// Technometrics 4(3), 1962).
+#[derive(Debug, Clone, Default)]
+pub struct Moments {
+    n: u64,
+    mean: f64,
+    m2: f64,
+    min: f64,
+    max: f64,
+}
+
+impl Moments {
+    /// An empty accumulator.
+    pub fn new() -> Self {
+        Self::default()
+    }
+
+    /// Adds one value.
+    #[inline]
+    pub fn push(&mut self, x: f64) {
+        self.n += 1;
+        if self.n == 1 {
+            self.min = x;
+            self.max = x;
+        } else {
+            self.min = self.min.min(x);
+            self.max = self.max.max(x);
+        }
+        let d = x - self.mean;
+        self.mean += d / self.n as f64;
+        self.m2 += d * (x - self.mean);
+    }
+
+    /// Number of values pushed.
+    pub fn count(&self) -> u64 {
+        self.n
+    }
+
+    /// Arithmetic mean (0 when empty).
+    pub fn mean(&self) -> f64 {
+        self.mean
+    }
+
+    /// Population variance `Σ(x − mean)²/n` (0 when empty).
+    pub fn variance(&self) -> f64 {
+        if self.n == 0 {
+            0.0
+        } else {
+            self.m2 / self.n as f64
+        }
+    }
+
+    /// Population standard deviation (divisor n; 0 when empty).
+    pub fn std(&self) -> f64 {
+        self.variance().sqrt()
+    }
+
+    /// Sample standard deviation (divisor n − 1; 0 with fewer than two values).
+    pub fn sample_std(&self) -> f64 {
+        if self.n < 2 {
+            0.0
+        } else {
+            (self.m2 / (self.n - 1) as f64).sqrt()
+        }
+    }
+
+    /// Root mean square `√(Σx²/n) = √(mean² + variance)` (0 when empty).
+    pub fn rms(&self) -> f64 {
+        (self.mean * self.mean + self.variance()).sqrt()
+    }
+
+    /// Smallest value (NaN when empty).
+    pub fn min(&self) -> f64 {
+        if self.n == 0 { f64::NAN } else { self.min }
+    }
+
+    /// Largest value (NaN when empty).
+    pub fn max(&self) -> f64 {
+        if self.n == 0 { f64::NAN } else { self.max }
+    }
+}
+
+#[cfg(test)]
+pub(crate) mod pyref {
+    //! Runs a reference script under tests/reference/ with python3, feeding
+    //! JSON on stdin and reading one JSON object from stdout.
+
+    use std::io::Write;
+    use std::process::{Command, Stdio};
+
+    const HINT: &str = "run `pip install -r tests/reference/requirements.txt` \
+        (or set ROUGHRIDE_SKIP_PYTHON=1 to skip the Python cross-checks)";
+
+    /// `None` when ROUGHRIDE_SKIP_PYTHON=1 (prints that it skipped); panics
+    /// with the install hint when python3 or a package is missing.
+    pub fn run(script: &str, input: &serde_json::Value) -> Option<serde_json::Value> {
+        if std::env::var("ROUGHRIDE_SKIP_PYTHON").as_deref() == Ok("1") {
+            println!("skipped the Python cross-check {script}: ROUGHRIDE_SKIP_PYTHON=1");
+            return None;
+        }
+        let path = format!("{}/tests/reference/{script}", env!("CARGO_MANIFEST_DIR"));
+        let mut child = match Command::new("python3")
+            .arg(&path)
+            .stdin(Stdio::piped())
+            .stdout(Stdio::piped())
+            .stderr(Stdio::piped())
+            .spawn()
+        {
+            Ok(c) => c,
+            Err(e) => panic!("cannot start python3 ({e}): {HINT}"),
+        };
+        let text = input.to_string();
+        if let Some(mut stdin) = child.stdin.take() {
+            stdin.write_all(text.as_bytes()).expect("write to python3");
+        }
+        let out = child.wait_with_output().expect("wait for python3");
+        if !out.status.success() {
+            panic!(
+                "{script} failed: {}\n{HINT}",
+                String::from_utf8_lossy(&out.stderr)
+            );
+        }
+        Some(serde_json::from_slice(&out.stdout).expect("reference script printed JSON"))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn moments_match_the_two_pass_definitions() {
+        // Reference: the textbook two-pass formulas on the same data.
+        let xs: Vec<f64> = (0..1000)
+            .map(|i| ((i * 37 % 101) as f64 - 40.0) * 0.1 + 1e6)
+            .collect();
+        let mut m = Moments::new();
+        xs.iter().for_each(|&x| m.push(x));
+        let n = xs.len() as f64;
+        let mean = xs.iter().sum::<f64>() / n;
+        let var = xs.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / n;
+        let rms = (xs.iter().map(|x| x * x).sum::<f64>() / n).sqrt();
+        assert_eq!(m.count(), 1000);
+        assert!((m.mean() - mean).abs() < 1e-9);
+        assert!(
+            (m.std() - var.sqrt()).abs() < 1e-6,
+            "{} {}",
+            m.std(),
+            var.sqrt()
+        );
+        assert!((m.sample_std() - (var * n / (n - 1.0)).sqrt()).abs() < 1e-6);
+        assert!((m.rms() / rms - 1.0).abs() < 1e-12);
+        assert_eq!(m.min(), xs.iter().cloned().fold(f64::INFINITY, f64::min));
+        assert_eq!(
+            m.max(),
+            xs.iter().cloned().fold(f64::NEG_INFINITY, f64::max)
+        );
+        assert!(Moments::new().min().is_nan());
+        assert_eq!(Moments::new().rms(), 0.0);
+    }
+}

@@ -1,0 +1,409 @@
+//! Rainflow cycle counting per ASTM E1049-85 (reapproved 2011) 5.4.4: the
+//! three-point method with the starting point counted as half cycles, and
+//! the residue left at the end counted as half cycles. Streaming: samples go
+//! through a turning-point (reversal) detector into the residue stack, and
+//! every cycle is handed to the caller the moment it closes.
+//!
+//! Reversal detection follows the same rules as the PyPI `rainflow` package
+//! (which the tests use as a reference): the first and last samples are
+//! reversals, repeated equal samples are skipped, and a reversal is reported
+//! at the last sample of a flat top. One deliberate difference: a series of
+//! exactly two samples gives one half cycle here, none in that package.
+//!
+//! Memory: the residue stack. Between closed cycles it holds a sequence of
+//! reversals with growing then shrinking ranges; for stationary loading it
+//! stays at a few tens of points whatever the record length (it grows only
+//! while the load keeps reaching new extremes).
+
+use std::collections::BTreeMap;
+use std::io::{self, Write};
+
+use super::StatsError;
+
+/// One counted cycle (or half cycle).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Cycle {
+    /// Range `|from − to|`, in the units pushed.
+    pub range: f64,
+    /// Mean `(from + to)/2`.
+    pub mean: f64,
+    /// 1.0 for a full cycle, 0.5 for a half cycle.
+    pub count: f64,
+    /// Sample index of the reversal where the cycle starts.
+    pub start_index: u64,
+    /// Sample index of the reversal where it ends.
+    pub end_index: u64,
+}
+
+fn cycle(a: (u64, f64), b: (u64, f64), count: f64) -> Cycle {
+    Cycle {
+        range: (a.1 - b.1).abs(),
+        mean: 0.5 * (a.1 + b.1),
+        count,
+        start_index: a.0,
+        end_index: b.0,
+    }
+}
+
+/// Streaming rainflow counter.
+#[derive(Debug, Clone, Default)]
+pub struct Rainflow {
+    n: u64,
+    first: f64,
+    x: f64,
+    d_last: f64,
+    last: f64,
+    stack: Vec<(u64, f64)>,
+}
+
+impl Rainflow {
+    /// An empty counter.
+    pub fn new() -> Self {
+        Self::default()
+    }
+
+    /// Adds one sample; closed cycles go to `sink`. NaN samples are skipped.
+    pub fn push(&mut self, x: f64, sink: &mut impl FnMut(Cycle)) {
+        if x.is_nan() {
+            return;
+        }
+        let i = self.n;
+        self.n += 1;
+        self.last = x;
+        match i {
+            0 => {
+                self.first = x;
+                self.reversal((0, x), sink);
+            }
+            1 => {
+                self.x = x;
+                self.d_last = x - self.first;
+            }
+            _ => {
+                if x == self.x {
+                    return;
+                }
+                let d = x - self.x;
+                if self.d_last * d < 0.0 {
+                    self.reversal((i - 1, self.x), sink);
+                }
+                self.x = x;
+                self.d_last = d;
+            }
+        }
+    }
+
+    /// The three-point rule of ASTM E1049-85 5.4.4 on a new reversal.
+    fn reversal(&mut self, p: (u64, f64), sink: &mut impl FnMut(Cycle)) {
+        self.stack.push(p);
+        while self.stack.len() >= 3 {
+            let k = self.stack.len();
+            let (x1, x2, x3) = (
+                self.stack[k - 3].1,
+                self.stack[k - 2].1,
+                self.stack[k - 1].1,
+            );
+            let (range_x, range_y) = ((x3 - x2).abs(), (x2 - x1).abs());
+            if range_x < range_y {
+                break;
+            }
+            if k == 3 {
+                // Y holds the starting point: half a cycle, drop the start.
+                sink(cycle(self.stack[0], self.stack[1], 0.5));
+                self.stack.remove(0);
+            } else {
+                sink(cycle(self.stack[k - 3], self.stack[k - 2], 1.0));
+                self.stack.drain(k - 3..k - 1);
+            }
+        }
+    }
+
+    /// Ends the series: the last sample is a reversal, and the residue is
+    /// counted as half cycles.
+    pub fn finish(mut self, sink: &mut impl FnMut(Cycle)) {
+        if self.n >= 2 {
+            self.reversal((self.n - 1, self.last), sink);
+        }
+        for w in self.stack.windows(2) {
+            sink(cycle(w[0], w[1], 0.5));
+        }
+    }
+
+    /// Reversals currently held in the residue.
+    pub fn residue_len(&self) -> usize {
+        self.stack.len()
+    }
+}
+
+/// All cycles of a series (convenience for short series and tests).
+pub fn count_cycles(series: &[f64]) -> Vec<Cycle> {
+    let mut out = Vec::new();
+    let mut rf = Rainflow::new();
+    let mut sink = |c: Cycle| out.push(c);
+    for &x in series {
+        rf.push(x, &mut sink);
+    }
+    rf.finish(&mut sink);
+    out
+}
+
+/// Streaming damage-equivalent range for an S–N exponent `m`:
+/// `S_eq = (Σ nᵢ·Sᵢ^m / N_eq)^(1/m)` (Palmgren–Miner summation with a
+/// Basquin curve `N·S^m = const`).
+#[derive(Debug, Clone)]
+pub struct DamageEquivalent {
+    m: f64,
+    sum: f64,
+    cycles: f64,
+}
+
+impl DamageEquivalent {
+    /// An accumulator for exponent `m` (> 0).
+    pub fn new(m: f64) -> Result<Self, StatsError> {
+        if !(m > 0.0 && m.is_finite()) {
+            return Err(StatsError::Parameter(format!(
+                "S–N exponent m must be positive and finite, got {m}"
+            )));
+        }
+        Ok(DamageEquivalent {
+            m,
+            sum: 0.0,
+            cycles: 0.0,
+        })
+    }
+
+    /// Adds one cycle.
+    pub fn add(&mut self, c: &Cycle) {
+        self.sum += c.count * c.range.powf(self.m);
+        self.cycles += c.count;
+    }
+
+    /// Cycles counted so far (halves included).
+    pub fn cycles(&self) -> f64 {
+        self.cycles
+    }
+
+    /// The range that, applied `n_eq` times, does the same damage.
+    pub fn range(&self, n_eq: f64) -> f64 {
+        (self.sum / n_eq).powf(1.0 / self.m)
+    }
+}
+
+/// `(Σ nᵢ·Sᵢ^m / N_eq)^(1/m)` over `cycles`.
+pub fn damage_equivalent_range(cycles: &[Cycle], m: f64, n_eq: f64) -> Result<f64, StatsError> {
+    let mut d = DamageEquivalent::new(m)?;
+    cycles.iter().for_each(|c| d.add(c));
+    Ok(d.range(n_eq))
+}
+
+/// Cycle counts binned by range and mean (a rainflow matrix). Bins are
+/// `[k·w, (k+1)·w)`; only occupied cells are stored, so memory is bounded by
+/// the number of distinct cells the load reaches.
+#[derive(Debug, Clone)]
+pub struct RangeMeanTable {
+    range_bin: f64,
+    mean_bin: f64,
+    cells: BTreeMap<(i64, i64), f64>,
+}
+
+impl RangeMeanTable {
+    /// A table with the given bin widths (> 0).
+    pub fn new(range_bin: f64, mean_bin: f64) -> Result<Self, StatsError> {
+        for (name, v) in [("range bin width", range_bin), ("mean bin width", mean_bin)] {
+            if !(v > 0.0 && v.is_finite()) {
+                return Err(StatsError::Parameter(format!(
+                    "rainflow table {name} must be positive and finite, got {v}"
+                )));
+            }
+        }
+        Ok(RangeMeanTable {
+            range_bin,
+            mean_bin,
+            cells: BTreeMap::new(),
+        })
+    }
+
+    /// Adds one cycle to its cell.
+    pub fn add(&mut self, c: &Cycle) {
+        let key = (
+            (c.range / self.range_bin).floor() as i64,
+            (c.mean / self.mean_bin).floor() as i64,
+        );
+        *self.cells.entry(key).or_insert(0.0) += c.count;
+    }
+
+    /// Total cycles in the table.
+    pub fn total(&self) -> f64 {
+        self.cells.values().sum()
+    }
+
+    /// Writes `range_lower,range_upper,mean_lower,mean_upper,cycles` rows,
+    /// ascending by range then mean; `range_col`/`mean_col` name the
+    /// quantity with its unit (e.g. `range_n`, `mean_n`) and get `_lower`,
+    /// `_upper` appended.
+    pub fn write_csv(
+        &self,
+        out: &mut dyn Write,
+        range_col: &str,
+        mean_col: &str,
+    ) -> io::Result<()> {
+        writeln!(
+            out,
+            "{range_col}_lower,{range_col}_upper,{mean_col}_lower,{mean_col}_upper,cycles"
+        )?;
+        for (&(r, m), &n) in &self.cells {
+            let (r0, m0) = (r as f64 * self.range_bin, m as f64 * self.mean_bin);
+            writeln!(
+                out,
+                "{r0},{},{m0},{},{n}",
+                r0 + self.range_bin,
+                m0 + self.mean_bin
+            )?;
+        }
+        Ok(())
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use rand::{Rng, SeedableRng};
+    use rand_chacha::ChaCha8Rng;
+
+    /// Totals per range, sorted by range.
+    fn by_range(cycles: &[Cycle]) -> Vec<(f64, f64)> {
+        let mut m: BTreeMap<u64, f64> = BTreeMap::new();
+        for c in cycles {
+            *m.entry(c.range.to_bits()).or_insert(0.0) += c.count;
+        }
+        let mut v: Vec<(f64, f64)> = m.into_iter().map(|(k, n)| (f64::from_bits(k), n)).collect();
+        v.sort_by(|a, b| a.0.total_cmp(&b.0));
+        v
+    }
+
+    #[test]
+    fn astm_e1049_fig_6_example() {
+        // ASTM E1049-85 Fig. 6: −2, 1, −3, 5, −1, 3, −4, 4, −2 gives
+        // range 3: ½, 4: 1½, 6: ½, 8: 1, 9: ½.
+        let cycles = count_cycles(&[-2.0, 1.0, -3.0, 5.0, -1.0, 3.0, -4.0, 4.0, -2.0]);
+        assert_eq!(
+            by_range(&cycles),
+            vec![(3.0, 0.5), (4.0, 1.5), (6.0, 0.5), (8.0, 1.0), (9.0, 0.5)]
+        );
+        // The only full cycle closes between −1 and 3 (range 4, mean 1); the
+        // range 8 is two half cycles (5 to −3 and −4 to 4).
+        let full: Vec<(f64, f64)> = cycles
+            .iter()
+            .filter(|c| c.count == 1.0)
+            .map(|c| (c.range, c.mean))
+            .collect();
+        assert_eq!(full, vec![(4.0, 1.0)]);
+    }
+
+    #[test]
+    fn intermediate_samples_and_flats_do_not_change_the_count() {
+        // Points on a flank and repeated values are not reversals
+        // (ASTM E1049-85 5.4.1: counting uses peaks and valleys only).
+        let a = count_cycles(&[-2.0, 1.0, -3.0, 5.0, -1.0, 3.0, -4.0, 4.0, -2.0]);
+        let b = count_cycles(&[
+            -2.0, -1.0, 1.0, 1.0, 0.0, -3.0, -3.0, 0.0, 5.0, 2.0, -1.0, 3.0, 3.0, -4.0, 0.0, 4.0,
+            -2.0,
+        ]);
+        assert_eq!(by_range(&a), by_range(&b));
+    }
+
+    #[test]
+    fn random_series_match_the_pypi_rainflow_package() {
+        // Reference: rainflow.extract_cycles (PyPI `rainflow`, ASTM E1049-85
+        // 5.4.4), run by tests/reference/rainflow_check.py. Continuous values
+        // and coarse integer values (many ties) are both checked, cycle by
+        // cycle including the reversal indices.
+        let mut rng = ChaCha8Rng::seed_from_u64(2024);
+        for case in 0..6 {
+            let n = [50, 500, 5000, 3, 20_000, 777][case];
+            let series: Vec<f64> = (0..n)
+                .map(|_| {
+                    if case % 2 == 0 {
+                        rng.random_range(-10.0..10.0)
+                    } else {
+                        rng.random_range(-4i32..=4) as f64
+                    }
+                })
+                .collect();
+            let input = serde_json::json!({ "series": series, "m": 4.0, "n_eq": 1e6,
+                                             "percentiles": [] });
+            let Some(out) = crate::stats::pyref::run("rainflow_check.py", &input) else {
+                return;
+            };
+            let theirs: Vec<Vec<f64>> = serde_json::from_value(out["cycles"].clone()).unwrap();
+            let ours = count_cycles(&series);
+            assert_eq!(ours.len(), theirs.len(), "case {case}: cycle count");
+            for (a, b) in ours.iter().zip(&theirs) {
+                assert!(
+                    (a.range - b[0]).abs() < 1e-12
+                        && (a.mean - b[1]).abs() < 1e-12
+                        && a.count == b[2]
+                        && a.start_index as f64 == b[3]
+                        && a.end_index as f64 == b[4],
+                    "case {case}: ours {a:?}, rainflow package {b:?}"
+                );
+            }
+            let deq = damage_equivalent_range(&ours, 4.0, 1e6).unwrap();
+            let theirs_deq = out["damage_equivalent_range"].as_f64().unwrap();
+            assert!(
+                (deq / theirs_deq - 1.0).abs() < 1e-12,
+                "{deq} vs {theirs_deq}"
+            );
+        }
+    }
+
+    #[test]
+    fn damage_equivalent_range_of_equal_cycles_is_analytic() {
+        // k cycles of range S: S_eq = S·(k/N_eq)^(1/m) (analytic).
+        let c = Cycle {
+            range: 2.0,
+            mean: 0.0,
+            count: 1.0,
+            start_index: 0,
+            end_index: 1,
+        };
+        let cycles = vec![c; 1000];
+        let s = damage_equivalent_range(&cycles, 5.0, 1e5).unwrap();
+        assert!((s - 2.0 * (1e-2f64).powf(0.2)).abs() < 1e-12);
+        assert!(damage_equivalent_range(&cycles, 0.0, 1.0).is_err());
+    }
+
+    #[test]
+    fn residue_stays_small_for_a_long_stationary_series() {
+        let mut rng = ChaCha8Rng::seed_from_u64(5);
+        let mut rf = Rainflow::new();
+        let mut n = 0.0;
+        let mut worst = 0;
+        for _ in 0..1_000_000 {
+            rf.push(rng.random_range(-1.0..1.0), &mut |c: Cycle| n += c.count);
+            worst = worst.max(rf.residue_len());
+        }
+        assert!(worst < 64, "residue reached {worst}");
+        assert!(n > 1e5);
+    }
+
+    #[test]
+    fn range_mean_table_conserves_cycles_and_writes_csv() {
+        let cycles = count_cycles(&[-2.0, 1.0, -3.0, 5.0, -1.0, 3.0, -4.0, 4.0, -2.0]);
+        let mut t = RangeMeanTable::new(2.0, 1.0).unwrap();
+        cycles.iter().for_each(|c| t.add(c));
+        // Fig. 6 totals: ½ + 1½ + ½ + 1 + ½ = 4 cycles.
+        assert_eq!(t.total(), 4.0);
+        let mut buf = Vec::new();
+        t.write_csv(&mut buf, "range_n", "mean_n").unwrap();
+        let text = String::from_utf8(buf).unwrap();
+        assert!(text.starts_with("range_n_lower,range_n_upper,mean_n_lower,mean_n_upper,cycles\n"));
+        let sum: f64 = text
+            .lines()
+            .skip(1)
+            .map(|l| l.rsplit(',').next().unwrap().parse::<f64>().unwrap())
+            .sum();
+        assert_eq!(sum, 4.0);
+        assert!(RangeMeanTable::new(0.0, 1.0).is_err());
+    }
+}
