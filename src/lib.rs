@@ -28,7 +28,7 @@
 pub mod batch;
 pub mod comfort;
 pub mod error;
-// pub mod pipeline; (waits for stats::Moments)
+pub mod pipeline;
 pub mod report;
 pub mod solve;
 pub mod road;

@@ -2,7 +2,13 @@
 //! holding its `Args` and a `run` that turns them into a library call and
 //! prints the result; no computation happens here.
 
+mod simulate;
+
 use clap::{Parser, Subcommand};
+
+mod classify;
+mod comfort;
+mod profile;
 
 /// roughride: ride comfort and durability estimates for a vehicle on a road,
 /// before a prototype exists.
@@ -19,11 +25,25 @@ pub struct Cli {
 
 /// The commands, one per job.
 #[derive(Debug, Subcommand)]
-pub enum Command {}
+pub enum Command {
+    /// Run a vehicle over a road at a speed: comfort (ISO 2631-1), travel, tyre load.
+    Simulate(simulate::Args),
+    /// Synthesise an ISO 8608 road profile (with obstacles) as CSV.
+    Profile(profile::Args),
+    /// Roughness of a profile CSV: ISO 8608 class, PSD fit, octave bands, IRI.
+    Classify(classify::Args),
+    /// ISO 2631-1 comfort and health evaluation of a measured acceleration record.
+    Comfort(comfort::Args),
+}
 
 /// Runs the chosen command.
 pub fn run(cli: Cli) -> Result<(), roughride::Error> {
-    match cli.command {}
+    match cli.command {
+        Command::Simulate(a) => simulate::run(a),
+        Command::Profile(args) => profile::run(args),
+        Command::Classify(args) => classify::run(args),
+        Command::Comfort(a) => comfort::run(a),
+    }
 }
 
 #[cfg(test)]

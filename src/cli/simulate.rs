@@ -1,0 +1,240 @@
+//! `roughride simulate`: one vehicle over one road at one speed.
+
+use std::path::PathBuf;
+
+use clap::Args as ClapArgs;
+use serde::Serialize;
+
+use roughride::batch::values::parse_speed_m_s;
+use roughride::comfort::Weighting;
+use roughride::pipeline::{self, RunOptions, RunSummary};
+use roughride::report::{AtomicFile, Table, json_line, sig};
+use roughride::road::iso8608::{RoadClass, RoadSpec, generate};
+use roughride::road::{Profile, read_profile_csv};
+use roughride::solve::{SolverChoice, SolverSettings};
+use roughride::vehicle::{Vehicle, read_vehicle};
+use roughride::Error;
+
+/// Run a vehicle over a road at a constant speed and report ride comfort
+/// (ISO 2631-1) and durability values.
+///
+/// The road is a measured profile (--profile FILE) or an ISO 8608 road
+/// generated on the fly (--class C --seed N --length L).
+#[derive(Debug, ClapArgs)]
+#[command(after_help = "Examples:\n  roughride simulate --vehicle profiles/vehicles/demo_hatchback.toml --profile profiles/roads/demo_rural_c.csv --speed 72kmh\n  roughride simulate --vehicle car.toml --class D --seed 3 --length 2000 --speed 15 --json")]
+pub struct Args {
+    /// Vehicle file (TOML).
+    #[arg(long, value_name = "FILE")]
+    pub vehicle: PathBuf,
+    /// Road profile CSV (distance_m,elevation_m).
+    #[arg(long, value_name = "FILE", conflicts_with_all = ["class"], required_unless_present = "class")]
+    pub profile: Option<PathBuf>,
+    /// ISO 8608 road class A–H for a generated road.
+    #[arg(long, value_name = "A-H", requires = "length")]
+    pub class: Option<RoadClass>,
+    /// Seed of the generated road.
+    #[arg(long, default_value_t = 1, requires = "class")]
+    pub seed: u64,
+    /// Length of the generated road, m.
+    #[arg(long, value_name = "M", requires = "class")]
+    pub length: Option<f64>,
+    /// Sample spacing of the generated road, m.
+    #[arg(long, value_name = "M", default_value_t = 0.05, requires = "class")]
+    pub spacing: f64,
+    /// Forward speed: m/s, or km/h with a kmh suffix (e.g. 20 or 72kmh).
+    #[arg(long, value_name = "SPEED", value_parser = parse_speed)]
+    pub speed: f64,
+    /// Write the time history (CSV, units in the header) to this file.
+    #[arg(long, value_name = "FILE")]
+    pub history: Option<PathBuf>,
+    /// Print one JSON object instead of the table.
+    #[arg(long)]
+    pub json: bool,
+    /// Solver: auto (exact for linear vehicles), exact, or adaptive.
+    #[arg(long, default_value = "auto", value_parser = parse_solver)]
+    pub solver: SolverChoice,
+    /// Output sample rate, Hz.
+    #[arg(long, value_name = "HZ", default_value_t = roughride::solve::DEFAULT_OUTPUT_RATE_HZ)]
+    pub rate: f64,
+    /// Relative tolerance of the adaptive solver.
+    #[arg(long, default_value_t = roughride::solve::DEFAULT_RTOL)]
+    pub rtol: f64,
+    /// Absolute tolerance of the adaptive solver.
+    #[arg(long, default_value_t = roughride::solve::DEFAULT_ATOL)]
+    pub atol: f64,
+    /// Frequency weighting for the seats (wk, wd, wf, wc, we, wj, none).
+    #[arg(long, default_value = "wk", value_parser = parse_weighting)]
+    pub weighting: Weighting,
+}
+
+fn parse_speed(s: &str) -> Result<f64, String> {
+    parse_speed_m_s(s).map_err(|e| e.to_string())
+}
+
+fn parse_solver(s: &str) -> Result<SolverChoice, String> {
+    s.parse()
+}
+
+fn parse_weighting(s: &str) -> Result<Weighting, String> {
+    s.parse()
+}
+
+/// Where the road came from, for the report.
+#[derive(Debug, Serialize)]
+#[serde(tag = "source", rename_all = "lowercase")]
+enum RoadInfo {
+    File { path: String, samples: usize, spacing_m: f64 },
+    Generated { class: RoadClass, seed: u64, gd_n0: f64, samples: usize, spacing_m: f64 },
+}
+
+#[derive(Debug, Serialize)]
+struct Output<'a> {
+    #[serde(flatten)]
+    summary: &'a RunSummary,
+    road: RoadInfo,
+    warnings: Vec<String>,
+}
+
+/// Loads the road the arguments name.
+fn load_road(a: &Args) -> Result<(Profile, RoadInfo, Vec<String>), Error> {
+    if let Some(path) = &a.profile {
+        let (p, warnings) = read_profile_csv(path)?;
+        let info = RoadInfo::File {
+            path: path.display().to_string(),
+            samples: p.len(),
+            spacing_m: p.spacing_m,
+        };
+        return Ok((p, info, warnings));
+    }
+    let class = a.class.ok_or_else(|| Error::Usage("give --profile FILE or --class C --length L".into()))?;
+    let length = a.length.ok_or_else(|| Error::Usage("--class needs --length (m)".into()))?;
+    let spec = RoadSpec::from_class(class, length, a.spacing, a.seed);
+    let p = generate(&spec)?;
+    let info = RoadInfo::Generated {
+        class,
+        seed: a.seed,
+        gd_n0: spec.gd_n0_m3,
+        samples: p.len(),
+        spacing_m: p.spacing_m,
+    };
+    Ok((p, info, Vec::new()))
+}
+
+/// Refuses a road the vehicle cannot drive meaningfully.
+fn check_road(vehicle: &Vehicle, profile: &Profile, what: &RoadInfo) -> Result<(), Error> {
+    if profile.length_m() < vehicle.wheelbase_m() {
+        let name = match what {
+            RoadInfo::File { path, .. } => path.clone(),
+            RoadInfo::Generated { .. } => "generated road".into(),
+        };
+        return Err(Error::Usage(format!(
+            "{name}: the profile ({:.3} m) is shorter than the wheelbase ({:.3} m)",
+            profile.length_m(),
+            vehicle.wheelbase_m()
+        )));
+    }
+    Ok(())
+}
+
+pub fn run(a: Args) -> Result<(), Error> {
+    let vehicle = read_vehicle(&a.vehicle)?;
+    let (profile, road, warnings) = load_road(&a)?;
+    for w in &warnings {
+        eprintln!("roughride: warning: {w}");
+    }
+    check_road(&vehicle, &profile, &road)?;
+    let options = RunOptions {
+        speed_m_s: a.speed,
+        solver: SolverSettings {
+            choice: a.solver,
+            output_rate_hz: a.rate,
+            rtol: a.rtol,
+            atol: a.atol,
+        },
+        weighting: a.weighting,
+        force: None,
+    };
+    let mut history = a.history.as_deref().map(AtomicFile::create).transpose()?;
+    let summary = pipeline::simulate(&vehicle, &profile, &options, history.as_mut())?;
+    if let Some(h) = history {
+        h.commit()?;
+    }
+    if let Some(f) = &summary.solver.fallback {
+        eprintln!("roughride: note: {f}");
+    }
+    let out = Output {
+        summary: &summary,
+        road,
+        warnings,
+    };
+    if a.json {
+        print!("{}", json_line(&out, "simulation summary")?);
+    } else {
+        print!("{}", render(&out));
+    }
+    Ok(())
+}
+
+fn render(o: &Output<'_>) -> String {
+    let s = o.summary;
+    let road = match &o.road {
+        RoadInfo::File { path, .. } => path.clone(),
+        RoadInfo::Generated { class, seed, .. } => format!("ISO 8608 class {class} road, seed {seed}"),
+    };
+    let mut out = format!(
+        "{} at {} m/s ({} km/h) over {}\n  {:.1} m in {} s, {} solver, {} samples at {} Hz\n\n",
+        s.vehicle,
+        sig(s.speed_m_s, 4),
+        sig(s.speed_m_s * 3.6, 4),
+        road,
+        s.length_m,
+        sig(s.duration_s, 4),
+        match s.solver.solver {
+            roughride::solve::SolverKind::Exact => "exact",
+            roughride::solve::SolverKind::Adaptive => "adaptive",
+        },
+        s.solver.samples,
+        sig(s.solver.output_rate_hz, 4),
+    );
+    let weighting = s.seats.first().map(|x| x.measures.weighting.clone()).unwrap_or_default();
+    let mut seats = Table::new(format!("Seats: vertical acceleration, ISO 2631-1 ({weighting})")).with_header([
+        "seat", "x m", "rms m/s²", "aw m/s²", "VDV m/s^1.75", "MTVV m/s²", "crest",
+    ]);
+    for seat in &s.seats {
+        let m = &seat.measures;
+        seats.row([
+            seat.name.clone(),
+            sig(seat.x_m, 3),
+            sig(m.accel_rms, 3),
+            sig(m.aw, 3),
+            sig(m.vdv, 3),
+            sig(m.mtvv, 3),
+            sig(m.crest_factor, 3),
+        ]);
+    }
+    out.push_str(&seats.render());
+    out.push('\n');
+    let mut axles = Table::new("Axles: dynamic travel (compression +) and road contact").with_header([
+        "axle", "travel rms mm", "min mm", "max mm", "tyre load rms N", "DLC", "off ground %",
+    ]);
+    for (name, a) in [("front", &s.axles.front), ("rear", &s.axles.rear)] {
+        axles.row([
+            name.to_string(),
+            sig(a.travel_rms * 1e3, 3),
+            sig(a.travel_min * 1e3, 3),
+            sig(a.travel_max * 1e3, 3),
+            sig(a.tyre_load_rms, 3),
+            sig(a.dynamic_load_coefficient, 3),
+            sig(a.time_off_ground_fraction * 100.0, 3),
+        ]);
+    }
+    out.push_str(&axles.render());
+    out.push('\n');
+    let mut body = Table::new("Body").with_header(["quantity", "rms"]);
+    body.row(["heave acceleration m/s²".to_string(), sig(s.body.heave_accel_rms, 3)]);
+    body.row(["pitch acceleration rad/s²".to_string(), sig(s.body.pitch_accel_rms, 3)]);
+    body.row(["heave mm".to_string(), sig(s.body.heave_rms * 1e3, 3)]);
+    body.row(["pitch mrad".to_string(), sig(s.body.pitch_rms * 1e3, 3)]);
+    out.push_str(&body.render());
+    out
+}

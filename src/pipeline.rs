@@ -1,0 +1,352 @@
+//! One simulation run end to end: a vehicle over a road at a speed →
+//! solver → streaming evaluators → a [`RunSummary`]. Both `simulate` and
+//! every case of a sweep come through here, so a sweep row and the single
+//! run it stands for cannot differ.
+//!
+//! Evaluation streams with the solver: per seat an ISO 2631-1 meter, per
+//! axle travel and load statistics, and optionally a CSV time history
+//! written as it goes. Memory does not grow with road length except for
+//! the road itself.
+
+use std::io::Write;
+
+use serde::Serialize;
+
+use crate::comfort::{Measures, Meter, Weighting};
+use crate::report::{AtomicFile, ExportError};
+use crate::road::Profile;
+use crate::solve::{
+    self, Excitation, HarmonicForce, RunInfo, Sample, SampleSink, SolveError, SolverKind,
+    SolverSettings,
+};
+use crate::stats::Moments;
+use crate::vehicle::{AXLE_NAMES, Vehicle};
+
+/// Everything a run needs besides the vehicle and road.
+#[derive(Debug, Clone)]
+pub struct RunOptions {
+    /// Forward speed, m/s.
+    pub speed_m_s: f64,
+    /// Solver settings.
+    pub solver: SolverSettings,
+    /// Frequency weighting for the seats (ISO 2631-1: Wk for vertical seat
+    /// acceleration, health and comfort).
+    pub weighting: Weighting,
+    /// Optional harmonic body force.
+    pub force: Option<HarmonicForce>,
+}
+
+impl RunOptions {
+    /// Defaults for a run at `speed_m_s`.
+    pub fn at_speed(speed_m_s: f64) -> Self {
+        RunOptions {
+            speed_m_s,
+            solver: SolverSettings::default(),
+            weighting: Weighting::Wk,
+            force: None,
+        }
+    }
+}
+
+/// The result of one run (the contract's `simulate --json` object).
+#[derive(Debug, Clone, Serialize)]
+pub struct RunSummary {
+    /// Vehicle name.
+    pub vehicle: String,
+    /// Forward speed, m/s.
+    pub speed_m_s: f64,
+    /// Run duration, s: (last − first distance) / speed.
+    pub duration_s: f64,
+    /// Road length covered by the front axle, m.
+    pub length_m: f64,
+    /// How the run was solved.
+    pub solver: RunInfo,
+    /// One entry per seat, in file order.
+    pub seats: Vec<SeatSummary>,
+    /// Per-axle durability and road-holding values.
+    pub axles: Axles,
+    /// Body motion.
+    pub body: BodySummary,
+}
+
+/// ISO 2631-1 evaluation of one seat's vertical acceleration.
+#[derive(Debug, Clone, Serialize)]
+pub struct SeatSummary {
+    /// Label from the vehicle file.
+    pub name: String,
+    /// Position ahead of the CG, m.
+    pub x_m: f64,
+    /// The measures (accel_rms, aw, vdv, mtvv, crest_factor, …), flattened.
+    #[serde(flatten)]
+    pub measures: Measures,
+}
+
+/// Front and rear axle results.
+#[derive(Debug, Clone, Serialize)]
+pub struct Axles {
+    /// Front axle.
+    pub front: AxleSummary,
+    /// Rear axle.
+    pub rear: AxleSummary,
+}
+
+/// Durability and road-holding values of one axle.
+#[derive(Debug, Clone, Serialize)]
+pub struct AxleSummary {
+    /// R.m.s. of the dynamic suspension travel (compression positive), m.
+    pub travel_rms: f64,
+    /// Smallest travel (largest extension), m.
+    pub travel_min: f64,
+    /// Largest travel (largest compression), m.
+    pub travel_max: f64,
+    /// R.m.s. of the dynamic suspension force, N.
+    pub suspension_force_rms: f64,
+    /// R.m.s. of the dynamic tyre (road contact) force, N.
+    pub tyre_load_rms: f64,
+    /// Static road contact force, N.
+    pub static_load: f64,
+    /// Dynamic load coefficient: tyre_load_rms / static_load.
+    pub dynamic_load_coefficient: f64,
+    /// Fraction of samples with the tyre off the road.
+    pub time_off_ground_fraction: f64,
+}
+
+/// Body motion r.m.s. values.
+#[derive(Debug, Clone, Serialize)]
+pub struct BodySummary {
+    /// R.m.s. heave acceleration at the CG, m/s².
+    pub heave_accel_rms: f64,
+    /// R.m.s. pitch acceleration, rad/s².
+    pub pitch_accel_rms: f64,
+    /// R.m.s. heave displacement, m.
+    pub heave_rms: f64,
+    /// R.m.s. pitch angle, rad.
+    pub pitch_rms: f64,
+}
+
+/// Runs `vehicle` over `profile`, optionally streaming the time history to
+/// `history` (rewound if the run has to start over).
+pub fn simulate(
+    vehicle: &Vehicle,
+    profile: &Profile,
+    options: &RunOptions,
+    history: Option<&mut AtomicFile>,
+) -> Result<RunSummary, crate::Error> {
+    let excitation = Excitation {
+        profile,
+        speed_m_s: options.speed_m_s,
+        wheelbase_m: vehicle.wheelbase_m(),
+        force: options.force,
+    };
+    let plan = solve::plan(vehicle, &excitation, &options.solver)?;
+    let mut sink = Evaluators::new(vehicle, options, plan.output_rate_hz, history)?;
+    let info = solve::run(vehicle, &excitation, &plan, &mut sink)?;
+    Ok(sink.summary(vehicle, &excitation, info))
+}
+
+/// The streaming evaluators of one run.
+struct Evaluators<'h> {
+    seat_x_m: Vec<f64>,
+    weighting: Weighting,
+    rate_hz: f64,
+    seats: Vec<Meter>,
+    travel: [Moments; 2],
+    suspension: [Moments; 2],
+    contact: [Moments; 2],
+    off_ground: [u64; 2],
+    heave: Moments,
+    pitch: Moments,
+    heave_acc: Moments,
+    pitch_acc: Moments,
+    history: Option<&'h mut AtomicFile>,
+    header: String,
+    line: String,
+}
+
+impl<'h> Evaluators<'h> {
+    fn new(
+        vehicle: &Vehicle,
+        options: &RunOptions,
+        rate_hz: f64,
+        history: Option<&'h mut AtomicFile>,
+    ) -> Result<Self, crate::Error> {
+        let seats = vehicle
+            .seats
+            .iter()
+            .map(|_| Meter::new(options.weighting, rate_hz))
+            .collect::<Result<Vec<_>, _>>()?;
+        Ok(Evaluators {
+            seat_x_m: vehicle.seats.iter().map(|s| s.x_m).collect(),
+            weighting: options.weighting,
+            rate_hz,
+            seats,
+            travel: Default::default(),
+            suspension: Default::default(),
+            contact: Default::default(),
+            off_ground: [0; 2],
+            heave: Moments::default(),
+            pitch: Moments::default(),
+            heave_acc: Moments::default(),
+            pitch_acc: Moments::default(),
+            history,
+            header: history_header(vehicle),
+            line: String::with_capacity(256),
+        })
+    }
+
+    fn reset(&mut self) -> Result<(), SolveError> {
+        for m in &mut self.seats {
+            // Rates were validated when the meters were first built.
+            *m = Meter::new(self.weighting, self.rate_hz)
+                .map_err(|e| SolveError::Settings(e.to_string()))?;
+        }
+        self.travel = Default::default();
+        self.suspension = Default::default();
+        self.contact = Default::default();
+        self.off_ground = [0; 2];
+        self.heave = Moments::default();
+        self.pitch = Moments::default();
+        self.heave_acc = Moments::default();
+        self.pitch_acc = Moments::default();
+        Ok(())
+    }
+
+    fn summary(&self, vehicle: &Vehicle, excitation: &Excitation<'_>, info: RunInfo) -> RunSummary {
+        let statics = vehicle.static_contact_n();
+        let axle = |i: usize| {
+            let n = self.travel[i].count().max(1) as f64;
+            AxleSummary {
+                travel_rms: self.travel[i].rms(),
+                travel_min: self.travel[i].min(),
+                travel_max: self.travel[i].max(),
+                suspension_force_rms: self.suspension[i].rms(),
+                tyre_load_rms: self.contact[i].rms(),
+                static_load: statics[i],
+                dynamic_load_coefficient: self.contact[i].rms() / statics[i],
+                time_off_ground_fraction: self.off_ground[i] as f64 / n,
+            }
+        };
+        RunSummary {
+            vehicle: vehicle.name.clone(),
+            speed_m_s: excitation.speed_m_s,
+            duration_s: excitation.duration_s(),
+            length_m: excitation.profile.length_m(),
+            solver: info,
+            seats: vehicle
+                .seats
+                .iter()
+                .zip(&self.seats)
+                .map(|(s, m)| SeatSummary {
+                    name: s.name.clone(),
+                    x_m: s.x_m,
+                    measures: m.finish(),
+                })
+                .collect(),
+            axles: Axles {
+                front: axle(0),
+                rear: axle(1),
+            },
+            body: BodySummary {
+                heave_accel_rms: self.heave_acc.rms(),
+                pitch_accel_rms: self.pitch_acc.rms(),
+                heave_rms: self.heave.rms(),
+                pitch_rms: self.pitch.rms(),
+            },
+        }
+    }
+}
+
+/// Header of the time-history CSV; units in every column name.
+pub fn history_header(vehicle: &Vehicle) -> String {
+    let mut h = String::from(
+        "time_s,distance_m,road_front_m,road_rear_m,heave_m,pitch_rad,heave_accel_m_s2,pitch_accel_rad_s2",
+    );
+    for s in &vehicle.seats {
+        h.push_str(&format!(",{}_accel_m_s2", s.name));
+    }
+    for a in AXLE_NAMES {
+        h.push_str(&format!(",travel_{a}_m"));
+    }
+    for a in AXLE_NAMES {
+        h.push_str(&format!(",suspension_force_{a}_n"));
+    }
+    for a in AXLE_NAMES {
+        h.push_str(&format!(",tyre_load_{a}_n"));
+    }
+    h
+}
+
+impl SampleSink for Evaluators<'_> {
+    fn start(&mut self, _solver: SolverKind) -> Result<(), SolveError> {
+        self.reset()?;
+        if let Some(h) = self.history.as_deref_mut() {
+            h.rewind()?;
+            writeln!(h, "{}", self.header).map_err(|e| history_error(h, e))?;
+        }
+        Ok(())
+    }
+
+    #[inline]
+    fn accept(&mut self, s: &Sample) -> Result<(), SolveError> {
+        for (m, x) in self.seats.iter_mut().zip(&self.seat_x_m) {
+            m.push(s.body_point_accel_m_s2(*x));
+        }
+        for i in 0..2 {
+            self.travel[i].push(s.elements.travel_m[i]);
+            self.suspension[i].push(s.elements.suspension_n[i]);
+            self.contact[i].push(s.elements.contact_n[i]);
+            if !s.elements.in_contact[i] {
+                self.off_ground[i] += 1;
+            }
+        }
+        self.heave.push(s.q[0]);
+        self.pitch.push(s.q[1]);
+        self.heave_acc.push(s.qdd[0]);
+        self.pitch_acc.push(s.qdd[1]);
+        if let Some(h) = self.history.as_deref_mut() {
+            use std::fmt::Write as _;
+            let line = &mut self.line;
+            line.clear();
+            let _ = write!(
+                line,
+                "{},{},{:e},{:e},{:e},{:e},{:e},{:e}",
+                fmt_time(s.time_s),
+                fmt_time(s.inputs.distance_m),
+                s.inputs.road.elevation_m[0],
+                s.inputs.road.elevation_m[1],
+                s.q[0],
+                s.q[1],
+                s.qdd[0],
+                s.qdd[1]
+            );
+            for x in &self.seat_x_m {
+                let _ = write!(line, ",{:e}", s.body_point_accel_m_s2(*x));
+            }
+            for v in s
+                .elements
+                .travel_m
+                .iter()
+                .chain(&s.elements.suspension_n)
+                .chain(&s.elements.contact_n)
+            {
+                let _ = write!(line, ",{v:e}");
+            }
+            line.push('\n');
+            h.write_all(line.as_bytes()).map_err(|e| history_error(h, e))?;
+        }
+        Ok(())
+    }
+}
+
+fn history_error(h: &AtomicFile, e: std::io::Error) -> SolveError {
+    SolveError::Output(ExportError::Io {
+        path: h.target().to_path_buf(),
+        source: e,
+    })
+}
+
+/// Times and distances to 1 µs / 1 µm without trailing zeros.
+fn fmt_time(x: f64) -> String {
+    let s = format!("{x:.6}");
+    s.trim_end_matches('0').trim_end_matches('.').to_string()
+}

@@ -1,0 +1,150 @@
+//! `roughride simulate` driven as a user would: the demo files, the JSON
+//! keys of the contract (shared/interface.md), history files, and bad input.
+
+mod common;
+
+use common::{demo, roughride, scratch};
+use predicates::prelude::*;
+
+const CAR: &str = "vehicles/demo_hatchback.toml";
+const ROAD: &str = "roads/demo_rural_c.csv";
+
+fn json_of(args: &[&str]) -> serde_json::Value {
+    let out = roughride().args(args).arg("--json").assert().success().get_output().stdout.clone();
+    let text = String::from_utf8(out).unwrap();
+    assert_eq!(text.trim_end().lines().count(), 1, "exactly one JSON object: {text}");
+    serde_json::from_str(&text).unwrap()
+}
+
+#[test]
+fn the_demo_run_prints_the_contract_keys() {
+    let v = json_of(&[
+        "simulate",
+        "--vehicle",
+        demo(CAR).to_str().unwrap(),
+        "--profile",
+        demo(ROAD).to_str().unwrap(),
+        "--speed",
+        "72kmh",
+    ]);
+    assert!((v["speed_m_s"].as_f64().unwrap() - 20.0).abs() < 1e-12);
+    assert!(v["duration_s"].as_f64().unwrap() > 0.0);
+    for seat in v["seats"].as_array().unwrap() {
+        for key in ["x_m", "accel_rms", "aw", "vdv", "mtvv", "crest_factor"] {
+            assert!(seat[key].as_f64().is_some(), "seats[].{key} in {seat}");
+        }
+    }
+    for axle in ["front", "rear"] {
+        for key in ["travel_rms", "tyre_load_rms", "travel_min", "travel_max"] {
+            assert!(v["axles"][axle][key].as_f64().is_some(), "axles.{axle}.{key}");
+        }
+    }
+    assert!(v["body"]["heave_accel_rms"].as_f64().unwrap() > 0.0);
+    assert!(v["body"]["pitch_accel_rms"].as_f64().unwrap() > 0.0);
+    // Plausibility for a car on a class C road at 72 km/h (common practice:
+    // seat aw of a few tenths of m/s², travel r.m.s. of millimetres).
+    let aw = v["seats"][0]["aw"].as_f64().unwrap();
+    assert!(aw > 0.05 && aw < 2.0, "aw {aw}");
+}
+
+#[test]
+fn duration_is_length_over_speed() {
+    let dir = scratch();
+    let road = dir.path().join("r.csv");
+    let mut text = String::from("distance_m,elevation_m\n");
+    for i in 0..=400 {
+        text.push_str(&format!("{},{}\n", 10.0 + i as f64 * 0.25, 0.003 * (i as f64 * 0.3).sin()));
+    }
+    std::fs::write(&road, text).unwrap();
+    let v = json_of(&["simulate", "--vehicle", demo(CAR).to_str().unwrap(), "--profile", road.to_str().unwrap(), "--speed", "25"]);
+    assert!((v["duration_s"].as_f64().unwrap() - 100.0 / 25.0).abs() < 1e-12);
+}
+
+#[test]
+fn the_history_file_has_units_in_its_header_and_one_row_per_sample() {
+    let dir = scratch();
+    let hist = dir.path().join("h.csv");
+    roughride()
+        .args(["simulate", "--vehicle", demo(CAR).to_str().unwrap(), "--class", "C", "--length", "100", "--speed", "20", "--rate", "500"])
+        .arg("--history")
+        .arg(&hist)
+        .assert()
+        .success();
+    let text = common::read(&hist);
+    let mut lines = text.lines();
+    let header = lines.next().unwrap();
+    for col in ["time_s", "distance_m", "road_front_m", "heave_m", "pitch_rad", "driver_accel_m_s2", "travel_front_m", "tyre_load_rear_n"] {
+        assert!(header.split(',').any(|c| c == col), "{col} in {header}");
+    }
+    // 100 m at 20 m/s = 5 s at 500 Hz: 2501 samples.
+    assert_eq!(lines.count(), 2501);
+}
+
+#[test]
+fn bad_vehicle_files_exit_2_naming_the_file_and_key() {
+    let dir = scratch();
+    let good = common::read(&demo(CAR));
+    let cases = [
+        (good.replace("mass = 1150.0", "mass = -5.0"), "`body.mass` must be positive"),
+        (good.replace("tyre_rate = 400000.0     # N/m (2 x 200 kN/m)", ""), "`front.tyre_rate` is missing"),
+        (good.replace("[[seat]]\nname = \"driver\"\nx = 0.25                 # m ahead of the CG\n", "").replace("[[seat]]\nname = \"rear_passenger\"\nx = -0.65\n", ""), "`seat` is missing"),
+        (good.replace("spring_rate = 35300.0", "spring_rate = \"stiff\""), "invalid type"),
+        ("not toml at all [".to_string(), "bad.toml"),
+    ];
+    for (text, fragment) in cases {
+        let path = dir.path().join("bad.toml");
+        std::fs::write(&path, &text).unwrap();
+        roughride()
+            .args(["simulate", "--vehicle", path.to_str().unwrap(), "--profile", demo(ROAD).to_str().unwrap(), "--speed", "20"])
+            .assert()
+            .code(2)
+            .stderr(predicate::str::contains("bad.toml"))
+            .stderr(predicate::str::contains(fragment))
+            .stderr(predicate::str::contains("panicked").not());
+    }
+}
+
+#[test]
+fn bad_profiles_exit_2_naming_the_file_and_line() {
+    let dir = scratch();
+    let cases = [
+        ("distance_m,elevation_m\n0,0\n1,0\n1,0\n", "line 4"),
+        ("distance_m,elevation_m\n0,0\n1,nan\n", "line 3"),
+        ("distance_m,elevation_m\n0,0\n", "two data rows"),
+        ("distance_m,elevation_m\n0,0\n0.5,0\n1.0,0\n", "shorter than the wheelbase"),
+        ("d,e\n0,0\n1,0\n", "distance_m"),
+    ];
+    for (text, fragment) in cases {
+        let path = dir.path().join("road.csv");
+        std::fs::write(&path, text).unwrap();
+        roughride()
+            .args(["simulate", "--vehicle", demo(CAR).to_str().unwrap(), "--profile", path.to_str().unwrap(), "--speed", "20"])
+            .assert()
+            .code(2)
+            .stderr(predicate::str::contains("road.csv"))
+            .stderr(predicate::str::contains(fragment))
+            .stderr(predicate::str::contains("panicked").not());
+    }
+    roughride()
+        .args(["simulate", "--vehicle", demo(CAR).to_str().unwrap(), "--profile", "/no/such/road.csv", "--speed", "20"])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("/no/such/road.csv"));
+}
+
+#[test]
+fn a_failed_run_leaves_no_history_file() {
+    let dir = scratch();
+    let hist = dir.path().join("h.csv");
+    std::fs::write(&hist, "previous good result\n").unwrap();
+    // The exact solver refuses a nonlinear vehicle: the run fails before
+    // any result, and the previous file stays as it was.
+    roughride()
+        .args(["simulate", "--vehicle", demo("vehicles/demo_van_stops.toml").to_str().unwrap(), "--class", "C", "--length", "50", "--speed", "20", "--solver", "exact"])
+        .arg("--history")
+        .arg(&hist)
+        .assert()
+        .code(2);
+    assert_eq!(common::read(&hist), "previous good result\n");
+    assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 1);
+}
