@@ -8,9 +8,19 @@
 //! Between samples the road is linear in distance; before the first sample
 //! and after the last it is held at the end value.
 
+pub mod classify;
 mod csv_io;
+pub mod iri;
+pub mod iso8608;
+pub mod obstacle;
+pub mod psd;
 
+pub use classify::{Classification, classify};
 pub use csv_io::{read_profile_csv, read_profile_from, write_profile_csv};
+pub use iri::{iri_m_per_km, iri_segments};
+pub use iso8608::{RoadClass, RoadSpec, generate};
+pub use obstacle::{Obstacle, check_obstacles, flat, lay};
+pub use psd::{Spectrum, welch_psd};
 
 use std::path::PathBuf;
 
