@@ -4,7 +4,6 @@
 //! the message).
 
 use std::f64::consts::PI;
-use std::io::Write;
 use std::path::{Path, PathBuf};
 
 use assert_cmd::Command;
