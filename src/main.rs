@@ -9,6 +9,10 @@ use clap::Parser;
 
 fn main() -> ExitCode {
     let args = cli::Cli::parse();
+    // Ctrl-C, SIGTERM and SIGHUP stop runs at their next check, so output
+    // files are discarded rather than left half-written. If the handler
+    // cannot be installed the default (immediate exit) still applies.
+    let _ = ctrlc::set_handler(roughride::solve::request_cancel);
     match cli::run(args) {
         Ok(()) => ExitCode::SUCCESS,
         Err(e) => {

@@ -332,7 +332,8 @@ impl SampleSink for Evaluators<'_> {
                 let _ = write!(line, ",{v:e}");
             }
             line.push('\n');
-            h.write_all(line.as_bytes()).map_err(|e| history_error(h, e))?;
+            h.write_all(line.as_bytes())
+                .map_err(|e| history_error(h, e))?;
         }
         Ok(())
     }

@@ -10,9 +10,20 @@ const CAR: &str = "vehicles/demo_hatchback.toml";
 const ROAD: &str = "roads/demo_rural_c.csv";
 
 fn json_of(args: &[&str]) -> serde_json::Value {
-    let out = roughride().args(args).arg("--json").assert().success().get_output().stdout.clone();
+    let out = roughride()
+        .args(args)
+        .arg("--json")
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
     let text = String::from_utf8(out).unwrap();
-    assert_eq!(text.trim_end().lines().count(), 1, "exactly one JSON object: {text}");
+    assert_eq!(
+        text.trim_end().lines().count(),
+        1,
+        "exactly one JSON object: {text}"
+    );
     serde_json::from_str(&text).unwrap()
 }
 
@@ -36,7 +47,10 @@ fn the_demo_run_prints_the_contract_keys() {
     }
     for axle in ["front", "rear"] {
         for key in ["travel_rms", "tyre_load_rms", "travel_min", "travel_max"] {
-            assert!(v["axles"][axle][key].as_f64().is_some(), "axles.{axle}.{key}");
+            assert!(
+                v["axles"][axle][key].as_f64().is_some(),
+                "axles.{axle}.{key}"
+            );
         }
     }
     assert!(v["body"]["heave_accel_rms"].as_f64().unwrap() > 0.0);
@@ -53,10 +67,22 @@ fn duration_is_length_over_speed() {
     let road = dir.path().join("r.csv");
     let mut text = String::from("distance_m,elevation_m\n");
     for i in 0..=400 {
-        text.push_str(&format!("{},{}\n", 10.0 + i as f64 * 0.25, 0.003 * (i as f64 * 0.3).sin()));
+        text.push_str(&format!(
+            "{},{}\n",
+            10.0 + i as f64 * 0.25,
+            0.003 * (i as f64 * 0.3).sin()
+        ));
     }
     std::fs::write(&road, text).unwrap();
-    let v = json_of(&["simulate", "--vehicle", demo(CAR).to_str().unwrap(), "--profile", road.to_str().unwrap(), "--speed", "25"]);
+    let v = json_of(&[
+        "simulate",
+        "--vehicle",
+        demo(CAR).to_str().unwrap(),
+        "--profile",
+        road.to_str().unwrap(),
+        "--speed",
+        "25",
+    ]);
     assert!((v["duration_s"].as_f64().unwrap() - 100.0 / 25.0).abs() < 1e-12);
 }
 
@@ -65,7 +91,19 @@ fn the_history_file_has_units_in_its_header_and_one_row_per_sample() {
     let dir = scratch();
     let hist = dir.path().join("h.csv");
     roughride()
-        .args(["simulate", "--vehicle", demo(CAR).to_str().unwrap(), "--class", "C", "--length", "100", "--speed", "20", "--rate", "500"])
+        .args([
+            "simulate",
+            "--vehicle",
+            demo(CAR).to_str().unwrap(),
+            "--class",
+            "C",
+            "--length",
+            "100",
+            "--speed",
+            "20",
+            "--rate",
+            "500",
+        ])
         .arg("--history")
         .arg(&hist)
         .assert()
@@ -73,7 +111,16 @@ fn the_history_file_has_units_in_its_header_and_one_row_per_sample() {
     let text = common::read(&hist);
     let mut lines = text.lines();
     let header = lines.next().unwrap();
-    for col in ["time_s", "distance_m", "road_front_m", "heave_m", "pitch_rad", "driver_accel_m_s2", "travel_front_m", "tyre_load_rear_n"] {
+    for col in [
+        "time_s",
+        "distance_m",
+        "road_front_m",
+        "heave_m",
+        "pitch_rad",
+        "driver_accel_m_s2",
+        "travel_front_m",
+        "tyre_load_rear_n",
+    ] {
         assert!(header.split(',').any(|c| c == col), "{col} in {header}");
     }
     // 100 m at 20 m/s = 5 s at 500 Hz: 2501 samples.
@@ -85,17 +132,41 @@ fn bad_vehicle_files_exit_2_naming_the_file_and_key() {
     let dir = scratch();
     let good = common::read(&demo(CAR));
     let cases = [
-        (good.replace("mass = 1150.0", "mass = -5.0"), "`body.mass` must be positive"),
-        (good.replace("tyre_rate = 400000.0     # N/m (2 x 200 kN/m)", ""), "`front.tyre_rate` is missing"),
-        (good.replace("[[seat]]\nname = \"driver\"\nx = 0.25                 # m ahead of the CG\n", "").replace("[[seat]]\nname = \"rear_passenger\"\nx = -0.65\n", ""), "`seat` is missing"),
-        (good.replace("spring_rate = 35300.0", "spring_rate = \"stiff\""), "invalid type"),
+        (
+            good.replace("mass = 1150.0", "mass = -5.0"),
+            "`body.mass` must be positive",
+        ),
+        (
+            good.replace("tyre_rate = 400000.0     # N/m (2 x 200 kN/m)", ""),
+            "`front.tyre_rate` is missing",
+        ),
+        (
+            good.replace(
+                "[[seat]]\nname = \"driver\"\nx = 0.25                 # m ahead of the CG\n",
+                "",
+            )
+            .replace("[[seat]]\nname = \"rear_passenger\"\nx = -0.65\n", ""),
+            "`seat` is missing",
+        ),
+        (
+            good.replace("spring_rate = 35300.0", "spring_rate = \"stiff\""),
+            "invalid type",
+        ),
         ("not toml at all [".to_string(), "bad.toml"),
     ];
     for (text, fragment) in cases {
         let path = dir.path().join("bad.toml");
         std::fs::write(&path, &text).unwrap();
         roughride()
-            .args(["simulate", "--vehicle", path.to_str().unwrap(), "--profile", demo(ROAD).to_str().unwrap(), "--speed", "20"])
+            .args([
+                "simulate",
+                "--vehicle",
+                path.to_str().unwrap(),
+                "--profile",
+                demo(ROAD).to_str().unwrap(),
+                "--speed",
+                "20",
+            ])
             .assert()
             .code(2)
             .stderr(predicate::str::contains("bad.toml"))
@@ -111,14 +182,25 @@ fn bad_profiles_exit_2_naming_the_file_and_line() {
         ("distance_m,elevation_m\n0,0\n1,0\n1,0\n", "line 4"),
         ("distance_m,elevation_m\n0,0\n1,nan\n", "line 3"),
         ("distance_m,elevation_m\n0,0\n", "two data rows"),
-        ("distance_m,elevation_m\n0,0\n0.5,0\n1.0,0\n", "shorter than the wheelbase"),
+        (
+            "distance_m,elevation_m\n0,0\n0.5,0\n1.0,0\n",
+            "shorter than the wheelbase",
+        ),
         ("d,e\n0,0\n1,0\n", "distance_m"),
     ];
     for (text, fragment) in cases {
         let path = dir.path().join("road.csv");
         std::fs::write(&path, text).unwrap();
         roughride()
-            .args(["simulate", "--vehicle", demo(CAR).to_str().unwrap(), "--profile", path.to_str().unwrap(), "--speed", "20"])
+            .args([
+                "simulate",
+                "--vehicle",
+                demo(CAR).to_str().unwrap(),
+                "--profile",
+                path.to_str().unwrap(),
+                "--speed",
+                "20",
+            ])
             .assert()
             .code(2)
             .stderr(predicate::str::contains("road.csv"))
@@ -126,7 +208,15 @@ fn bad_profiles_exit_2_naming_the_file_and_line() {
             .stderr(predicate::str::contains("panicked").not());
     }
     roughride()
-        .args(["simulate", "--vehicle", demo(CAR).to_str().unwrap(), "--profile", "/no/such/road.csv", "--speed", "20"])
+        .args([
+            "simulate",
+            "--vehicle",
+            demo(CAR).to_str().unwrap(),
+            "--profile",
+            "/no/such/road.csv",
+            "--speed",
+            "20",
+        ])
         .assert()
         .code(2)
         .stderr(predicate::str::contains("/no/such/road.csv"));
@@ -140,7 +230,19 @@ fn a_failed_run_leaves_no_history_file() {
     // The exact solver refuses a nonlinear vehicle: the run fails before
     // any result, and the previous file stays as it was.
     roughride()
-        .args(["simulate", "--vehicle", demo("vehicles/demo_van_stops.toml").to_str().unwrap(), "--class", "C", "--length", "50", "--speed", "20", "--solver", "exact"])
+        .args([
+            "simulate",
+            "--vehicle",
+            demo("vehicles/demo_van_stops.toml").to_str().unwrap(),
+            "--class",
+            "C",
+            "--length",
+            "50",
+            "--speed",
+            "20",
+            "--solver",
+            "exact",
+        ])
         .arg("--history")
         .arg(&hist)
         .assert()

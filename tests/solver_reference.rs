@@ -27,7 +27,13 @@ impl SampleSink for Keep {
     fn accept(&mut self, s: &Sample) -> Result<(), SolveError> {
         let r = &s.inputs.road;
         self.t.push(s.time_s);
-        self.u.push([r.elevation_m[0], r.elevation_m[1], r.rate_m_s[0], r.rate_m_s[1], 0.0]);
+        self.u.push([
+            r.elevation_m[0],
+            r.elevation_m[1],
+            r.rate_m_s[0],
+            r.rate_m_s[1],
+            0.0,
+        ]);
         self.seat.push(s.body_point_accel_m_s2(0.25));
         self.travel_rear.push(s.elements.travel_m[1]);
         Ok(())
@@ -44,7 +50,9 @@ fn road() -> Profile {
             (1..=25)
                 .map(|k| {
                     let wavelength = 40.0 / k as f64 + 0.7;
-                    0.004 * (wavelength / 40.0) * (2.0 * std::f64::consts::PI * x / wavelength + 1.3 * k as f64).sin()
+                    0.004
+                        * (wavelength / 40.0)
+                        * (2.0 * std::f64::consts::PI * x / wavelength + 1.3 * k as f64).sin()
                 })
                 .sum()
         })
@@ -79,21 +87,42 @@ fn both_solvers_agree_with_scipy_lsim_on_the_demo_half_car() {
     c[1][0] = -1.0;
     c[1][1] = -vehicle.axles[1].x_m;
     let rows = |m: &nalgebra::DMatrix<f64>| -> Vec<Vec<f64>> {
-        (0..m.nrows()).map(|r| m.row(r).iter().copied().collect()).collect()
+        (0..m.nrows())
+            .map(|r| m.row(r).iter().copied().collect())
+            .collect()
     };
     for choice in [SolverChoice::Exact, SolverChoice::Adaptive] {
-        let ex = Excitation { profile: &profile, speed_m_s: speed, wheelbase_m: vehicle.wheelbase_m(), force: None };
-        let plan = solve::plan(&vehicle, &ex, &SolverSettings { choice, ..Default::default() }).unwrap();
+        let ex = Excitation {
+            profile: &profile,
+            speed_m_s: speed,
+            wheelbase_m: vehicle.wheelbase_m(),
+            force: None,
+        };
+        let plan = solve::plan(
+            &vehicle,
+            &ex,
+            &SolverSettings {
+                choice,
+                ..Default::default()
+            },
+        )
+        .unwrap();
         let mut keep = Keep::default();
         solve::run(&vehicle, &ex, &plan, &mut keep).unwrap();
-        let input = json!({"A": rows(&ss.a), "B": rows(&ss.b), "C": c, "D": d, "t": keep.t, "u": keep.u});
-        let Some(reference) = common::python_reference("lsim_check.py", &input) else { return };
+        let input =
+            json!({"A": rows(&ss.a), "B": rows(&ss.b), "C": c, "D": d, "t": keep.t, "u": keep.u});
+        let Some(reference) = common::python_reference("lsim_check.py", &input) else {
+            return;
+        };
         let y = reference["y"].as_array().unwrap();
         for (k, ours) in [(0usize, &keep.seat), (1, &keep.travel_rear)] {
             let theirs: Vec<f64> = y.iter().map(|r| r[k].as_f64().unwrap()).collect();
             let diff: Vec<f64> = ours.iter().zip(&theirs).map(|(a, b)| a - b).collect();
             let rel = rms(&diff) / rms(&theirs);
-            assert!(rel < 0.01, "{choice:?} output {k}: r.m.s. difference {rel:.2e} of the signal");
+            assert!(
+                rel < 0.01,
+                "{choice:?} output {k}: r.m.s. difference {rel:.2e} of the signal"
+            );
         }
     }
 }

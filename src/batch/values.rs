@@ -38,9 +38,13 @@ pub fn parse_speed_m_s(text: &str) -> Result<f64, ValueError> {
         Some(n) => (n.trim(), 1.0 / 3.6),
         None => (t.strip_suffix("m/s").unwrap_or(t).trim(), 1.0),
     };
-    let v: f64 = number
-        .parse()
-        .map_err(|_| err("speed", text, "expected a number in m/s, or km/h with a kmh suffix (e.g. 20 or 72kmh)"))?;
+    let v: f64 = number.parse().map_err(|_| {
+        err(
+            "speed",
+            text,
+            "expected a number in m/s, or km/h with a kmh suffix (e.g. 20 or 72kmh)",
+        )
+    })?;
     if !(v.is_finite() && v > 0.0) {
         return Err(err("speed", text, "must be positive and finite"));
     }
@@ -53,17 +57,26 @@ pub fn parse_speed_list_m_s(text: &str) -> Result<Vec<f64>, ValueError> {
     if t.contains(':') {
         let parts: Vec<&str> = t.split(':').collect();
         if parts.len() != 3 {
-            return Err(err("speed range", text, "expected start:end:step, e.g. 10:40:5 or 36kmh:108kmh:36kmh"));
+            return Err(err(
+                "speed range",
+                text,
+                "expected start:end:step, e.g. 10:40:5 or 36kmh:108kmh:36kmh",
+            ));
         }
         let start = parse_speed_m_s(parts[0]).map_err(|e| err("speed range", text, e.why))?;
         let end = parse_speed_m_s(parts[1]).map_err(|e| err("speed range", text, e.why))?;
-        let step = parse_speed_m_s(parts[2]).map_err(|_| err("speed range", text, "the step must be a positive speed"))?;
+        let step = parse_speed_m_s(parts[2])
+            .map_err(|_| err("speed range", text, "the step must be a positive speed"))?;
         if end < start {
             return Err(err("speed range", text, "the end is below the start"));
         }
         let count = ((end - start) / step * (1.0 + 1e-9) + 1e-9).floor() as usize + 1;
         if count > MAX_RANGE_VALUES {
-            return Err(err("speed range", text, format!("expands to {count} values; at most {MAX_RANGE_VALUES}")));
+            return Err(err(
+                "speed range",
+                text,
+                format!("expands to {count} values; at most {MAX_RANGE_VALUES}"),
+            ));
         }
         Ok((0..count).map(|i| start + i as f64 * step).collect())
     } else {
@@ -108,12 +121,21 @@ impl Shard {
 
     /// Parses `K/N` with `1 ≤ K ≤ N`.
     pub fn parse(text: &str) -> Result<Shard, ValueError> {
-        let (k, n) = text
+        let (k, n) = text.trim().split_once('/').ok_or_else(|| {
+            err(
+                "shard",
+                text,
+                "expected K/N, e.g. 3/8 for the third of eight slices",
+            )
+        })?;
+        let k: usize = k
             .trim()
-            .split_once('/')
-            .ok_or_else(|| err("shard", text, "expected K/N, e.g. 3/8 for the third of eight slices"))?;
-        let k: usize = k.trim().parse().map_err(|_| err("shard", text, "K must be a whole number"))?;
-        let n: usize = n.trim().parse().map_err(|_| err("shard", text, "N must be a whole number"))?;
+            .parse()
+            .map_err(|_| err("shard", text, "K must be a whole number"))?;
+        let n: usize = n
+            .trim()
+            .parse()
+            .map_err(|_| err("shard", text, "N must be a whole number"))?;
         if n == 0 || k == 0 || k > n {
             return Err(err("shard", text, "need 1 ≤ K ≤ N"));
         }
@@ -145,18 +167,29 @@ mod tests {
         assert!((parse_speed_m_s("72kmh").unwrap() - 20.0).abs() < 1e-12);
         assert!(parse_speed_m_s("0").is_err());
         assert!(parse_speed_m_s("-3").is_err());
-        assert!(parse_speed_m_s("fast").unwrap_err().to_string().contains("\"fast\""));
+        assert!(
+            parse_speed_m_s("fast")
+                .unwrap_err()
+                .to_string()
+                .contains("\"fast\"")
+        );
     }
 
     #[test]
     fn ranges_are_inclusive_and_do_not_drift() {
-        assert_eq!(parse_speed_list_m_s("10:40:5").unwrap(), vec![10.0, 15.0, 20.0, 25.0, 30.0, 35.0, 40.0]);
+        assert_eq!(
+            parse_speed_list_m_s("10:40:5").unwrap(),
+            vec![10.0, 15.0, 20.0, 25.0, 30.0, 35.0, 40.0]
+        );
         let v = parse_speed_list_m_s("36kmh:108kmh:36kmh").unwrap();
         assert_eq!(v.len(), 3);
         assert!((v[2] - 30.0).abs() < 1e-12);
         let v = parse_speed_list_m_s("0.1:1.0:0.1").unwrap();
         assert_eq!(v.len(), 10);
-        assert_eq!(parse_speed_list_m_s("10,20,25").unwrap(), vec![10.0, 20.0, 25.0]);
+        assert_eq!(
+            parse_speed_list_m_s("10,20,25").unwrap(),
+            vec![10.0, 20.0, 25.0]
+        );
         assert!(parse_speed_list_m_s("40:10:5").is_err());
         assert!(parse_speed_list_m_s("10:40:0").is_err());
         assert!(parse_speed_list_m_s("10:40").is_err());

@@ -5,6 +5,7 @@ use std::path::PathBuf;
 use clap::Args as ClapArgs;
 use serde::Serialize;
 
+use roughride::Error;
 use roughride::batch::values::parse_speed_m_s;
 use roughride::comfort::Weighting;
 use roughride::pipeline::{self, RunOptions, RunSummary};
@@ -13,7 +14,6 @@ use roughride::road::iso8608::{RoadClass, RoadSpec, generate};
 use roughride::road::{Profile, read_profile_csv};
 use roughride::solve::{SolverChoice, SolverSettings};
 use roughride::vehicle::{Vehicle, read_vehicle};
-use roughride::Error;
 
 /// Run a vehicle over a road at a constant speed and report ride comfort
 /// (ISO 2631-1) and durability values.
@@ -21,7 +21,9 @@ use roughride::Error;
 /// The road is a measured profile (--profile FILE) or an ISO 8608 road
 /// generated on the fly (--class C --seed N --length L).
 #[derive(Debug, ClapArgs)]
-#[command(after_help = "Examples:\n  roughride simulate --vehicle profiles/vehicles/demo_hatchback.toml --profile profiles/roads/demo_rural_c.csv --speed 72kmh\n  roughride simulate --vehicle car.toml --class D --seed 3 --length 2000 --speed 15 --json")]
+#[command(
+    after_help = "Examples:\n  roughride simulate --vehicle profiles/vehicles/demo_hatchback.toml --profile profiles/roads/demo_rural_c.csv --speed 72kmh\n  roughride simulate --vehicle car.toml --class D --seed 3 --length 2000 --speed 15 --json"
+)]
 pub struct Args {
     /// Vehicle file (TOML).
     #[arg(long, value_name = "FILE")]
@@ -83,8 +85,18 @@ fn parse_weighting(s: &str) -> Result<Weighting, String> {
 #[derive(Debug, Serialize)]
 #[serde(tag = "source", rename_all = "lowercase")]
 enum RoadInfo {
-    File { path: String, samples: usize, spacing_m: f64 },
-    Generated { class: RoadClass, seed: u64, gd_n0: f64, samples: usize, spacing_m: f64 },
+    File {
+        path: String,
+        samples: usize,
+        spacing_m: f64,
+    },
+    Generated {
+        class: RoadClass,
+        seed: u64,
+        gd_n0: f64,
+        samples: usize,
+        spacing_m: f64,
+    },
 }
 
 #[derive(Debug, Serialize)]
@@ -106,8 +118,12 @@ fn load_road(a: &Args) -> Result<(Profile, RoadInfo, Vec<String>), Error> {
         };
         return Ok((p, info, warnings));
     }
-    let class = a.class.ok_or_else(|| Error::Usage("give --profile FILE or --class C --length L".into()))?;
-    let length = a.length.ok_or_else(|| Error::Usage("--class needs --length (m)".into()))?;
+    let class = a
+        .class
+        .ok_or_else(|| Error::Usage("give --profile FILE or --class C --length L".into()))?;
+    let length = a
+        .length
+        .ok_or_else(|| Error::Usage("--class needs --length (m)".into()))?;
     let spec = RoadSpec::from_class(class, length, a.spacing, a.seed);
     let p = generate(&spec)?;
     let info = RoadInfo::Generated {
@@ -179,7 +195,9 @@ fn render(o: &Output<'_>) -> String {
     let s = o.summary;
     let road = match &o.road {
         RoadInfo::File { path, .. } => path.clone(),
-        RoadInfo::Generated { class, seed, .. } => format!("ISO 8608 class {class} road, seed {seed}"),
+        RoadInfo::Generated { class, seed, .. } => {
+            format!("ISO 8608 class {class} road, seed {seed}")
+        }
     };
     let mut out = format!(
         "{} at {} m/s ({} km/h) over {}\n  {:.1} m in {} s, {} solver, {} samples at {} Hz\n\n",
@@ -196,9 +214,22 @@ fn render(o: &Output<'_>) -> String {
         s.solver.samples,
         sig(s.solver.output_rate_hz, 4),
     );
-    let weighting = s.seats.first().map(|x| x.measures.weighting.clone()).unwrap_or_default();
-    let mut seats = Table::new(format!("Seats: vertical acceleration, ISO 2631-1 ({weighting})")).with_header([
-        "seat", "x m", "rms m/s²", "aw m/s²", "VDV m/s^1.75", "MTVV m/s²", "crest",
+    let weighting = s
+        .seats
+        .first()
+        .map(|x| x.measures.weighting.clone())
+        .unwrap_or_default();
+    let mut seats = Table::new(format!(
+        "Seats: vertical acceleration, ISO 2631-1 ({weighting})"
+    ))
+    .with_header([
+        "seat",
+        "x m",
+        "rms m/s²",
+        "aw m/s²",
+        "VDV m/s^1.75",
+        "MTVV m/s²",
+        "crest",
     ]);
     for seat in &s.seats {
         let m = &seat.measures;
@@ -214,9 +245,16 @@ fn render(o: &Output<'_>) -> String {
     }
     out.push_str(&seats.render());
     out.push('\n');
-    let mut axles = Table::new("Axles: dynamic travel (compression +) and road contact").with_header([
-        "axle", "travel rms mm", "min mm", "max mm", "tyre load rms N", "DLC", "off ground %",
-    ]);
+    let mut axles = Table::new("Axles: dynamic travel (compression +) and road contact")
+        .with_header([
+            "axle",
+            "travel rms mm",
+            "min mm",
+            "max mm",
+            "tyre load rms N",
+            "DLC",
+            "off ground %",
+        ]);
     for (name, a) in [("front", &s.axles.front), ("rear", &s.axles.rear)] {
         axles.row([
             name.to_string(),
@@ -231,8 +269,14 @@ fn render(o: &Output<'_>) -> String {
     out.push_str(&axles.render());
     out.push('\n');
     let mut body = Table::new("Body").with_header(["quantity", "rms"]);
-    body.row(["heave acceleration m/s²".to_string(), sig(s.body.heave_accel_rms, 3)]);
-    body.row(["pitch acceleration rad/s²".to_string(), sig(s.body.pitch_accel_rms, 3)]);
+    body.row([
+        "heave acceleration m/s²".to_string(),
+        sig(s.body.heave_accel_rms, 3),
+    ]);
+    body.row([
+        "pitch acceleration rad/s²".to_string(),
+        sig(s.body.pitch_accel_rms, 3),
+    ]);
     body.row(["heave mm".to_string(), sig(s.body.heave_rms * 1e3, 3)]);
     body.row(["pitch mrad".to_string(), sig(s.body.pitch_rms * 1e3, 3)]);
     out.push_str(&body.render());

@@ -80,6 +80,9 @@ pub(super) fn run(
     };
     let mut done = 0usize; // index of the last delivered sample
     while done + 1 < total {
+        if super::cancel_requested() {
+            return Err(SolveError::Interrupted);
+        }
         let count = CHUNK_SAMPLES.min(total - 1 - done);
         let t0 = done as f64 * dt;
         let t1 = (done + count) as f64 * dt;

@@ -105,6 +105,9 @@ pub(super) fn run(
             });
         }
         sink.accept(&sample)?;
+        if k % super::CANCEL_CHECK_SAMPLES == 0 && super::cancel_requested() {
+            return Err(SolveError::Interrupted);
+        }
         if k + 1 < total {
             let i = excitation.at((k + 1) as f64 * dt);
             w_next[0] = i.road.elevation_m[0];

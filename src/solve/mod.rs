@@ -193,7 +193,10 @@ pub fn plan(
 ) -> Result<Plan, SolveError> {
     let bad = |m: String| Err(SolveError::Settings(m));
     if !(settings.output_rate_hz.is_finite() && settings.output_rate_hz > 0.0) {
-        return bad(format!("--rate must be positive, got {}", settings.output_rate_hz));
+        return bad(format!(
+            "--rate must be positive, got {}",
+            settings.output_rate_hz
+        ));
     }
     if !(settings.rtol > 0.0 && settings.rtol < 1.0) {
         return bad(format!("--rtol must be in (0, 1), got {}", settings.rtol));
@@ -202,7 +205,10 @@ pub fn plan(
         return bad(format!("--atol must be positive, got {}", settings.atol));
     }
     if !(excitation.speed_m_s.is_finite() && excitation.speed_m_s > 0.0) {
-        return bad(format!("--speed must be positive, got {} m/s", excitation.speed_m_s));
+        return bad(format!(
+            "--speed must be positive, got {} m/s",
+            excitation.speed_m_s
+        ));
     }
     let (kind, fallback) = match settings.choice {
         SolverChoice::Auto if vehicle.is_linear() => (SolverKind::Exact, true),
@@ -330,6 +336,9 @@ pub enum SolveError {
         /// When.
         time_s: f64,
     },
+    /// The user interrupted the run (Ctrl-C, SIGTERM, SIGHUP).
+    #[error("interrupted; no output file was written")]
+    Interrupted,
     /// The consumer of the samples failed (e.g. a history file write).
     #[error(transparent)]
     Output(#[from] crate::report::ExportError),
@@ -340,10 +349,28 @@ impl SolveError {
     pub fn exit_status(&self) -> u8 {
         match self {
             SolveError::Settings(_) => 2,
+            SolveError::Interrupted => 130,
             _ => 1,
         }
     }
 }
+
+static CANCELLED: std::sync::atomic::AtomicBool = std::sync::atomic::AtomicBool::new(false);
+
+/// Asks every run in progress to stop at its next check (called from the
+/// binary's signal handler). Runs then fail with [`SolveError::Interrupted`],
+/// so their output files are discarded, never left half-written.
+pub fn request_cancel() {
+    CANCELLED.store(true, std::sync::atomic::Ordering::Relaxed);
+}
+
+/// Whether [`request_cancel`] was called.
+pub fn cancel_requested() -> bool {
+    CANCELLED.load(std::sync::atomic::Ordering::Relaxed)
+}
+
+/// Samples between two checks for cancellation in the exact path.
+pub(crate) const CANCEL_CHECK_SAMPLES: usize = 4096;
 
 /// Receives samples in time order. Returning an error stops the run.
 pub trait SampleSink {
@@ -399,7 +426,11 @@ pub(crate) fn instability_hint(vehicle: &Vehicle) -> String {
                     "likely cause: {}.stop_rate ({:.3e} N/m) is far stiffer than the {} ({:.3e} N/m); soften the stop or tighten --rtol",
                     AXLE_NAMES[i],
                     s.rate_n_m,
-                    if axle.tyre.is_some() { "tyre" } else { "spring" },
+                    if axle.tyre.is_some() {
+                        "tyre"
+                    } else {
+                        "spring"
+                    },
                     reference
                 );
             }

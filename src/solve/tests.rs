@@ -85,7 +85,9 @@ impl SampleSink for Recorder {
 fn sine_road(amplitude_m: f64, wavelength_m: f64, length_m: f64, spacing_m: f64) -> Profile {
     let n = (length_m / spacing_m).round() as usize + 1;
     let z = (0..n)
-        .map(|i| amplitude_m * (2.0 * std::f64::consts::PI * i as f64 * spacing_m / wavelength_m).sin())
+        .map(|i| {
+            amplitude_m * (2.0 * std::f64::consts::PI * i as f64 * spacing_m / wavelength_m).sin()
+        })
         .collect();
     Profile::new(0.0, spacing_m, z)
 }
@@ -194,18 +196,43 @@ fn the_wheelbase_filter_zero_shows_in_the_time_domain() {
         let f = speed / wavelength;
         let p = sine_road(0.005, wavelength, 25.0 * speed, 0.005);
         let (want_h, want_p) = analytic_accel(&v, f, speed, 0.005);
-        let (zero, live) = if zero_is_heave { (want_h, want_p) } else { (want_p, want_h) };
-        assert!(zero.norm() < 1e-9 * live.norm(), "analytic zero {zero} vs {live}");
+        let (zero, live) = if zero_is_heave {
+            (want_h, want_p)
+        } else {
+            (want_p, want_h)
+        };
+        assert!(
+            zero.norm() < 1e-9 * live.norm(),
+            "analytic zero {zero} vs {live}"
+        );
         for choice in [SolverChoice::Exact, SolverChoice::Adaptive] {
-            let (rec, _) = simulate(&v, &p, speed, SolverSettings { choice, ..Default::default() });
+            let (rec, _) = simulate(
+                &v,
+                &p,
+                speed,
+                SolverSettings {
+                    choice,
+                    ..Default::default()
+                },
+            );
             let got_h = phasor(&rec.t, &rec.heave_acc, f, 15.0);
             let got_p = phasor(&rec.t, &rec.pitch_acc, f, 15.0);
-            let (got_zero, got_live) = if zero_is_heave { (got_h, got_p) } else { (got_p, got_h) };
+            let (got_zero, got_live) = if zero_is_heave {
+                (got_h, got_p)
+            } else {
+                (got_p, got_h)
+            };
             // The near-zero channel stays below 1 % of the live one, which
             // itself matches the analytic value to 1 %.
-            assert!(got_zero.norm() < 0.01 * live.norm(), "{choice:?} λ={wavelength}: {got_zero}");
+            assert!(
+                got_zero.norm() < 0.01 * live.norm(),
+                "{choice:?} λ={wavelength}: {got_zero}"
+            );
             let err = (got_live - to_sine_phase(live)).norm() / live.norm();
-            assert!(err < 0.01, "{choice:?} λ={wavelength}: live channel err {err}");
+            assert!(
+                err < 0.01,
+                "{choice:?} λ={wavelength}: live channel err {err}"
+            );
         }
     }
 }
@@ -215,13 +242,19 @@ fn rough_road(seed: u64, length_m: f64, spacing_m: f64, rms_m: f64) -> Profile {
     let n = (length_m / spacing_m).round() as usize + 1;
     let mut s = seed;
     let mut rnd = || {
-        s = s.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+        s = s
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
         (s >> 11) as f64 / (1u64 << 53) as f64
     };
     let comps: Vec<(f64, f64, f64)> = (0..40)
         .map(|_| {
             let wavelength = 0.5 + 30.0 * rnd();
-            (wavelength, rms_m * wavelength / 30.0, 2.0 * std::f64::consts::PI * rnd())
+            (
+                wavelength,
+                rms_m * wavelength / 30.0,
+                2.0 * std::f64::consts::PI * rnd(),
+            )
         })
         .collect();
     let z = (0..n)
@@ -244,12 +277,32 @@ fn rms(v: &[f64]) -> f64 {
 fn exact_and_adaptive_agree_on_a_rough_road() {
     let v = half_car();
     let p = rough_road(7, 300.0, 0.05, 0.004);
-    let (a, ia) = simulate(&v, &p, 20.0, SolverSettings { choice: SolverChoice::Adaptive, ..Default::default() });
-    let (e, ie) = simulate(&v, &p, 20.0, SolverSettings { choice: SolverChoice::Exact, ..Default::default() });
+    let (a, ia) = simulate(
+        &v,
+        &p,
+        20.0,
+        SolverSettings {
+            choice: SolverChoice::Adaptive,
+            ..Default::default()
+        },
+    );
+    let (e, ie) = simulate(
+        &v,
+        &p,
+        20.0,
+        SolverSettings {
+            choice: SolverChoice::Exact,
+            ..Default::default()
+        },
+    );
     assert_eq!(ia.solver, SolverKind::Adaptive);
     assert_eq!(ie.solver, SolverKind::Exact);
     assert_eq!(a.t.len(), e.t.len());
-    for (x, y) in [(&a.seat_acc, &e.seat_acc), (&a.travel_f, &e.travel_f), (&a.contact_f, &e.contact_f)] {
+    for (x, y) in [
+        (&a.seat_acc, &e.seat_acc),
+        (&a.travel_f, &e.travel_f),
+        (&a.contact_f, &e.contact_f),
+    ] {
         let diff: Vec<f64> = x.iter().zip(y.iter()).map(|(p, q)| p - q).collect();
         let rel = rms(&diff) / rms(x);
         assert!(rel < 2e-3, "rms difference {rel}");
@@ -263,9 +316,30 @@ fn the_output_grid_does_not_change_the_rms_values() {
     let v = half_car();
     let p = rough_road(3, 600.0, 0.05, 0.004);
     for choice in [SolverChoice::Exact, SolverChoice::Adaptive] {
-        let (fine, _) = simulate(&v, &p, 20.0, SolverSettings { choice, output_rate_hz: 1000.0, ..Default::default() });
-        let (coarse, _) = simulate(&v, &p, 20.0, SolverSettings { choice, output_rate_hz: 250.0, ..Default::default() });
-        for (x, y) in [(&fine.seat_acc, &coarse.seat_acc), (&fine.travel_f, &coarse.travel_f)] {
+        let (fine, _) = simulate(
+            &v,
+            &p,
+            20.0,
+            SolverSettings {
+                choice,
+                output_rate_hz: 1000.0,
+                ..Default::default()
+            },
+        );
+        let (coarse, _) = simulate(
+            &v,
+            &p,
+            20.0,
+            SolverSettings {
+                choice,
+                output_rate_hz: 250.0,
+                ..Default::default()
+            },
+        );
+        for (x, y) in [
+            (&fine.seat_acc, &coarse.seat_acc),
+            (&fine.travel_f, &coarse.travel_f),
+        ] {
             let rel = (rms(x) - rms(y)).abs() / rms(x);
             assert!(rel < 0.01, "{choice:?}: {rel}");
         }
@@ -296,21 +370,51 @@ fn a_tyre_leaving_the_road_hands_the_run_to_the_adaptive_solver() {
     assert_eq!(rec.starts, vec![SolverKind::Exact, SolverKind::Adaptive]);
     let static_front = v.static_contact_n()[0];
     let min = rec.contact_f.iter().cloned().fold(f64::INFINITY, f64::min);
-    assert!((min + static_front).abs() < 1e-6, "contact force never below zero total: {min}");
+    assert!(
+        (min + static_front).abs() < 1e-6,
+        "contact force never below zero total: {min}"
+    );
 }
 
 #[test]
 fn bad_settings_are_refused() {
     let v = half_car();
     let p = rough_road(1, 10.0, 0.05, 0.003);
-    let ex = Excitation { profile: &p, speed_m_s: 0.0, wheelbase_m: v.wheelbase_m(), force: None };
-    assert!(plan(&v, &ex, &SolverSettings::default()).unwrap_err().to_string().contains("--speed"));
-    let ex = Excitation { speed_m_s: 10.0, ..ex };
-    let s = SolverSettings { output_rate_hz: -1.0, ..Default::default() };
+    let ex = Excitation {
+        profile: &p,
+        speed_m_s: 0.0,
+        wheelbase_m: v.wheelbase_m(),
+        force: None,
+    };
+    assert!(
+        plan(&v, &ex, &SolverSettings::default())
+            .unwrap_err()
+            .to_string()
+            .contains("--speed")
+    );
+    let ex = Excitation {
+        speed_m_s: 10.0,
+        ..ex
+    };
+    let s = SolverSettings {
+        output_rate_hz: -1.0,
+        ..Default::default()
+    };
     assert!(plan(&v, &ex, &s).is_err());
     let mut nl = v.clone();
     nl.axles[0].damper.rebound_n_s_m = 5000.0;
-    let s = SolverSettings { choice: SolverChoice::Exact, ..Default::default() };
-    assert!(plan(&nl, &ex, &s).unwrap_err().to_string().contains("linear"));
-    assert_eq!(plan(&nl, &ex, &SolverSettings::default()).unwrap().kind, SolverKind::Adaptive);
+    let s = SolverSettings {
+        choice: SolverChoice::Exact,
+        ..Default::default()
+    };
+    assert!(
+        plan(&nl, &ex, &s)
+            .unwrap_err()
+            .to_string()
+            .contains("linear")
+    );
+    assert_eq!(
+        plan(&nl, &ex, &SolverSettings::default()).unwrap().kind,
+        SolverKind::Adaptive
+    );
 }

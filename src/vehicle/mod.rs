@@ -26,6 +26,8 @@
 //! states are deviations from static equilibrium on the first road sample,
 //! so gravity enters only through the static loads that decide tyre lift-off.
 
+pub mod modal;
+pub mod response;
 mod spec;
 
 pub use spec::{VehicleError, parse_vehicle, read_vehicle};
@@ -347,8 +349,10 @@ impl Vehicle {
         a.view_mut((n, 0), (n, n)).copy_from(&(-&minv * &mats.k));
         a.view_mut((n, n), (n, n)).copy_from(&(-&minv * &mats.c));
         let mut b = DMatrix::zeros(2 * n, 5);
-        b.view_mut((n, 0), (n, 2)).copy_from(&(&minv * &mats.k_road));
-        b.view_mut((n, 2), (n, 2)).copy_from(&(&minv * &mats.c_road));
+        b.view_mut((n, 0), (n, 2))
+            .copy_from(&(&minv * &mats.k_road));
+        b.view_mut((n, 2), (n, 2))
+            .copy_from(&(&minv * &mats.c_road));
         b.view_mut((n, 4), (n, 1))
             .copy_from(&(&minv * self.body_force_input(force_x_m)));
         StateSpace { a, b }

@@ -45,11 +45,7 @@ impl VehicleError {
     /// Exit status for the command line: 2 for bad input, 1 for I/O trouble.
     pub fn exit_status(&self) -> u8 {
         match self {
-            VehicleError::Read { source, .. }
-                if source.kind() != std::io::ErrorKind::NotFound =>
-            {
-                1
-            }
+            VehicleError::Read { source, .. } if source.kind() != std::io::ErrorKind::NotFound => 1,
             _ => 2,
         }
     }
@@ -206,10 +202,16 @@ impl Validator<'_> {
                 ));
             }
             (None, Some(_), None) => {
-                return Err(self.invalid(&key("damping_rebound"), "is missing: damping_bump needs damping_rebound"));
+                return Err(self.invalid(
+                    &key("damping_rebound"),
+                    "is missing: damping_bump needs damping_rebound",
+                ));
             }
             (None, None, Some(_)) => {
-                return Err(self.invalid(&key("damping_bump"), "is missing: damping_rebound needs damping_bump"));
+                return Err(self.invalid(
+                    &key("damping_bump"),
+                    "is missing: damping_rebound needs damping_bump",
+                ));
             }
             (None, None, None) => {
                 return Err(self.invalid(
@@ -218,21 +220,28 @@ impl Validator<'_> {
                 ));
             }
         };
-        let unsprung = self.non_negative(&key("unsprung_mass"), raw.unsprung_mass.unwrap_or(0.0))?;
+        let unsprung =
+            self.non_negative(&key("unsprung_mass"), raw.unsprung_mass.unwrap_or(0.0))?;
         let tyre = if unsprung > 0.0 {
             let rate = raw.tyre_rate.ok_or_else(|| {
                 self.invalid(
                     &key("tyre_rate"),
-                    format!("is missing: it is required when unsprung_mass is given ({unsprung} kg)"),
+                    format!(
+                        "is missing: it is required when unsprung_mass is given ({unsprung} kg)"
+                    ),
                 )
             })?;
             Some(Tyre {
                 unsprung_mass_kg: unsprung,
                 rate_n_m: self.positive(&key("tyre_rate"), rate)?,
-                damping_n_s_m: self.non_negative(&key("tyre_damping"), raw.tyre_damping.unwrap_or(0.0))?,
+                damping_n_s_m: self
+                    .non_negative(&key("tyre_damping"), raw.tyre_damping.unwrap_or(0.0))?,
             })
         } else {
-            for (k, v) in [("tyre_rate", raw.tyre_rate), ("tyre_damping", raw.tyre_damping)] {
+            for (k, v) in [
+                ("tyre_rate", raw.tyre_rate),
+                ("tyre_damping", raw.tyre_damping),
+            ] {
                 if v.is_some() {
                     return Err(self.invalid(
                         &key(k),
@@ -245,7 +254,10 @@ impl Validator<'_> {
         let stops = match (raw.bump_clearance, raw.rebound_clearance, raw.stop_rate) {
             (None, None, None) => None,
             (_, _, None) => {
-                return Err(self.invalid(&key("stop_rate"), "is missing: a clearance needs a stop_rate (N/m)"));
+                return Err(self.invalid(
+                    &key("stop_rate"),
+                    "is missing: a clearance needs a stop_rate (N/m)",
+                ));
             }
             (None, None, Some(_)) => {
                 return Err(self.invalid(
@@ -254,8 +266,12 @@ impl Validator<'_> {
                 ));
             }
             (b, r, Some(rate)) => Some(Stops {
-                bump_clearance_m: b.map(|b| self.positive(&key("bump_clearance"), b)).transpose()?,
-                rebound_clearance_m: r.map(|r| self.positive(&key("rebound_clearance"), r)).transpose()?,
+                bump_clearance_m: b
+                    .map(|b| self.positive(&key("bump_clearance"), b))
+                    .transpose()?,
+                rebound_clearance_m: r
+                    .map(|r| self.positive(&key("rebound_clearance"), r))
+                    .transpose()?,
                 rate_n_m: self.positive(&key("stop_rate"), rate)?,
             }),
         };
@@ -317,18 +333,36 @@ x = 0.35
 
     #[test]
     fn names_the_key_and_the_problem() {
-        expect_error(&CAR.replace("mass = 1250.0", "mass = -1.0"), "`body.mass` must be positive");
-        expect_error(&CAR.replacen("tyre_rate = 420000.0\n", "", 1), "`front.tyre_rate` is missing");
-        expect_error(&CAR.replace("[[seat]]\nx = 0.35\n", ""), "`seat` is missing");
-        expect_error(&CAR.replace("damping = 2900.0", "dampng = 2900.0"), "unknown field");
+        expect_error(
+            &CAR.replace("mass = 1250.0", "mass = -1.0"),
+            "`body.mass` must be positive",
+        );
+        expect_error(
+            &CAR.replacen("tyre_rate = 420000.0\n", "", 1),
+            "`front.tyre_rate` is missing",
+        );
+        expect_error(
+            &CAR.replace("[[seat]]\nx = 0.35\n", ""),
+            "`seat` is missing",
+        );
+        expect_error(
+            &CAR.replace("damping = 2900.0", "dampng = 2900.0"),
+            "unknown field",
+        );
         expect_error(
             &CAR.replace("damping = 2900.0", "damping = 2900.0\ndamping_bump = 1.0"),
             "`rear.damping` cannot be combined",
         );
         expect_error(
-            &CAR.replace("damping = 2900.0", "damping = 2900.0\nbump_clearance = 0.05"),
+            &CAR.replace(
+                "damping = 2900.0",
+                "damping = 2900.0\nbump_clearance = 0.05",
+            ),
             "`rear.stop_rate` is missing",
         );
-        expect_error(&CAR.replace("cg_distance = 1.45", "cg_distance = nan"), "finite");
+        expect_error(
+            &CAR.replace("cg_distance = 1.45", "cg_distance = nan"),
+            "finite",
+        );
     }
 }

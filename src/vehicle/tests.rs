@@ -75,7 +75,9 @@ fn undamped_hz(v: &Vehicle) -> Vec<f64> {
     let sym = &s * &m.k * &s;
     let mut w2: Vec<f64> = sym.symmetric_eigen().eigenvalues.iter().copied().collect();
     w2.sort_by(f64::total_cmp);
-    w2.iter().map(|x| x.sqrt() / (2.0 * std::f64::consts::PI)).collect()
+    w2.iter()
+        .map(|x| x.sqrt() / (2.0 * std::f64::consts::PI))
+        .collect()
 }
 
 #[test]
@@ -140,7 +142,9 @@ fn the_element_model_equals_the_state_space_form_while_linear() {
         let ss = v.state_space(force_x);
         let mut seed = 12345u64;
         let mut rnd = || {
-            seed = seed.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+            seed = seed
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
             ((seed >> 11) as f64 / (1u64 << 53) as f64) - 0.5
         };
         for _ in 0..20 {
@@ -172,7 +176,10 @@ fn the_element_model_equals_the_state_space_form_while_linear() {
             ]);
             let xd = &ss.a * &x + &ss.b * &u;
             for j in 0..n {
-                assert!((xd[n + j] - qdd[j]).abs() < 1e-9 * (1.0 + qdd[j].abs()), "dof {j}");
+                assert!(
+                    (xd[n + j] - qdd[j]).abs() < 1e-9 * (1.0 + qdd[j].abs()),
+                    "dof {j}"
+                );
             }
         }
     }

@@ -67,7 +67,10 @@ pub fn python_reference(script: &str, input: &serde_json::Value) -> Option<serde
         );
     }
     Some(serde_json::from_slice(&out.stdout).unwrap_or_else(|e| {
-        panic!("{script} printed no JSON ({e}): {}", String::from_utf8_lossy(&out.stdout))
+        panic!(
+            "{script} printed no JSON ({e}): {}",
+            String::from_utf8_lossy(&out.stdout)
+        )
     }))
 }
 
