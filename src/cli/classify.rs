@@ -187,7 +187,11 @@ fn bands_table(c: &Classification) -> Table {
 fn segments_table(segs: &[Segment]) -> Table {
     let mut t = Table::new("IRI per segment").with_header(["start m", "end m", "IRI m/km"]);
     for s in segs {
-        t.row([sig(s.start_m, 6), sig(s.end_m, 6), sig(s.iri_m_per_km, 3)]);
+        t.row([
+            format!("{:.2}", s.start_m),
+            format!("{:.2}", s.end_m),
+            sig(s.iri_m_per_km, 3),
+        ]);
     }
     t
 }

@@ -13,9 +13,11 @@
 //!
 //! As in the standard, the model is run on slopes: the input is the profile
 //! smoothed by a 250 mm moving average, taken as the slope over one base
-//! length, `(y[i+k] − y[i])/(k·Δ)`, `k = max(1, round(0.25/Δ))`, constant over
-//! each sample interval; the states are then the model's velocities divided
-//! by the speed `V`. The state transition over one interval `Δ/V` is exact
+//! length, `(y[i+k] − y[i])/(k·Δ)`, `k = max(1, round(0.25/Δ))` with halves
+//! rounded away from zero (Fortran `NINT`, as in the TP 46 program; from
+//! memory), so a spacing that does not divide 250 mm uses the nearest base
+//! (0.1 m → 3 samples, 0.3 m), held constant over each sample interval; the
+//! states are then the model's velocities divided by the speed `V`. The state transition over one interval `Δ/V` is exact
 //! for that piecewise-constant input (zero-order hold): `ST = e^{A·dt}` and
 //! `PR = ∫₀^dt e^{Aτ}dτ·B`, both from the exponential of the augmented 5×5
 //! matrix `[[A, B], [0, 0]]·dt` (Van Loan's method).
@@ -264,6 +266,45 @@ mod tests {
             assert!(
                 (got / want - 1.0).abs() < 0.01,
                 "λ = {lambda} m: {got} vs analytic {want}"
+            );
+        }
+    }
+
+    #[test]
+    fn random_road_iri_matches_linear_random_vibration_theory() {
+        // Input–output PSD relation of a linear system (Newland, An
+        // Introduction to Random Vibrations, ch. 7): the stroke rate / V has
+        // variance σ² = ∫ |2πn·G(j2πnV)·sinc(0.25n)|²·Gd(n) dn, and for a
+        // Gaussian process the mean of |x| is √(2/π)·σ. The synthetic road is
+        // a sum of thousands of random-phase cosines, close to Gaussian.
+        use crate::road::iso8608::{RoadClass, RoadSpec, generate};
+        for (class, seed) in [(RoadClass::B, 1), (RoadClass::D, 2)] {
+            let spec = RoadSpec::from_class(class, 5000.0, 0.05, seed);
+            let p = generate(&spec).unwrap();
+            let (a, b) = (spec.n_min_cycle_m.ln(), spec.n_max_cycle_m.ln());
+            let steps = 20_000;
+            let h = (b - a) / steps as f64;
+            let var: f64 = (0..=steps)
+                .map(|i| {
+                    let n = (a + i as f64 * h).exp();
+                    let u = PI * BASE_M * n;
+                    let gain = 2.0
+                        * PI
+                        * n
+                        * stroke_per_elevation(2.0 * PI * n * SPEED_M_S).norm()
+                        * u.sin()
+                        / u;
+                    let w = if i == 0 || i == steps { 0.5 } else { 1.0 };
+                    // dn = n·d(ln n)
+                    w * gain * gain * spec.gd_m3(n) * n
+                })
+                .sum::<f64>()
+                * h;
+            let want = 1000.0 * (2.0 / PI).sqrt() * var.sqrt();
+            let got = iri_m_per_km(&p).unwrap();
+            assert!(
+                (got / want - 1.0).abs() < 0.02,
+                "class {class}: {got} vs theory {want}"
             );
         }
     }

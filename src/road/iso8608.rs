@@ -519,6 +519,97 @@ mod tests {
         }
     }
 
+    /// Mean Welch PSD in the octave bands centred 1/32 … 2 cycle/m against
+    /// the ISO 8608 target, the band mean of Gd(n) = Gd(n0)(n/n0)^−2.
+    fn worst_band_error(spec: &RoadSpec) -> f64 {
+        let p = generate(spec).unwrap();
+        let s = crate::road::psd::welch_psd(&p, 8192).unwrap();
+        let mut worst: f64 = 0.0;
+        for j in -5..=1 {
+            let b = s.octave_band(2f64.powi(j)).unwrap();
+            let (lo, hi) = (b.lower_cycle_m, b.upper_cycle_m.min(spec.n_max_cycle_m));
+            let target = spec.band_power_m2(lo, hi) / (hi - lo);
+            let e = b.mean_gd_m3 / target - 1.0;
+            if e.abs() > worst.abs() {
+                worst = e;
+            }
+        }
+        worst
+    }
+
+    #[test]
+    fn octave_band_psd_follows_the_iso_8608_target() {
+        // ISO 8608: Gd(n) = Gd(n0)(n/n0)^−2; every octave band between 0.02
+        // and 2 cycle/m within ±25 % (Welch estimate, 10 km at 0.1 m).
+        for (class, seed) in [
+            (RoadClass::B, 1),
+            (RoadClass::D, 2),
+            (RoadClass::F, 3),
+            (RoadClass::H, 4),
+        ] {
+            for random_amplitudes in [false, true] {
+                let mut spec = RoadSpec::from_class(class, 10_000.0, 0.1, seed);
+                spec.random_amplitudes = random_amplitudes;
+                let e = worst_band_error(&spec);
+                assert!(
+                    e.abs() < 0.25,
+                    "class {class} seed {seed} random {random_amplitudes}: worst band error {e:+.3}"
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn random_amplitudes_vary_the_rms_deterministic_ones_do_not() {
+        // Deterministic amplitudes fix the variance at the band integral for
+        // every seed; Rayleigh amplitudes make it a random variable (chi-square
+        // over the cells), so seeds disagree.
+        let rms = |seed, random| {
+            let mut s = RoadSpec::from_class(RoadClass::C, 1000.0, 0.1, seed);
+            s.random_amplitudes = random;
+            generate(&s).unwrap().rms_m() / s.band_rms_m()
+        };
+        let fixed: Vec<f64> = (1..6).map(|k| rms(k, false)).collect();
+        let random: Vec<f64> = (1..6).map(|k| rms(k, true)).collect();
+        let spread = |v: &[f64]| {
+            v.iter().cloned().fold(f64::MIN, f64::max) - v.iter().cloned().fold(f64::MAX, f64::min)
+        };
+        assert!(spread(&fixed) < 1e-3, "{fixed:?}");
+        assert!(spread(&random) > 0.01, "{random:?}");
+    }
+
+    #[test]
+    fn band_edges_hold_no_power_outside_the_band() {
+        // Periodic profile: the DFT of one period shows each cell exactly, so
+        // cells wholly outside [n_min, n_max] must be empty (to rounding).
+        let mut spec = RoadSpec::from_class(RoadClass::D, 400.0, 0.05, 3);
+        spec.n_min_cycle_m = 0.1;
+        spec.n_max_cycle_m = 1.0;
+        let p = generate(&spec).unwrap();
+        let m = p.len() - 1;
+        let mut buf: Vec<Complex64> = p.elevation_m[..m]
+            .iter()
+            .map(|z| Complex64::new(*z, 0.0))
+            .collect();
+        FftPlannerScalar::new()
+            .plan_fft_forward(m)
+            .process(&mut buf);
+        let dn = 1.0 / (m as f64 * spec.spacing_m);
+        let peak = buf.iter().map(|c| c.norm()).fold(0.0, f64::max);
+        for (k, c) in buf.iter().enumerate().take(m / 2).skip(1) {
+            let n = k as f64 * dn;
+            if n + 0.5 * dn < spec.n_min_cycle_m || n - 0.5 * dn > spec.n_max_cycle_m {
+                assert!(
+                    c.norm() < 1e-9 * peak,
+                    "cell {k} at {n} cycle/m: {}",
+                    c.norm()
+                );
+            } else {
+                assert!(c.norm() > 1e-3 * peak, "cell {k} at {n} cycle/m is empty");
+            }
+        }
+    }
+
     #[test]
     fn band_power_of_other_waviness_matches_numerical_integration() {
         // Check the closed form against a fine trapezoid rule (w ≠ 1, 2 and w = 1).

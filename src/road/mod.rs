@@ -122,7 +122,13 @@ impl Profile {
     pub fn rms_m(&self) -> f64 {
         let n = self.len() as f64;
         let mean = self.elevation_m.iter().sum::<f64>() / n;
-        (self.elevation_m.iter().map(|z| (z - mean).powi(2)).sum::<f64>() / n).sqrt()
+        (self
+            .elevation_m
+            .iter()
+            .map(|z| (z - mean).powi(2))
+            .sum::<f64>()
+            / n)
+            .sqrt()
     }
 }
 
@@ -138,7 +144,9 @@ pub enum ProfileError {
         source: std::io::Error,
     },
     /// The header row lacks a required column.
-    #[error("{path}: line 1: missing column `{column}` (the header must name distance_m and elevation_m)")]
+    #[error(
+        "{path}: line 1: missing column `{column}` (the header must name distance_m and elevation_m)"
+    )]
     MissingColumn {
         /// The profile file.
         path: PathBuf,
