@@ -178,6 +178,16 @@ pub fn run(a: Args) -> Result<(), Error> {
     if let Some(f) = &summary.solver.fallback {
         eprintln!("roughride: note: {f}");
     }
+    for (axle, pulls) in ["front", "rear"]
+        .iter()
+        .zip(summary.solver.bonded_pull_samples)
+    {
+        if pulls > 0 {
+            eprintln!(
+                "roughride: warning: the exact solver keeps tyres bonded to the road; the {axle} tyre pulled on the road in {pulls} samples, where a real tyre would have lifted off (use --solver auto or adaptive for that)"
+            );
+        }
+    }
     let out = Output {
         summary: &summary,
         road,

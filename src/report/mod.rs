@@ -60,6 +60,16 @@ impl AtomicFile {
             .tempfile_in(dir)
             .map_err(|e| io_error(path, e))?;
         let (file, tmp_path) = tmp.into_parts();
+        // Temporary files are created private (0600); give the result the
+        // permissions of the file it replaces, or the usual 0644.
+        #[cfg(unix)]
+        {
+            use std::os::unix::fs::PermissionsExt;
+            let perms = std::fs::metadata(path)
+                .map(|m| m.permissions())
+                .unwrap_or_else(|_| std::fs::Permissions::from_mode(0o644));
+            file.set_permissions(perms).map_err(|e| io_error(path, e))?;
+        }
         Ok(AtomicFile {
             target: path.to_path_buf(),
             writer: io::BufWriter::with_capacity(1 << 16, file),

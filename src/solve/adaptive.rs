@@ -16,7 +16,7 @@ use super::{
     Excitation, Plan, RunInfo, Sample, SampleSink, SolveError, SolverKind, all_finite,
     instability_hint, sample_count,
 };
-use crate::vehicle::{MAX_DOF, Vehicle};
+use crate::vehicle::{Contact, MAX_DOF, Vehicle};
 
 type State = SVector<f64, { 2 * MAX_DOF }>;
 
@@ -69,7 +69,14 @@ pub(super) fn run(
         (q, qd)
     };
     let (q0, qd0) = split(&y);
-    sink.accept(&Sample::at(vehicle, excitation, 0.0, q0, qd0))?;
+    sink.accept(&Sample::at(
+        vehicle,
+        excitation,
+        0.0,
+        q0,
+        qd0,
+        Contact::LiftOff,
+    ))?;
     let mut info = RunInfo {
         solver: SolverKind::Adaptive,
         samples: 1,
@@ -77,6 +84,7 @@ pub(super) fn run(
         steps_accepted: 0,
         steps_rejected: 0,
         fallback: None,
+        bonded_pull_samples: [0; 2],
     };
     let mut done = 0usize; // index of the last delivered sample
     while done + 1 < total {
@@ -144,7 +152,7 @@ pub(super) fn run(
                 });
             }
             let (q, qd) = split(state);
-            sink.accept(&Sample::at(vehicle, excitation, t, q, qd))?;
+            sink.accept(&Sample::at(vehicle, excitation, t, q, qd, Contact::LiftOff))?;
         }
         y = ys[count];
         done += count;

@@ -26,7 +26,7 @@ mod exact;
 use thiserror::Error;
 
 use crate::road::Profile;
-use crate::vehicle::{AXLE_NAMES, ElementState, MAX_DOF, RoadState, Vehicle};
+use crate::vehicle::{AXLE_NAMES, Contact, ElementState, MAX_DOF, RoadState, Vehicle};
 
 /// Default output rate, Hz: 1 kHz resolves wheel hop (10–15 Hz) and the
 /// ISO 2631-1 weightings up to their 100 Hz band limit.
@@ -249,7 +249,7 @@ pub struct Sample {
 }
 
 impl Sample {
-    /// Builds the sample for state `(q, q̇)` at `t_s`.
+    /// Builds the sample for state `(q, q̇)` at `t_s` under `contact`.
     #[inline]
     pub fn at(
         vehicle: &Vehicle,
@@ -257,15 +257,17 @@ impl Sample {
         time_s: f64,
         q: [f64; MAX_DOF],
         qd: [f64; MAX_DOF],
+        contact: Contact,
     ) -> Sample {
         let inputs = excitation.at(time_s);
         let mut qdd = [0.0; MAX_DOF];
-        let elements = vehicle.evaluate(
+        let elements = vehicle.evaluate_with(
             &q,
             &qd,
             &inputs.road,
             inputs.force_n,
             excitation.force_x_m(),
+            contact,
             &mut qdd,
         );
         Sample {
@@ -300,6 +302,10 @@ pub struct RunInfo {
     pub steps_rejected: u64,
     /// Why the exact path handed over to the adaptive one, if it did.
     pub fallback: Option<String>,
+    /// Samples in which a tyre of the linear model pulled on the road
+    /// (front, rear): non-zero only for `--solver exact`, whose linear model
+    /// keeps the tyre bonded; the physical model would have lifted it.
+    pub bonded_pull_samples: [u64; 2],
 }
 
 /// A run could not be completed.
@@ -326,10 +332,9 @@ pub enum SolveError {
         /// The likely cause.
         hint: String,
     },
-    /// A tyre left the road during an exact (linear) run.
-    #[error(
-        "the {axle} tyre left the road at t = {time_s:.4} s; the exact solver holds only while both tyres touch the road: use --solver adaptive (or auto)"
-    )]
+    /// A tyre left the road during an exact (linear) run under `auto`
+    /// (handled by re-running adaptively; never reaches the user).
+    #[error("the {axle} tyre left the road at t = {time_s:.4} s")]
     LiftOff {
         /// Which axle.
         axle: &'static str,

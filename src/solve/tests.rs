@@ -377,6 +377,30 @@ fn a_tyre_leaving_the_road_hands_the_run_to_the_adaptive_solver() {
 }
 
 #[test]
+fn the_forced_exact_solver_keeps_the_tyre_bonded_and_counts_the_pulls() {
+    let v = half_car();
+    let mut z = vec![0.0; 2001];
+    for zi in z.iter_mut().skip(1000) {
+        *zi = -0.15;
+    }
+    let p = Profile::new(0.0, 0.05, z);
+    let (rec, info) = simulate(
+        &v,
+        &p,
+        25.0,
+        SolverSettings {
+            choice: SolverChoice::Exact,
+            ..Default::default()
+        },
+    );
+    assert_eq!(info.solver, SolverKind::Exact);
+    assert!(info.bonded_pull_samples[0] > 0);
+    // The linear model lets the contact force go below −static load.
+    let min = rec.contact_f.iter().cloned().fold(f64::INFINITY, f64::min);
+    assert!(min < -v.static_contact_n()[0], "{min}");
+}
+
+#[test]
 fn bad_settings_are_refused() {
     let v = half_car();
     let p = rough_road(1, 10.0, 0.05, 0.003);

@@ -190,6 +190,15 @@ pub struct RoadState {
     pub rate_m_s: [f64; 2],
 }
 
+/// How the road contact behaves when the tyre would have to pull.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Contact {
+    /// The physical model: a tyre cannot pull, so it leaves the road.
+    LiftOff,
+    /// The linear model: the tyre stays bonded to the road and may pull.
+    Bonded,
+}
+
 /// Element forces and kinematics at one instant.
 #[derive(Debug, Clone, Copy, Default, PartialEq)]
 pub struct ElementState {
@@ -373,6 +382,26 @@ impl Vehicle {
         force_x_m: f64,
         qdd: &mut [f64; MAX_DOF],
     ) -> ElementState {
+        self.evaluate_with(q, qd, road, force_n, force_x_m, Contact::LiftOff, qdd)
+    }
+
+    /// [`Vehicle::evaluate`] with a choice of contact model. With
+    /// [`Contact::Bonded`] the contact force may pull (the linear model);
+    /// `in_contact` then reports whether the tyre *would* have stayed on
+    /// the road.
+    #[inline]
+    #[allow(clippy::too_many_arguments)]
+    pub fn evaluate_with(
+        &self,
+        q: &[f64; MAX_DOF],
+        qd: &[f64; MAX_DOF],
+        road: &RoadState,
+        force_n: f64,
+        force_x_m: f64,
+        contact_model: Contact,
+        qdd: &mut [f64; MAX_DOF],
+    ) -> ElementState {
+        let lift_off = contact_model == Contact::LiftOff;
         let static_s = self.static_suspension_n();
         let static_c = self.static_contact_n();
         let mass = self.mass_diagonal();
@@ -401,8 +430,10 @@ impl Vehicle {
                         + t.damping_n_s_m * (road.rate_m_s[i] - qd[w]);
                     // A tyre cannot pull on the road: total force ≥ 0.
                     if ft + static_c[i] < 0.0 {
-                        ft = -static_c[i];
                         contact = false;
+                        if lift_off {
+                            ft = -static_c[i];
+                        }
                     }
                     qdd[w] = (ft - fs) / mass[w];
                     out.contact_n[i] = ft;
@@ -410,8 +441,10 @@ impl Vehicle {
                 _ => {
                     // Without a wheel the suspension itself rests on the road.
                     if fs + static_s[i] < 0.0 {
-                        fs = -static_s[i];
                         contact = false;
+                        if lift_off {
+                            fs = -static_s[i];
+                        }
                     }
                     out.contact_n[i] = fs;
                 }
