@@ -1,0 +1,246 @@
+//! One output row per sweep case, as CSV or as a JSON object on one line
+//! (JSON Lines), with the same keys in the same order.
+//!
+//! # Columns
+//! `case,vehicle,road,class,speed_m_s,seed,seat_aw`, then per seat `i`
+//! (1-based, in vehicle-file order) `seat{i}_aw,seat{i}_vdv,seat{i}_mtvv,
+//! seat{i}_crest_factor`, then per axle (`front`, `rear`)
+//! `travel_rms_{axle}_m,travel_min_{axle}_m,travel_max_{axle}_m,
+//! tyre_load_rms_{axle}_n,dynamic_load_coefficient_{axle},
+//! time_off_ground_fraction_{axle}`, then `heave_accel_rms_m_s2,
+//! pitch_accel_rms_rad_s2,duration_s,length_m,solver`.
+//!
+//! `seat_aw` is the first seat's aw (the contract's key), m/s²; aw, MTVV in
+//! m/s², VDV in m/s^1.75 (ISO 2631-1). `vehicle` is the vehicle file as
+//! given; `road` the class letter or the profile file as given; `class` and
+//! `seed` are empty (JSON `null`) for a profile file. A vehicle with fewer
+//! seats than the sweep's largest leaves the extra seat cells empty.
+//!
+//! # Numbers
+//! CSV cells use Rust's `{}` for `f64`: the shortest decimal that reads back
+//! to the same binary value, never an exponent, independent of platform and
+//! locale. JSON numbers are serde_json's shortest round-trip form. Either way
+//! a value parsed from a row equals the run's value exactly.
+
+use std::fmt::Write as _;
+
+use crate::pipeline::{AxleSummary, RunSummary};
+use crate::solve::SolverKind;
+
+use super::grid::{Case, Grid};
+
+/// One cell of a row.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Cell {
+    /// A whole number.
+    Int(u64),
+    /// A real number.
+    Num(f64),
+    /// Text.
+    Text(String),
+    /// No value (CSV empty, JSON null).
+    Empty,
+}
+
+/// The column names of a sweep whose vehicles have at most `seats` seats.
+pub fn columns(seats: usize) -> Vec<String> {
+    let mut c: Vec<String> = ["case", "vehicle", "road", "class", "speed_m_s", "seed", "seat_aw"]
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
+    for i in 1..=seats {
+        for m in ["aw", "vdv", "mtvv", "crest_factor"] {
+            c.push(format!("seat{i}_{m}"));
+        }
+    }
+    for a in ["front", "rear"] {
+        c.push(format!("travel_rms_{a}_m"));
+        c.push(format!("travel_min_{a}_m"));
+        c.push(format!("travel_max_{a}_m"));
+        c.push(format!("tyre_load_rms_{a}_n"));
+        c.push(format!("dynamic_load_coefficient_{a}"));
+        c.push(format!("time_off_ground_fraction_{a}"));
+    }
+    for s in ["heave_accel_rms_m_s2", "pitch_accel_rms_rad_s2", "duration_s", "length_m", "solver"] {
+        c.push(s.to_string());
+    }
+    c
+}
+
+/// The largest seat count over the grid's vehicles.
+pub fn max_seats(grid: &Grid) -> usize {
+    grid.vehicles.iter().map(|v| v.vehicle.seats.len()).max().unwrap_or(0)
+}
+
+/// The cells of one case's row, in [`columns`] order.
+pub fn cells(grid: &Grid, case: &Case, s: &RunSummary, seats: usize) -> Vec<Cell> {
+    let road = &grid.roads[case.road];
+    let mut r = vec![
+        Cell::Int(case.index as u64),
+        Cell::Text(grid.vehicles[case.vehicle].file.clone()),
+        Cell::Text(road.label()),
+        road.class().map_or(Cell::Empty, |c| Cell::Text(c.to_string())),
+        Cell::Num(case.speed_m_s),
+        case.seed.map_or(Cell::Empty, Cell::Int),
+        s.seats.first().map_or(Cell::Empty, |x| Cell::Num(x.measures.aw)),
+    ];
+    for i in 0..seats {
+        match s.seats.get(i) {
+            Some(x) => {
+                let m = &x.measures;
+                r.extend([m.aw, m.vdv, m.mtvv, m.crest_factor].map(Cell::Num));
+            }
+            None => r.extend(std::iter::repeat_n(Cell::Empty, 4)),
+        }
+    }
+    for a in [&s.axles.front, &s.axles.rear] {
+        r.extend(axle_cells(a));
+    }
+    r.extend([
+        Cell::Num(s.body.heave_accel_rms),
+        Cell::Num(s.body.pitch_accel_rms),
+        Cell::Num(s.duration_s),
+        Cell::Num(s.length_m),
+        Cell::Text(
+            match s.solver.solver {
+                SolverKind::Exact => "exact",
+                SolverKind::Adaptive => "adaptive",
+            }
+            .to_string(),
+        ),
+    ]);
+    r
+}
+
+fn axle_cells(a: &AxleSummary) -> [Cell; 6] {
+    [
+        a.travel_rms,
+        a.travel_min,
+        a.travel_max,
+        a.tyre_load_rms,
+        a.dynamic_load_coefficient,
+        a.time_off_ground_fraction,
+    ]
+    .map(Cell::Num)
+}
+
+/// Quotes a CSV field when it holds a comma, quote or line break (RFC 4180).
+pub fn csv_field(text: &str) -> String {
+    if text.contains([',', '"', '\n', '\r']) {
+        format!("\"{}\"", text.replace('"', "\"\""))
+    } else {
+        text.to_string()
+    }
+}
+
+/// The CSV header line (with newline).
+pub fn csv_header(columns: &[String]) -> String {
+    let mut s = columns.iter().map(|c| csv_field(c)).collect::<Vec<_>>().join(",");
+    s.push('\n');
+    s
+}
+
+/// One CSV line (with newline).
+pub fn csv_line(cells: &[Cell]) -> String {
+    let mut s = String::with_capacity(512);
+    for (i, c) in cells.iter().enumerate() {
+        if i > 0 {
+            s.push(',');
+        }
+        match c {
+            Cell::Int(v) => {
+                let _ = write!(s, "{v}");
+            }
+            Cell::Num(v) => {
+                let _ = write!(s, "{v}");
+            }
+            Cell::Text(t) => s.push_str(&csv_field(t)),
+            Cell::Empty => {}
+        }
+    }
+    s.push('\n');
+    s
+}
+
+/// One JSON object on one line (with newline), keys in column order.
+pub fn json_line(columns: &[String], cells: &[Cell]) -> String {
+    let mut s = String::with_capacity(1024);
+    s.push('{');
+    for (i, (k, c)) in columns.iter().zip(cells).enumerate() {
+        if i > 0 {
+            s.push(',');
+        }
+        s.push_str(&json_string(k));
+        s.push(':');
+        match c {
+            Cell::Int(v) => {
+                let _ = write!(s, "{v}");
+            }
+            // serde_json writes non-finite numbers as null.
+            Cell::Num(v) => s.push_str(&serde_json::Value::from(*v).to_string()),
+            Cell::Text(t) => s.push_str(&json_string(t)),
+            Cell::Empty => s.push_str("null"),
+        }
+    }
+    s.push_str("}\n");
+    s
+}
+
+fn json_string(t: &str) -> String {
+    serde_json::Value::from(t).to_string()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn csv_fields_are_quoted_only_when_needed() {
+        // RFC 4180 section 2: fields holding commas, quotes or line breaks are
+        // enclosed in quotes, and quotes inside are doubled.
+        assert_eq!(csv_field("plain.toml"), "plain.toml");
+        assert_eq!(csv_field("a,b"), "\"a,b\"");
+        assert_eq!(csv_field("say \"hi\""), "\"say \"\"hi\"\"\"");
+        let line = csv_line(&[Cell::Int(3), Cell::Text("x,y".into()), Cell::Empty, Cell::Num(0.1)]);
+        assert_eq!(line, "3,\"x,y\",,0.1\n");
+        // The csv crate (a general-purpose reader) reads the fields back.
+        let mut rdr = csv::ReaderBuilder::new().has_headers(false).from_reader(line.as_bytes());
+        let rec = rdr.records().next().unwrap().unwrap();
+        assert_eq!(rec.iter().collect::<Vec<_>>(), vec!["3", "x,y", "", "0.1"]);
+    }
+
+    #[test]
+    fn numbers_read_back_exactly() {
+        let values = [0.1 + 0.2, 1.0 / 3.0, 1e-300, 6.02e23, -0.0, 12.5, 2.0f64.sqrt() * 1e-7];
+        let cells: Vec<Cell> = values.iter().map(|v| Cell::Num(*v)).collect();
+        let line = csv_line(&cells);
+        assert!(!line.contains('e'), "no exponent in CSV: {line}");
+        for (text, v) in line.trim_end().split(',').zip(values) {
+            assert_eq!(text.parse::<f64>().unwrap().to_bits(), v.to_bits(), "{text}");
+        }
+        // JSON: serde_json writes the shortest round-trip form (ryu); read the
+        // number text back with Rust's correctly rounded parser (serde_json's
+        // own default parser may miss by an ulp).
+        let cols: Vec<String> = (0..values.len()).map(|i| format!("c{i}")).collect();
+        let line = json_line(&cols, &cells);
+        let body = line.trim_end().trim_start_matches('{').trim_end_matches('}');
+        for ((pair, k), v) in body.split(',').zip(&cols).zip(values) {
+            let (key, text) = pair.split_once(':').unwrap();
+            assert_eq!(key, format!("\"{k}\""));
+            assert_eq!(text.parse::<f64>().unwrap().to_bits(), v.to_bits(), "{k}: {text}");
+        }
+    }
+
+    #[test]
+    fn the_header_holds_the_contract_columns() {
+        // shared/interface.md: the header includes class,speed_m_s,seed,seat_aw.
+        let c = columns(2);
+        for key in ["class", "speed_m_s", "seed", "seat_aw", "seat2_mtvv", "travel_rms_rear_m"] {
+            assert!(c.iter().any(|x| x == key), "{key}");
+        }
+        let json: serde_json::Value =
+            serde_json::from_str(&json_line(&["class".into(), "seed".into()], &[Cell::Empty, Cell::Int(2)])).unwrap();
+        assert!(json["class"].is_null());
+        assert_eq!(json["seed"], 2);
+    }
+}
