@@ -30,7 +30,7 @@ pub struct Args {
     /// Sample spacing, m.
     #[arg(long, value_name = "M", default_value_t = 0.05)]
     pub spacing: f64,
-    /// Seed of the random phases (same seed, same bytes on every machine).
+    /// Seed of the random phases (the same seed and options give the same bytes).
     #[arg(long, default_value_t = 1)]
     pub seed: u64,
     /// Lower band edge, cycle/m: the PSD is zero below it.
@@ -76,6 +76,18 @@ pub fn run(args: Args) -> Result<(), roughride::Error> {
         spec.random_amplitudes = args.random_amplitudes;
         spec
     });
+    if let Some(s) = &spec {
+        // Cells below half the first frequency step 1/length cannot be carried.
+        if s.length_m < 0.5 / s.n_min_cycle_m {
+            eprintln!(
+                "roughride: warning: a {} m road cannot hold wavelengths longer than {} m; \
+                 the band below {:.4} cycle/m is left out, so the r.m.s. is below the band's",
+                s.length_m,
+                2.0 * s.length_m,
+                0.5 / s.length_m
+            );
+        }
+    }
     let mut profile = match &spec {
         Some(s) => road::generate(s)?,
         None => road::flat(args.length, args.spacing)?,

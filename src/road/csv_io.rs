@@ -36,10 +36,7 @@ pub fn read_profile_from(
         .comment(Some(b'#'))
         .flexible(true)
         .from_reader(reader);
-    let headers = rdr
-        .headers()
-        .map_err(|e| csv_error(p(), 1, e))?
-        .clone();
+    let headers = rdr.headers().map_err(|e| csv_error(p(), 1, e))?.clone();
     let col = |name: &str| -> Result<usize, ProfileError> {
         headers
             .iter()
@@ -92,9 +89,7 @@ pub fn read_profile_from(
                 return Err(ProfileError::BadRow {
                     path: p(),
                     line,
-                    message: format!(
-                        "distance_m must increase strictly: {x} follows {prev}"
-                    ),
+                    message: format!("distance_m must increase strictly: {x} follows {prev}"),
                 });
             }
         }
@@ -105,10 +100,7 @@ pub fn read_profile_from(
     if xs.len() < 2 {
         return Err(ProfileError::Unusable {
             path: p(),
-            message: format!(
-                "a profile needs at least two data rows, found {}",
-                xs.len()
-            ),
+            message: format!("a profile needs at least two data rows, found {}", xs.len()),
         });
     }
     to_uniform(&xs, &zs, &lines, path)
@@ -192,7 +184,11 @@ pub fn write_profile_csv(profile: &Profile, out: &mut dyn Write) -> std::io::Res
 fn fmt_distance(x: f64) -> String {
     let s = format!("{x:.6}");
     let s = s.trim_end_matches('0').trim_end_matches('.');
-    if s.is_empty() || s == "-" { "0".into() } else { s.to_string() }
+    if s.is_empty() || s == "-" {
+        "0".into()
+    } else {
+        s.to_string()
+    }
 }
 
 #[cfg(test)]
@@ -205,7 +201,8 @@ mod tests {
 
     #[test]
     fn reads_uniform_rows_and_ignores_other_columns() {
-        let (p, w) = read("distance_m,elevation_m,note\n0,0.0,a\n0.5,0.01,b\n1.0,0.02,c\n").unwrap();
+        let (p, w) =
+            read("distance_m,elevation_m,note\n0,0.0,a\n0.5,0.01,b\n1.0,0.02,c\n").unwrap();
         assert!(w.is_empty());
         assert_eq!(p.len(), 3);
         assert!((p.spacing_m - 0.5).abs() < 1e-12);
@@ -230,7 +227,12 @@ mod tests {
 
     #[test]
     fn refuses_a_single_row_and_a_missing_column() {
-        assert!(read("distance_m,elevation_m\n0,0\n").unwrap_err().to_string().contains("two data rows"));
+        assert!(
+            read("distance_m,elevation_m\n0,0\n")
+                .unwrap_err()
+                .to_string()
+                .contains("two data rows")
+        );
         let e = read("x,elevation_m\n0,0\n1,0\n").unwrap_err();
         assert!(e.to_string().contains("distance_m"), "{e}");
     }
