@@ -11,6 +11,10 @@ use super::{Profile, ProfileError};
 /// Relative spacing deviation tolerated without resampling (rounding in the
 /// file's printed distances).
 const UNIFORM_TOLERANCE: f64 = 1e-6;
+/// Absolute spacing deviation tolerated without resampling, m: two units of
+/// the 1 µm to which [`write_profile_csv`] prints distances, so a file this
+/// crate wrote at any spacing reads back without resampling.
+const UNIFORM_TOLERANCE_M: f64 = 2e-6;
 /// A gap wider than this many median spacings is refused rather than bridged.
 const MAX_GAP_FACTOR: f64 = 4.0;
 
@@ -128,9 +132,9 @@ fn to_uniform(
     let n = xs.len();
     let span = xs[n - 1] - xs[0];
     let nominal = span / (n - 1) as f64;
-    let uniform = xs
-        .windows(2)
-        .all(|w| ((w[1] - w[0]) - nominal).abs() <= UNIFORM_TOLERANCE * nominal.max(1e-9) + 1e-9);
+    let uniform = xs.windows(2).all(|w| {
+        ((w[1] - w[0]) - nominal).abs() <= UNIFORM_TOLERANCE * nominal + UNIFORM_TOLERANCE_M
+    });
     if uniform {
         return Ok((Profile::new(xs[0], nominal, zs.to_vec()), Vec::new()));
     }
@@ -246,6 +250,22 @@ mod tests {
         for (i, z) in p.elevation_m.iter().enumerate() {
             assert!((z - p.distance_m(i)).abs() < 1e-12);
         }
+    }
+
+    #[test]
+    fn reads_back_a_spacing_that_prints_inexactly_without_resampling() {
+        // 1/30 m prints to 1 µm with up to 0.5 µm error per row.
+        let p = Profile::new(
+            0.0,
+            1.0 / 30.0,
+            (0..3001).map(|i| (i as f64 * 0.01).sin()).collect(),
+        );
+        let mut buf = Vec::new();
+        write_profile_csv(&p, &mut buf).unwrap();
+        let (q, w) = read(std::str::from_utf8(&buf).unwrap()).unwrap();
+        assert!(w.is_empty(), "{w:?}");
+        assert_eq!(p.elevation_m, q.elevation_m);
+        assert!((q.spacing_m - p.spacing_m).abs() < 1e-9);
     }
 
     #[test]

@@ -141,6 +141,9 @@ impl RoadClass {
     /// The class whose bounds hold `gd_n0_m3` (lower bound inclusive, upper
     /// exclusive). Values at or below zero and NaN give A.
     pub fn from_gd_n0(gd_n0_m3: f64) -> RoadClass {
+        if gd_n0_m3.is_nan() {
+            return RoadClass::A;
+        }
         RoadClass::ALL
             .into_iter()
             .find(|c| gd_n0_m3 < c.bounds_m3().1)
@@ -426,6 +429,8 @@ mod tests {
         }
         assert_eq!(RoadClass::from_gd_n0(1e-12), RoadClass::A);
         assert_eq!(RoadClass::from_gd_n0(1.0), RoadClass::H);
+        assert_eq!(RoadClass::from_gd_n0(f64::NAN), RoadClass::A);
+        assert_eq!(RoadClass::from_gd_n0(0.0), RoadClass::A);
     }
 
     #[test]
