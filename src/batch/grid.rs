@@ -11,8 +11,8 @@
 
 use std::sync::Arc;
 
-use crate::road::iso8608::{RoadClass, RoadSpec};
 use crate::road::Profile;
+use crate::road::iso8608::{RoadClass, RoadSpec};
 use crate::vehicle::Vehicle;
 
 /// Largest number of cases a grid may hold (a typo guard: ten million
@@ -123,9 +123,14 @@ impl Grid {
         if any_class {
             // The spec differs between classes only in Gd(n0) and between
             // seeds only in the seed, neither of which can make it invalid.
-            RoadSpec::from_class(RoadClass::C, self.geometry.length_m, self.geometry.spacing_m, 1)
-                .validate()
-                .map_err(|e| crate::Error::Usage(format!("sweep: --length/--spacing: {e}")))?;
+            RoadSpec::from_class(
+                RoadClass::C,
+                self.geometry.length_m,
+                self.geometry.spacing_m,
+                1,
+            )
+            .validate()
+            .map_err(|e| crate::Error::Usage(format!("sweep: --length/--spacing: {e}")))?;
         }
         for v in &self.vehicles {
             let wheelbase = v.vehicle.wheelbase_m();
@@ -147,7 +152,9 @@ impl Grid {
             }
         }
         let total = self.len_checked().ok_or_else(|| {
-            crate::Error::Usage(format!("sweep: the grid has more than {MAX_CASES} cases; split it"))
+            crate::Error::Usage(format!(
+                "sweep: the grid has more than {MAX_CASES} cases; split it"
+            ))
         })?;
         if total > MAX_CASES {
             return usage(format!(
@@ -222,7 +229,12 @@ impl Grid {
     pub fn road_spec(&self, case: &Case) -> Option<RoadSpec> {
         let class = self.roads[case.road].class()?;
         let seed = case.seed?;
-        Some(RoadSpec::from_class(class, self.geometry.length_m, self.geometry.spacing_m, seed))
+        Some(RoadSpec::from_class(
+            class,
+            self.geometry.length_m,
+            self.geometry.spacing_m,
+            seed,
+        ))
     }
 
     /// A one-line description of a case for messages: vehicle, road, seed, speed.
@@ -245,7 +257,8 @@ mod tests {
 
     fn car() -> Vehicle {
         let text = std::fs::read_to_string(
-            std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("profiles/vehicles/demo_hatchback.toml"),
+            std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+                .join("profiles/vehicles/demo_hatchback.toml"),
         )
         .unwrap();
         parse_vehicle(&text, std::path::Path::new("demo_hatchback.toml")).unwrap()
@@ -254,19 +267,28 @@ mod tests {
     fn grid(roads: Vec<RoadSource>, speeds: Vec<f64>, seeds: u64, vehicles: usize) -> Grid {
         Grid {
             vehicles: (0..vehicles)
-                .map(|i| SweepVehicle { file: format!("v{i}.toml"), vehicle: car() })
+                .map(|i| SweepVehicle {
+                    file: format!("v{i}.toml"),
+                    vehicle: car(),
+                })
                 .collect(),
             roads,
             speeds_m_s: speeds,
             seeds,
-            geometry: RoadGeometry { length_m: 100.0, spacing_m: 0.05 },
+            geometry: RoadGeometry {
+                length_m: 100.0,
+                spacing_m: 0.05,
+            },
         }
     }
 
     #[test]
     fn cases_nest_vehicle_road_speed_seed_with_seed_fastest() {
         let g = grid(
-            vec![RoadSource::Class(RoadClass::A), RoadSource::Class(RoadClass::C)],
+            vec![
+                RoadSource::Class(RoadClass::A),
+                RoadSource::Class(RoadClass::C),
+            ],
             vec![10.0, 20.0, 30.0],
             2,
             2,
@@ -282,7 +304,10 @@ mod tests {
             let speed = (i / 2) % 3;
             let road = (i / 6) % 2;
             let vehicle = i / 12;
-            assert_eq!((c.vehicle, c.road, c.speed_m_s, c.seed), (vehicle, road, g.speeds_m_s[speed], Some(seed as u64 + 1)));
+            assert_eq!(
+                (c.vehicle, c.road, c.speed_m_s, c.seed),
+                (vehicle, road, g.speeds_m_s[speed], Some(seed as u64 + 1))
+            );
         }
         // Any slice is the same cases as the full list.
         for lo in 0..g.len() {
@@ -298,7 +323,10 @@ mod tests {
         let g = grid(
             vec![
                 RoadSource::Class(RoadClass::B),
-                RoadSource::File { label: "r.csv".into(), profile: p },
+                RoadSource::File {
+                    label: "r.csv".into(),
+                    profile: p,
+                },
             ],
             vec![10.0, 20.0],
             3,
@@ -324,7 +352,12 @@ mod tests {
         assert!(g.validate().is_err());
         let g = grid(vec![RoadSource::Class(RoadClass::A)], vec![10.0], 0, 1);
         assert!(g.validate().is_err());
-        let g = grid(vec![RoadSource::Class(RoadClass::A)], vec![10.0; 10_000], 10_000, 1);
+        let g = grid(
+            vec![RoadSource::Class(RoadClass::A)],
+            vec![10.0; 10_000],
+            10_000,
+            1,
+        );
         assert!(g.validate().unwrap_err().to_string().contains("cases"));
     }
 }

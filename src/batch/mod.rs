@@ -79,6 +79,7 @@ pub fn write_sweep(
     mut on_case: impl FnMut(&Case, bool),
 ) -> Result<SweepReport, crate::Error> {
     grid.validate()?;
+    runner.preflight(grid)?;
     let total_cases = grid.len();
     let bounds = shard.bounds(total_cases);
     let cases = grid.cases(bounds.0, bounds.1);
@@ -99,7 +100,8 @@ pub fn write_sweep(
                     Format::Csv => row::csv_line(&cells),
                     Format::JsonLines => row::json_line(&columns, &cells),
                 };
-                out.write_all(line.as_bytes()).map_err(|e| io_error(spec.target, e))?;
+                out.write_all(line.as_bytes())
+                    .map_err(|e| io_error(spec.target, e))?;
                 rows += 1;
             }
             Err(error) => failures.push(CaseFailure {

@@ -44,10 +44,18 @@ pub enum Cell {
 
 /// The column names of a sweep whose vehicles have at most `seats` seats.
 pub fn columns(seats: usize) -> Vec<String> {
-    let mut c: Vec<String> = ["case", "vehicle", "road", "class", "speed_m_s", "seed", "seat_aw"]
-        .iter()
-        .map(|s| s.to_string())
-        .collect();
+    let mut c: Vec<String> = [
+        "case",
+        "vehicle",
+        "road",
+        "class",
+        "speed_m_s",
+        "seed",
+        "seat_aw",
+    ]
+    .iter()
+    .map(|s| s.to_string())
+    .collect();
     for i in 1..=seats {
         for m in ["aw", "vdv", "mtvv", "crest_factor"] {
             c.push(format!("seat{i}_{m}"));
@@ -61,7 +69,13 @@ pub fn columns(seats: usize) -> Vec<String> {
         c.push(format!("dynamic_load_coefficient_{a}"));
         c.push(format!("time_off_ground_fraction_{a}"));
     }
-    for s in ["heave_accel_rms_m_s2", "pitch_accel_rms_rad_s2", "duration_s", "length_m", "solver"] {
+    for s in [
+        "heave_accel_rms_m_s2",
+        "pitch_accel_rms_rad_s2",
+        "duration_s",
+        "length_m",
+        "solver",
+    ] {
         c.push(s.to_string());
     }
     c
@@ -69,7 +83,11 @@ pub fn columns(seats: usize) -> Vec<String> {
 
 /// The largest seat count over the grid's vehicles.
 pub fn max_seats(grid: &Grid) -> usize {
-    grid.vehicles.iter().map(|v| v.vehicle.seats.len()).max().unwrap_or(0)
+    grid.vehicles
+        .iter()
+        .map(|v| v.vehicle.seats.len())
+        .max()
+        .unwrap_or(0)
 }
 
 /// The cells of one case's row, in [`columns`] order.
@@ -79,10 +97,13 @@ pub fn cells(grid: &Grid, case: &Case, s: &RunSummary, seats: usize) -> Vec<Cell
         Cell::Int(case.index as u64),
         Cell::Text(grid.vehicles[case.vehicle].file.clone()),
         Cell::Text(road.label()),
-        road.class().map_or(Cell::Empty, |c| Cell::Text(c.to_string())),
+        road.class()
+            .map_or(Cell::Empty, |c| Cell::Text(c.to_string())),
         Cell::Num(case.speed_m_s),
         case.seed.map_or(Cell::Empty, Cell::Int),
-        s.seats.first().map_or(Cell::Empty, |x| Cell::Num(x.measures.aw)),
+        s.seats
+            .first()
+            .map_or(Cell::Empty, |x| Cell::Num(x.measures.aw)),
     ];
     for i in 0..seats {
         match s.seats.get(i) {
@@ -135,7 +156,11 @@ pub fn csv_field(text: &str) -> String {
 
 /// The CSV header line (with newline).
 pub fn csv_header(columns: &[String]) -> String {
-    let mut s = columns.iter().map(|c| csv_field(c)).collect::<Vec<_>>().join(",");
+    let mut s = columns
+        .iter()
+        .map(|c| csv_field(c))
+        .collect::<Vec<_>>()
+        .join(",");
     s.push('\n');
     s
 }
@@ -201,33 +226,59 @@ mod tests {
         assert_eq!(csv_field("plain.toml"), "plain.toml");
         assert_eq!(csv_field("a,b"), "\"a,b\"");
         assert_eq!(csv_field("say \"hi\""), "\"say \"\"hi\"\"\"");
-        let line = csv_line(&[Cell::Int(3), Cell::Text("x,y".into()), Cell::Empty, Cell::Num(0.1)]);
+        let line = csv_line(&[
+            Cell::Int(3),
+            Cell::Text("x,y".into()),
+            Cell::Empty,
+            Cell::Num(0.1),
+        ]);
         assert_eq!(line, "3,\"x,y\",,0.1\n");
         // The csv crate (a general-purpose reader) reads the fields back.
-        let mut rdr = csv::ReaderBuilder::new().has_headers(false).from_reader(line.as_bytes());
+        let mut rdr = csv::ReaderBuilder::new()
+            .has_headers(false)
+            .from_reader(line.as_bytes());
         let rec = rdr.records().next().unwrap().unwrap();
         assert_eq!(rec.iter().collect::<Vec<_>>(), vec!["3", "x,y", "", "0.1"]);
     }
 
     #[test]
     fn numbers_read_back_exactly() {
-        let values = [0.1 + 0.2, 1.0 / 3.0, 1e-300, 6.02e23, -0.0, 12.5, 2.0f64.sqrt() * 1e-7];
+        let values = [
+            0.1 + 0.2,
+            1.0 / 3.0,
+            1e-300,
+            6.02e23,
+            -0.0,
+            12.5,
+            2.0f64.sqrt() * 1e-7,
+        ];
         let cells: Vec<Cell> = values.iter().map(|v| Cell::Num(*v)).collect();
         let line = csv_line(&cells);
         assert!(!line.contains('e'), "no exponent in CSV: {line}");
         for (text, v) in line.trim_end().split(',').zip(values) {
-            assert_eq!(text.parse::<f64>().unwrap().to_bits(), v.to_bits(), "{text}");
+            assert_eq!(
+                text.parse::<f64>().unwrap().to_bits(),
+                v.to_bits(),
+                "{text}"
+            );
         }
         // JSON: serde_json writes the shortest round-trip form (ryu); read the
         // number text back with Rust's correctly rounded parser (serde_json's
         // own default parser may miss by an ulp).
         let cols: Vec<String> = (0..values.len()).map(|i| format!("c{i}")).collect();
         let line = json_line(&cols, &cells);
-        let body = line.trim_end().trim_start_matches('{').trim_end_matches('}');
+        let body = line
+            .trim_end()
+            .trim_start_matches('{')
+            .trim_end_matches('}');
         for ((pair, k), v) in body.split(',').zip(&cols).zip(values) {
             let (key, text) = pair.split_once(':').unwrap();
             assert_eq!(key, format!("\"{k}\""));
-            assert_eq!(text.parse::<f64>().unwrap().to_bits(), v.to_bits(), "{k}: {text}");
+            assert_eq!(
+                text.parse::<f64>().unwrap().to_bits(),
+                v.to_bits(),
+                "{k}: {text}"
+            );
         }
     }
 
@@ -235,11 +286,21 @@ mod tests {
     fn the_header_holds_the_contract_columns() {
         // shared/interface.md: the header includes class,speed_m_s,seed,seat_aw.
         let c = columns(2);
-        for key in ["class", "speed_m_s", "seed", "seat_aw", "seat2_mtvv", "travel_rms_rear_m"] {
+        for key in [
+            "class",
+            "speed_m_s",
+            "seed",
+            "seat_aw",
+            "seat2_mtvv",
+            "travel_rms_rear_m",
+        ] {
             assert!(c.iter().any(|x| x == key), "{key}");
         }
-        let json: serde_json::Value =
-            serde_json::from_str(&json_line(&["class".into(), "seed".into()], &[Cell::Empty, Cell::Int(2)])).unwrap();
+        let json: serde_json::Value = serde_json::from_str(&json_line(
+            &["class".into(), "seed".into()],
+            &[Cell::Empty, Cell::Int(2)],
+        ))
+        .unwrap();
         assert!(json["class"].is_null());
         assert_eq!(json["seed"], 2);
     }

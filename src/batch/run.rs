@@ -23,6 +23,7 @@ use std::sync::{Arc, Condvar, Mutex, MutexGuard, OnceLock};
 use crate::pipeline::{self, RunOptions, RunSummary};
 use crate::road::iso8608::{RoadSpec, generate};
 use crate::road::{Profile, ProfileError};
+use crate::solve::{self, Excitation};
 
 use super::grid::{Case, Grid, RoadSource};
 
@@ -66,6 +67,28 @@ impl Runner {
         }
     }
 
+    /// Checks the solver settings for every vehicle and speed before any
+    /// case runs (e.g. `--solver exact` with a nonlinear vehicle, a bad
+    /// `--rate`), so bad input fails at once with exit status 2 instead of
+    /// failing every case. Planning does not look at the road, so a flat
+    /// two-sample road stands in for it.
+    pub fn preflight(&self, grid: &Grid) -> Result<(), crate::Error> {
+        let flat = Profile::new(0.0, 1.0, vec![0.0, 0.0]);
+        for v in &grid.vehicles {
+            for &speed_m_s in &grid.speeds_m_s {
+                let excitation = Excitation {
+                    profile: &flat,
+                    speed_m_s,
+                    wheelbase_m: v.vehicle.wheelbase_m(),
+                    force: self.options.force,
+                };
+                solve::plan(&v.vehicle, &excitation, &self.options.solver)
+                    .map_err(|e| crate::Error::Usage(format!("{}: {e}", v.file)))?;
+            }
+        }
+        Ok(())
+    }
+
     /// Runs `cases` of `grid` and calls `emit` once per case, in the order
     /// of `cases`, with the run's summary or its error. A failed case does
     /// not stop the others. An error returned by `emit` (e.g. the output
@@ -84,7 +107,12 @@ impl Runner {
             .num_threads(self.jobs)
             .thread_name(|i| format!("roughride-sweep-{i}"))
             .build()
-            .map_err(|e| crate::Error::Usage(format!("--jobs {}: cannot start the threads: {e}", self.jobs)))?;
+            .map_err(|e| {
+                crate::Error::Usage(format!(
+                    "--jobs {}: cannot start the threads: {e}",
+                    self.jobs
+                ))
+            })?;
         let cache = RoadCache::new(self.road_cache_bytes);
         let next = AtomicUsize::new(0);
         let stop = AtomicBool::new(false);
@@ -96,7 +124,8 @@ impl Runner {
         pool.in_place_scope(|scope| {
             for _ in 0..self.jobs {
                 let tx = tx.clone();
-                let (next, stop, emitted, advanced, cache) = (&next, &stop, &emitted, &advanced, &cache);
+                let (next, stop, emitted, advanced, cache) =
+                    (&next, &stop, &emitted, &advanced, &cache);
                 scope.spawn(move |_| {
                     loop {
                         if stop.load(Ordering::Relaxed) || crate::solve::cancel_requested() {
@@ -175,19 +204,29 @@ impl Runner {
     }
 
     /// One case through the pipeline.
-    fn run_case(&self, grid: &Grid, case: &Case, cache: &RoadCache) -> Result<RunSummary, crate::Error> {
+    fn run_case(
+        &self,
+        grid: &Grid,
+        case: &Case,
+        cache: &RoadCache,
+    ) -> Result<RunSummary, crate::Error> {
         let profile = match &grid.roads[case.road] {
             RoadSource::File { profile, .. } => Arc::clone(profile),
             RoadSource::Class(_) => {
-                let spec = grid
-                    .road_spec(case)
-                    .ok_or_else(|| ProfileError::Parameter(format!("case {} has no road seed", case.index)))?;
+                let spec = grid.road_spec(case).ok_or_else(|| {
+                    ProfileError::Parameter(format!("case {} has no road seed", case.index))
+                })?;
                 cache.get((case.road, spec.seed), &spec)?
             }
         };
         let mut options = self.options.clone();
         options.speed_m_s = case.speed_m_s;
-        pipeline::simulate(&grid.vehicles[case.vehicle].vehicle, &profile, &options, None)
+        pipeline::simulate(
+            &grid.vehicles[case.vehicle].vehicle,
+            &profile,
+            &options,
+            None,
+        )
     }
 }
 
@@ -229,7 +268,9 @@ impl RoadCache {
                 None => {
                     let size = (spec.intervals() + 1) * std::mem::size_of::<f64>();
                     while c.bytes + size > self.budget_bytes {
-                        let Some(old) = c.order.pop_front() else { break };
+                        let Some(old) = c.order.pop_front() else {
+                            break;
+                        };
                         if let Some((_, s)) = c.slots.remove(&old) {
                             c.bytes -= s;
                         }
@@ -259,16 +300,26 @@ mod tests {
 
     fn grid(seeds: u64) -> Grid {
         let text = std::fs::read_to_string(
-            std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("profiles/vehicles/demo_hatchback.toml"),
+            std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+                .join("profiles/vehicles/demo_hatchback.toml"),
         )
         .unwrap();
         let vehicle = parse_vehicle(&text, std::path::Path::new("demo_hatchback.toml")).unwrap();
         Grid {
-            vehicles: vec![SweepVehicle { file: "car.toml".into(), vehicle }],
-            roads: vec![RoadSource::Class(RoadClass::B), RoadSource::Class(RoadClass::D)],
+            vehicles: vec![SweepVehicle {
+                file: "car.toml".into(),
+                vehicle,
+            }],
+            roads: vec![
+                RoadSource::Class(RoadClass::B),
+                RoadSource::Class(RoadClass::D),
+            ],
             speeds_m_s: vec![10.0, 25.0],
             seeds,
-            geometry: RoadGeometry { length_m: 60.0, spacing_m: 0.05 },
+            geometry: RoadGeometry {
+                length_m: 60.0,
+                spacing_m: 0.05,
+            },
         }
     }
 
@@ -289,12 +340,18 @@ mod tests {
         let g = grid(3);
         let one = Runner::new(RunOptions::at_speed(1.0), 1);
         let reference = aw_of(&one, &g);
-        assert_eq!(reference.iter().map(|r| r.0).collect::<Vec<_>>(), (0..g.len()).collect::<Vec<_>>());
+        assert_eq!(
+            reference.iter().map(|r| r.0).collect::<Vec<_>>(),
+            (0..g.len()).collect::<Vec<_>>()
+        );
         let mut tight = Runner::new(RunOptions::at_speed(1.0), 2);
         tight.window = 1;
         tight.road_cache_bytes = 0; // every road generated afresh
         assert_eq!(aw_of(&tight, &g), reference);
-        assert_eq!(aw_of(&Runner::new(RunOptions::at_speed(1.0), 3), &g), reference);
+        assert_eq!(
+            aw_of(&Runner::new(RunOptions::at_speed(1.0), 3), &g),
+            reference
+        );
     }
 
     #[test]
@@ -313,13 +370,60 @@ mod tests {
                 )
                 .unwrap();
                 let r = r.unwrap();
-                assert_eq!(r.seats[1].measures.vdv.to_bits(), single.seats[1].measures.vdv.to_bits());
-                assert_eq!(r.axles.rear.travel_rms.to_bits(), single.axles.rear.travel_rms.to_bits());
+                assert_eq!(
+                    r.seats[1].measures.vdv.to_bits(),
+                    single.seats[1].measures.vdv.to_bits()
+                );
+                assert_eq!(
+                    r.axles.rear.travel_rms.to_bits(),
+                    single.axles.rear.travel_rms.to_bits()
+                );
                 seen += 1;
                 Ok(())
             })
             .unwrap();
         assert_eq!(seen, g.len());
+    }
+
+    #[test]
+    fn a_failed_case_is_handed_on_and_the_other_cases_still_run() {
+        let mut g = grid(2);
+        // generate() refuses a road no longer than its spacing, so every
+        // generated case fails at run time; the file road's cases run.
+        g.geometry.length_m = 0.01;
+        g.roads.push(RoadSource::File {
+            label: "flat.csv".into(),
+            profile: Arc::new(Profile::new(0.0, 0.05, vec![0.0; 1201])),
+        });
+        let cases = g.cases(0, g.len());
+        let mut seen = Vec::new();
+        Runner::new(RunOptions::at_speed(1.0), 2)
+            .run(&g, &cases, |c, r| {
+                seen.push((c.index, g.roads[c.road].class().is_some(), r.is_ok()));
+                Ok(())
+            })
+            .unwrap();
+        assert_eq!(seen.len(), g.len());
+        for (i, (index, generated, ok)) in seen.into_iter().enumerate() {
+            assert_eq!(index, i);
+            assert_eq!(ok, !generated, "case {i}");
+        }
+    }
+
+    #[test]
+    fn solver_settings_are_checked_for_every_vehicle_before_running() {
+        let g = grid(1);
+        let mut options = RunOptions::at_speed(1.0);
+        options.solver.output_rate_hz = -5.0;
+        let e = Runner::new(options, 1).preflight(&g).unwrap_err();
+        assert_eq!(e.exit_status(), 2);
+        assert!(
+            e.to_string().contains("car.toml") && e.to_string().contains("--rate"),
+            "{e}"
+        );
+        Runner::new(RunOptions::at_speed(1.0), 1)
+            .preflight(&g)
+            .unwrap();
     }
 
     #[test]
@@ -329,7 +433,11 @@ mod tests {
         let mut calls = 0;
         let r = Runner::new(RunOptions::at_speed(1.0), 2).run(&g, &cases, |_, _| {
             calls += 1;
-            if calls == 3 { Err(crate::Error::Usage("stop".into())) } else { Ok(()) }
+            if calls == 3 {
+                Err(crate::Error::Usage("stop".into()))
+            } else {
+                Ok(())
+            }
         });
         assert!(matches!(r, Err(crate::Error::Usage(m)) if m == "stop"));
         assert_eq!(calls, 3);

@@ -7,8 +7,11 @@ mod simulate;
 use clap::{Parser, Subcommand};
 
 mod classify;
+mod frf;
+mod modes;
 mod comfort;
 mod profile;
+mod sweep;
 
 /// roughride: ride comfort and durability estimates for a vehicle on a road,
 /// before a prototype exists.
@@ -26,6 +29,10 @@ pub struct Cli {
 /// The commands, one per job.
 #[derive(Debug, Subcommand)]
 pub enum Command {
+    /// Natural frequencies, damping ratios, mode shapes and nodes; ride frequencies and flat-ride guidance.
+    Modes(modes::Args),
+    /// Frequency response to road elevation (and a body force): magnitude and phase per output, as CSV.
+    Frf(frf::Args),
     /// Run a vehicle over a road at a speed: comfort (ISO 2631-1), travel, tyre load.
     Simulate(simulate::Args),
     /// Synthesise an ISO 8608 road profile (with obstacles) as CSV.
@@ -34,15 +41,20 @@ pub enum Command {
     Classify(classify::Args),
     /// ISO 2631-1 comfort and health evaluation of a measured acceleration record.
     Comfort(comfort::Args),
+    /// Run a grid of vehicle × road × speed × seed cases in parallel; one CSV row per case.
+    Sweep(sweep::Args),
 }
 
 /// Runs the chosen command.
 pub fn run(cli: Cli) -> Result<(), roughride::Error> {
     match cli.command {
+        Command::Modes(a) => modes::run(a),
+        Command::Frf(a) => frf::run(a),
         Command::Simulate(a) => simulate::run(a),
         Command::Profile(args) => profile::run(args),
         Command::Classify(args) => classify::run(args),
         Command::Comfort(a) => comfort::run(a),
+        Command::Sweep(a) => sweep::run(a),
     }
 }
 

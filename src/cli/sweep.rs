@@ -1,0 +1,244 @@
+//! `roughride sweep`: a grid of runs (vehicle × road × speed × seed), one
+//! CSV row (or JSON Lines object) per case on stdout or in `-o FILE`.
+
+use std::io::IsTerminal;
+use std::path::{Path, PathBuf};
+use std::sync::Arc;
+
+use clap::Args as ClapArgs;
+
+use roughride::Error;
+use roughride::batch::values::{Shard, parse_speed_list_m_s};
+use roughride::batch::{
+    Format, Grid, OutputSpec, RoadGeometry, RoadSource, Runner, SweepVehicle, write_sweep,
+};
+use roughride::comfort::{HEALTH_CAUTION, Weighting};
+use roughride::pipeline::RunOptions;
+use roughride::report::write_to;
+use roughride::road::iso8608::RoadClass;
+use roughride::road::read_profile_csv;
+use roughride::solve::{SolverChoice, SolverSettings};
+use roughride::vehicle::read_vehicle;
+
+/// Run a grid of cases (vehicle × road × speed × seed) in parallel and print
+/// one CSV row per case, in a fixed order whatever --jobs.
+///
+/// Rows are nested vehicle, road (classes, then profile files), speed, seed
+/// (seed fastest). Generated roads use seeds 1..=N: the row for class C,
+/// seed 2 at 20 m/s equals `roughride simulate --class C --seed 2 --speed
+/// 20` with the same --length and --spacing. A profile file gives one row
+/// per speed, with `class` and `seed` empty and `road` = the file as given.
+///
+/// --shard K/N runs the K-th of N contiguous slices; only shard 1 prints the
+/// CSV header, so `cat` of the shards' outputs in order equals the unsharded
+/// output byte for byte. A failed case is listed on stderr and the sweep goes
+/// on; the exit status is then 1, with every good row written.
+#[derive(Debug, ClapArgs)]
+#[command(after_help = "Examples:\n  \
+roughride sweep --vehicle profiles/vehicles/demo_hatchback.toml --classes A,B,C,D --speeds 10:40:5 --seeds 3 --length 1000 -o grid.csv\n  \
+roughride sweep --vehicle car.toml --profile lane1.csv --profile lane2.csv --speeds 36kmh:108kmh:18kmh --json\n  \
+roughride sweep --vehicle car.toml --classes B,C,D --speeds 10:40:2 --seeds 20 --length 2000 --shard $SLURM_ARRAY_TASK_ID/16 -o part-$SLURM_ARRAY_TASK_ID.csv")]
+pub struct Args {
+    /// Vehicle file (TOML); repeat for several vehicles.
+    #[arg(long, value_name = "FILE", required = true)]
+    pub vehicle: Vec<PathBuf>,
+    /// ISO 8608 road classes to generate, comma-separated (e.g. A,B,C).
+    #[arg(long, value_name = "A,B,…", value_delimiter = ',', value_parser = parse_class,
+          required_unless_present = "profile", requires = "length")]
+    pub classes: Vec<RoadClass>,
+    /// Road profile CSV (distance_m,elevation_m); repeat for several roads.
+    #[arg(long, value_name = "FILE")]
+    pub profile: Vec<PathBuf>,
+    /// Speeds: start:end:step (inclusive) or a comma list; m/s, or km/h with a kmh suffix.
+    #[arg(long, value_name = "SPEEDS", value_parser = parse_speeds)]
+    pub speeds: Speeds,
+    /// Seeds per generated road: seeds 1..=N.
+    #[arg(long, value_name = "N", default_value_t = 1)]
+    pub seeds: u64,
+    /// Length of the generated roads, m.
+    #[arg(long, value_name = "M")]
+    pub length: Option<f64>,
+    /// Sample spacing of the generated roads, m.
+    #[arg(long, value_name = "M", default_value_t = 0.05)]
+    pub spacing: f64,
+    /// Worker threads (default: all cores). The output does not depend on it.
+    #[arg(long, value_name = "N")]
+    pub jobs: Option<usize>,
+    /// Run only the K-th of N contiguous slices of the grid (e.g. 3/16).
+    #[arg(long, value_name = "K/N", default_value = "1/1", value_parser = parse_shard)]
+    pub shard: Shard,
+    /// Leave out the CSV header line (shards 2..N never print it).
+    #[arg(long)]
+    pub no_header: bool,
+    /// One JSON object per case and line (JSON Lines) instead of CSV.
+    #[arg(long)]
+    pub json: bool,
+    /// Write to this file (atomically) instead of stdout.
+    #[arg(short = 'o', long = "output", value_name = "FILE")]
+    pub output: Option<PathBuf>,
+    /// Solver: auto (exact for linear vehicles), exact, or adaptive.
+    #[arg(long, default_value = "auto", value_parser = parse_solver)]
+    pub solver: SolverChoice,
+    /// Output sample rate, Hz.
+    #[arg(long, value_name = "HZ", default_value_t = roughride::solve::DEFAULT_OUTPUT_RATE_HZ)]
+    pub rate: f64,
+    /// Relative tolerance of the adaptive solver.
+    #[arg(long, default_value_t = roughride::solve::DEFAULT_RTOL)]
+    pub rtol: f64,
+    /// Absolute tolerance of the adaptive solver.
+    #[arg(long, default_value_t = roughride::solve::DEFAULT_ATOL)]
+    pub atol: f64,
+    /// Frequency weighting for the seats (wk, wd, wf, wc, we, wj, none).
+    #[arg(long, default_value = "wk", value_parser = parse_weighting)]
+    pub weighting: Weighting,
+}
+
+/// Parsed `--speeds`, m/s (a newtype so clap keeps the list as one value).
+#[derive(Debug, Clone)]
+pub struct Speeds(pub Vec<f64>);
+
+fn parse_speeds(s: &str) -> Result<Speeds, String> {
+    parse_speed_list_m_s(s)
+        .map(Speeds)
+        .map_err(|e| e.to_string())
+}
+
+fn parse_class(s: &str) -> Result<RoadClass, String> {
+    s.parse()
+        .map_err(|e: roughride::road::ProfileError| e.to_string())
+}
+
+fn parse_shard(s: &str) -> Result<Shard, String> {
+    Shard::parse(s).map_err(|e| e.to_string())
+}
+
+fn parse_solver(s: &str) -> Result<SolverChoice, String> {
+    s.parse()
+}
+
+fn parse_weighting(s: &str) -> Result<Weighting, String> {
+    s.parse()
+}
+
+/// Reads the vehicles and roads the arguments name (all input is checked
+/// here, before any case runs).
+fn build_grid(a: &Args) -> Result<Grid, Error> {
+    let vehicles = a
+        .vehicle
+        .iter()
+        .map(|p| {
+            Ok(SweepVehicle {
+                file: p.display().to_string(),
+                vehicle: read_vehicle(p)?,
+            })
+        })
+        .collect::<Result<Vec<_>, Error>>()?;
+    let mut roads: Vec<RoadSource> = a.classes.iter().map(|c| RoadSource::Class(*c)).collect();
+    for p in &a.profile {
+        let (profile, warnings) = read_profile_csv(p)?;
+        for w in warnings {
+            eprintln!("roughride: warning: {}: {w}", p.display());
+        }
+        roads.push(RoadSource::File {
+            label: p.display().to_string(),
+            profile: Arc::new(profile),
+        });
+    }
+    let length_m = match (a.length, a.classes.is_empty()) {
+        (Some(l), _) => l,
+        (None, true) => 0.0, // unused: no generated road
+        (None, false) => return Err(Error::Usage("sweep: --classes needs --length (m)".into())),
+    };
+    let grid = Grid {
+        vehicles,
+        roads,
+        speeds_m_s: a.speeds.0.clone(),
+        seeds: a.seeds,
+        geometry: RoadGeometry {
+            length_m,
+            spacing_m: a.spacing,
+        },
+    };
+    grid.validate()?;
+    Ok(grid)
+}
+
+pub fn run(a: Args) -> Result<(), Error> {
+    let grid = build_grid(&a)?;
+    let jobs = match a.jobs {
+        Some(0) => return Err(Error::Usage("--jobs must be at least 1".into())),
+        Some(n) => n,
+        None => std::thread::available_parallelism().map_or(1, |n| n.get()),
+    };
+    let options = RunOptions {
+        speed_m_s: 1.0, // each case sets its own
+        solver: SolverSettings {
+            choice: a.solver,
+            output_rate_hz: a.rate,
+            rtol: a.rtol,
+            atol: a.atol,
+        },
+        weighting: a.weighting,
+        force: None,
+    };
+    let runner = Runner::new(options, jobs);
+    let (lo, hi) = a.shard.bounds(grid.len());
+    let progress = progress_bar((hi - lo) as u64);
+    let spec = OutputSpec {
+        format: if a.json {
+            Format::JsonLines
+        } else {
+            Format::Csv
+        },
+        header: a.shard.index == 1 && !a.no_header,
+        target: a.output.as_deref().unwrap_or(Path::new("<stdout>")),
+    };
+    let mut report = None;
+    // The file is committed when every case has been tried, failed cases
+    // included (their rows are missing and listed below); it is discarded
+    // when the sweep itself stops (write error, interruption).
+    write_to(a.output.as_deref(), |out| {
+        report = Some(write_sweep(&grid, a.shard, &runner, spec, out, |_, _| {
+            progress.inc(1)
+        })?);
+        Ok::<(), Error>(())
+    })?;
+    progress.finish_and_clear();
+    let Some(report) = report else { return Ok(()) };
+    eprintln!("roughride: note: {HEALTH_CAUTION}");
+    if report.failures.is_empty() {
+        return Ok(());
+    }
+    for f in &report.failures {
+        eprintln!("roughride: failed: {}: {}", f.description, f.error);
+    }
+    eprintln!(
+        "roughride: error: {} of {} cases failed (cases {}..{} of {}); the other rows were written",
+        report.failures.len(),
+        report.bounds.1 - report.bounds.0,
+        report.bounds.0,
+        report.bounds.1,
+        report.total_cases
+    );
+    // Exit status 1 for failed cases (interface.md: 1 for anything but bad
+    // input); the messages are printed above, so exit without another.
+    std::process::exit(1);
+}
+
+/// A progress bar on stderr when stderr is a terminal, hidden otherwise
+/// (so logs of scripts and job arrays stay clean).
+fn progress_bar(len: u64) -> indicatif::ProgressBar {
+    if !std::io::stderr().is_terminal() {
+        return indicatif::ProgressBar::hidden();
+    }
+    let bar = indicatif::ProgressBar::with_draw_target(
+        Some(len),
+        indicatif::ProgressDrawTarget::stderr(),
+    );
+    if let Ok(style) = indicatif::ProgressStyle::with_template(
+        "{elapsed_precise} [{wide_bar}] {pos}/{len} cases, {per_sec}, eta {eta}",
+    ) {
+        bar.set_style(style);
+    }
+    bar
+}
