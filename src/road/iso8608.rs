@@ -448,7 +448,8 @@ mod tests {
     fn validation_names_the_parameter() {
         let ok = RoadSpec::from_class(RoadClass::C, 100.0, 0.05, 1);
         assert!(ok.validate().is_ok());
-        let cases: [(fn(&mut RoadSpec), &str); 6] = [
+        type Mutation = (fn(&mut RoadSpec), &'static str);
+        let cases: [Mutation; 6] = [
             (|s| s.n_min_cycle_m = 3.0, "n_min"),
             (|s| s.n_max_cycle_m = 11.0, "Nyquist"),
             (|s| s.length_m = 0.04, "length"),
