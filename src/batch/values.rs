@@ -70,14 +70,20 @@ pub fn parse_speed_list_m_s(text: &str) -> Result<Vec<f64>, ValueError> {
         if end < start {
             return Err(err("speed range", text, "the end is below the start"));
         }
-        let count = ((end - start) / step * (1.0 + 1e-9) + 1e-9).floor() as usize + 1;
-        if count > MAX_RANGE_VALUES {
+        // Count in floating point first: a tiny step must be refused, not
+        // saturate or wrap the integer conversion.
+        let intervals = ((end - start) / step * (1.0 + 1e-9) + 1e-9).floor();
+        if intervals.is_nan() || intervals + 1.0 > MAX_RANGE_VALUES as f64 {
             return Err(err(
                 "speed range",
                 text,
-                format!("expands to {count} values; at most {MAX_RANGE_VALUES}"),
+                format!(
+                    "expands to {:.3e} values; at most {MAX_RANGE_VALUES}",
+                    intervals + 1.0
+                ),
             ));
         }
+        let count = intervals as usize + 1;
         Ok((0..count).map(|i| start + i as f64 * step).collect())
     } else {
         t.split(',').map(parse_speed_m_s).collect()

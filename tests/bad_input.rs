@@ -1,0 +1,507 @@
+//! The bad-input table: malformed files and option values, each with the
+//! message fragment it must produce and exit status 2 (contract:
+//! shared/interface.md, "2 for bad input or usage"). No input may make the
+//! tool panic, and no output file may appear.
+
+mod common;
+
+use common::{demo, roughride, scratch};
+
+/// A file to create in the scratch directory before the run.
+struct Case {
+    what: &'static str,
+    files: &'static [(&'static str, &'static str)],
+    args: &'static [&'static str],
+    fragment: &'static str,
+}
+
+const CAR: &str = "@car"; // replaced by the demo vehicle's path
+const ROAD: &str = "@road"; // replaced by the demo road's path
+
+const GOOD_CAR: &str = "[body]\nmass = 1000.0\npitch_inertia = 1500.0\n[front]\ncg_distance = 1.2\nspring_rate = 30000.0\ndamping = 2500.0\n[rear]\ncg_distance = 1.4\nspring_rate = 30000.0\ndamping = 2500.0\n[[seat]]\nx = 0.3\n";
+
+const CASES: &[Case] = &[
+    // Vehicle files.
+    Case {
+        what: "negative mass",
+        files: &[(
+            "v.toml",
+            "[body]\nmass = -1000.0\npitch_inertia = 1500.0\n[front]\ncg_distance = 1.2\nspring_rate = 30000.0\ndamping = 2500.0\n[rear]\ncg_distance = 1.4\nspring_rate = 30000.0\ndamping = 2500.0\n[[seat]]\nx = 0.3\n",
+        )],
+        args: &[
+            "simulate",
+            "--vehicle",
+            "v.toml",
+            "--profile",
+            ROAD,
+            "--speed",
+            "20",
+        ],
+        fragment: "`body.mass` must be positive",
+    },
+    Case {
+        what: "zero pitch inertia",
+        files: &[(
+            "v.toml",
+            "[body]\nmass = 1000.0\npitch_inertia = 0.0\n[front]\ncg_distance = 1.2\nspring_rate = 30000.0\ndamping = 2500.0\n[rear]\ncg_distance = 1.4\nspring_rate = 30000.0\ndamping = 2500.0\n[[seat]]\nx = 0.3\n",
+        )],
+        args: &[
+            "simulate",
+            "--vehicle",
+            "v.toml",
+            "--profile",
+            ROAD,
+            "--speed",
+            "20",
+        ],
+        fragment: "`body.pitch_inertia` must be positive",
+    },
+    Case {
+        what: "unsprung mass without a tyre rate",
+        files: &[(
+            "v.toml",
+            "[body]\nmass = 1000.0\npitch_inertia = 1500.0\n[front]\ncg_distance = 1.2\nspring_rate = 30000.0\ndamping = 2500.0\nunsprung_mass = 40.0\n[rear]\ncg_distance = 1.4\nspring_rate = 30000.0\ndamping = 2500.0\n[[seat]]\nx = 0.3\n",
+        )],
+        args: &[
+            "simulate",
+            "--vehicle",
+            "v.toml",
+            "--profile",
+            ROAD,
+            "--speed",
+            "20",
+        ],
+        fragment: "`front.tyre_rate` is missing",
+    },
+    Case {
+        what: "no seat",
+        files: &[(
+            "v.toml",
+            "[body]\nmass = 1000.0\npitch_inertia = 1500.0\n[front]\ncg_distance = 1.2\nspring_rate = 30000.0\ndamping = 2500.0\n[rear]\ncg_distance = 1.4\nspring_rate = 30000.0\ndamping = 2500.0\n",
+        )],
+        args: &[
+            "simulate",
+            "--vehicle",
+            "v.toml",
+            "--profile",
+            ROAD,
+            "--speed",
+            "20",
+        ],
+        fragment: "`seat` is missing",
+    },
+    Case {
+        what: "misspelt key",
+        files: &[(
+            "v.toml",
+            "[body]\nmass = 1000.0\npitch_inertia = 1500.0\n[front]\ncg_distance = 1.2\nspring_rate = 30000.0\ndampng = 2500.0\n[rear]\ncg_distance = 1.4\nspring_rate = 30000.0\ndamping = 2500.0\n[[seat]]\nx = 0.3\n",
+        )],
+        args: &[
+            "simulate",
+            "--vehicle",
+            "v.toml",
+            "--profile",
+            ROAD,
+            "--speed",
+            "20",
+        ],
+        fragment: "unknown field `dampng`",
+    },
+    Case {
+        what: "text where a number belongs",
+        files: &[(
+            "v.toml",
+            "[body]\nmass = \"heavy\"\npitch_inertia = 1500.0\n[front]\ncg_distance = 1.2\nspring_rate = 30000.0\ndamping = 2500.0\n[rear]\ncg_distance = 1.4\nspring_rate = 30000.0\ndamping = 2500.0\n[[seat]]\nx = 0.3\n",
+        )],
+        args: &[
+            "simulate",
+            "--vehicle",
+            "v.toml",
+            "--profile",
+            ROAD,
+            "--speed",
+            "20",
+        ],
+        fragment: "invalid type",
+    },
+    Case {
+        what: "missing [rear] table",
+        files: &[(
+            "v.toml",
+            "[body]\nmass = 1000.0\npitch_inertia = 1500.0\n[front]\ncg_distance = 1.2\nspring_rate = 30000.0\ndamping = 2500.0\n[[seat]]\nx = 0.3\n",
+        )],
+        args: &[
+            "simulate",
+            "--vehicle",
+            "v.toml",
+            "--profile",
+            ROAD,
+            "--speed",
+            "20",
+        ],
+        fragment: "missing field `rear`",
+    },
+    Case {
+        what: "clearance without a stop rate",
+        files: &[(
+            "v.toml",
+            "[body]\nmass = 1000.0\npitch_inertia = 1500.0\n[front]\ncg_distance = 1.2\nspring_rate = 30000.0\ndamping = 2500.0\nbump_clearance = 0.05\n[rear]\ncg_distance = 1.4\nspring_rate = 30000.0\ndamping = 2500.0\n[[seat]]\nx = 0.3\n",
+        )],
+        args: &[
+            "simulate",
+            "--vehicle",
+            "v.toml",
+            "--profile",
+            ROAD,
+            "--speed",
+            "20",
+        ],
+        fragment: "`front.stop_rate` is missing",
+    },
+    Case {
+        what: "damping_bump without damping_rebound",
+        files: &[(
+            "v.toml",
+            "[body]\nmass = 1000.0\npitch_inertia = 1500.0\n[front]\ncg_distance = 1.2\nspring_rate = 30000.0\ndamping_bump = 2500.0\n[rear]\ncg_distance = 1.4\nspring_rate = 30000.0\ndamping = 2500.0\n[[seat]]\nx = 0.3\n",
+        )],
+        args: &[
+            "simulate",
+            "--vehicle",
+            "v.toml",
+            "--profile",
+            ROAD,
+            "--speed",
+            "20",
+        ],
+        fragment: "`front.damping_rebound` is missing",
+    },
+    Case {
+        what: "broken TOML syntax",
+        files: &[("v.toml", "[body\nmass = 1000.0\n")],
+        args: &[
+            "simulate",
+            "--vehicle",
+            "v.toml",
+            "--profile",
+            ROAD,
+            "--speed",
+            "20",
+        ],
+        fragment: "v.toml",
+    },
+    Case {
+        what: "missing vehicle file",
+        files: &[],
+        args: &[
+            "simulate",
+            "--vehicle",
+            "nowhere.toml",
+            "--profile",
+            ROAD,
+            "--speed",
+            "20",
+        ],
+        fragment: "nowhere.toml: cannot read",
+    },
+    // Profile files.
+    Case {
+        what: "distance not increasing",
+        files: &[("r.csv", "distance_m,elevation_m\n0,0\n5,0\n4,0\n10,0\n")],
+        args: &[
+            "simulate",
+            "--vehicle",
+            CAR,
+            "--profile",
+            "r.csv",
+            "--speed",
+            "20",
+        ],
+        fragment: "r.csv: line 4",
+    },
+    Case {
+        what: "NaN elevation",
+        files: &[("r.csv", "distance_m,elevation_m\n0,0\n5,NaN\n10,0\n")],
+        args: &[
+            "simulate",
+            "--vehicle",
+            CAR,
+            "--profile",
+            "r.csv",
+            "--speed",
+            "20",
+        ],
+        fragment: "line 3",
+    },
+    Case {
+        what: "a single row",
+        files: &[("r.csv", "distance_m,elevation_m\n0,0\n")],
+        args: &["classify", "r.csv"],
+        fragment: "two data rows",
+    },
+    Case {
+        what: "missing elevation column",
+        files: &[("r.csv", "distance_m,height\n0,0\n1,0\n")],
+        args: &["classify", "r.csv"],
+        fragment: "elevation_m",
+    },
+    Case {
+        what: "profile shorter than the wheelbase",
+        files: &[("r.csv", "distance_m,elevation_m\n0,0\n1,0\n2,0\n")],
+        args: &[
+            "simulate",
+            "--vehicle",
+            CAR,
+            "--profile",
+            "r.csv",
+            "--speed",
+            "20",
+        ],
+        fragment: "shorter than the wheelbase",
+    },
+    Case {
+        what: "gap too large to bridge",
+        files: &[(
+            "r.csv",
+            "distance_m,elevation_m\n0,0\n1,0\n2,0\n30,0\n31,0\n",
+        )],
+        args: &[
+            "simulate",
+            "--vehicle",
+            CAR,
+            "--profile",
+            "r.csv",
+            "--speed",
+            "20",
+        ],
+        fragment: "gap",
+    },
+    Case {
+        what: "text in a distance",
+        files: &[("r.csv", "distance_m,elevation_m\n0,0\nten,0\n")],
+        args: &["classify", "r.csv"],
+        fragment: "not a number",
+    },
+    // Acceleration records.
+    Case {
+        what: "record without the named column",
+        files: &[("a.csv", "time_s,seat_z\n0,0\n0.001,0\n0.002,0\n")],
+        args: &["comfort", "a.csv", "--column", "floor_z"],
+        fragment: "floor_z",
+    },
+    Case {
+        what: "record without time_s",
+        files: &[("a.csv", "t,seat_z\n0,0\n0.001,0\n0.002,0\n")],
+        args: &["comfort", "a.csv", "--column", "seat_z"],
+        fragment: "time_s",
+    },
+    Case {
+        what: "record sampled too slowly for Wk",
+        files: &[(
+            "a.csv",
+            "time_s,seat_z\n0,0\n0.1,0.1\n0.2,0\n0.3,0.1\n0.4,0\n",
+        )],
+        args: &["comfort", "a.csv", "--column", "seat_z"],
+        fragment: "Hz",
+    },
+    // Option values.
+    Case {
+        what: "zero speed",
+        files: &[],
+        args: &[
+            "simulate",
+            "--vehicle",
+            CAR,
+            "--profile",
+            ROAD,
+            "--speed",
+            "0",
+        ],
+        fragment: "speed",
+    },
+    Case {
+        what: "speed with a unit we do not know",
+        files: &[],
+        args: &[
+            "simulate",
+            "--vehicle",
+            CAR,
+            "--profile",
+            ROAD,
+            "--speed",
+            "60mph",
+        ],
+        fragment: "60mph",
+    },
+    Case {
+        what: "unknown road class",
+        files: &[],
+        args: &[
+            "simulate",
+            "--vehicle",
+            CAR,
+            "--class",
+            "Q",
+            "--length",
+            "100",
+            "--speed",
+            "20",
+        ],
+        fragment: "Q",
+    },
+    Case {
+        what: "unknown weighting",
+        files: &[],
+        args: &[
+            "simulate",
+            "--vehicle",
+            CAR,
+            "--profile",
+            ROAD,
+            "--speed",
+            "20",
+            "--weighting",
+            "wz",
+        ],
+        fragment: "wz",
+    },
+    Case {
+        what: "unknown solver",
+        files: &[],
+        args: &[
+            "simulate",
+            "--vehicle",
+            CAR,
+            "--profile",
+            ROAD,
+            "--speed",
+            "20",
+            "--solver",
+            "euler",
+        ],
+        fragment: "euler",
+    },
+    Case {
+        what: "negative output rate",
+        files: &[],
+        args: &[
+            "simulate",
+            "--vehicle",
+            CAR,
+            "--profile",
+            ROAD,
+            "--speed",
+            "20",
+            "--rate=-5",
+        ],
+        fragment: "--rate must be positive",
+    },
+    Case {
+        what: "exposure without a unit",
+        files: &[("a.csv", "time_s,seat_z\n0,0\n0.001,0\n0.002,0\n")],
+        args: &[
+            "comfort",
+            "a.csv",
+            "--column",
+            "seat_z",
+            "--exposure",
+            "eight",
+        ],
+        fragment: "eight",
+    },
+    Case {
+        what: "profile band above Nyquist",
+        files: &[],
+        args: &[
+            "profile",
+            "--class",
+            "C",
+            "--length",
+            "100",
+            "--spacing",
+            "0.5",
+            "--n-max",
+            "5",
+        ],
+        fragment: "n_max",
+    },
+    Case {
+        what: "malformed obstacle",
+        files: &[],
+        args: &[
+            "profile",
+            "--flat",
+            "--length",
+            "100",
+            "--obstacle",
+            "bump:10,0.5",
+        ],
+        fragment: "bump:10,0.5",
+    },
+];
+
+#[test]
+fn every_bad_input_exits_2_with_a_message_that_names_the_problem() {
+    assert!(CASES.len() >= 20);
+    let mut failures = Vec::new();
+    for case in CASES {
+        let dir = scratch();
+        std::fs::write(dir.path().join("car.toml"), GOOD_CAR).unwrap();
+        for (name, text) in case.files {
+            std::fs::write(dir.path().join(name), text).unwrap();
+        }
+        let args: Vec<String> = case
+            .args
+            .iter()
+            .map(|a| match *a {
+                CAR => demo("vehicles/demo_hatchback.toml").display().to_string(),
+                ROAD => demo("roads/demo_rural_c.csv").display().to_string(),
+                other => other.to_string(),
+            })
+            .collect();
+        let before: Vec<_> = std::fs::read_dir(dir.path())
+            .unwrap()
+            .map(|e| e.unwrap().file_name())
+            .collect();
+        let out = roughride()
+            .current_dir(dir.path())
+            .args(&args)
+            .output()
+            .unwrap();
+        let stderr = String::from_utf8_lossy(&out.stderr);
+        let after: Vec<_> = std::fs::read_dir(dir.path())
+            .unwrap()
+            .map(|e| e.unwrap().file_name())
+            .collect();
+        let problems = [
+            (
+                out.status.code() != Some(2),
+                format!("exit status {:?}", out.status.code()),
+            ),
+            (
+                !stderr.contains(case.fragment),
+                format!("no {:?} in stderr", case.fragment),
+            ),
+            (stderr.contains("panicked"), "panic text".to_string()),
+            (
+                !out.stdout.is_empty(),
+                "printed results on stdout".to_string(),
+            ),
+            (
+                before.len() != after.len(),
+                "left a file behind".to_string(),
+            ),
+        ];
+        for (bad, why) in problems {
+            if bad {
+                failures.push(format!("{}: {why}\n  stderr: {}", case.what, stderr.trim()));
+            }
+        }
+    }
+    assert!(
+        failures.is_empty(),
+        "{} of {} cases failed:\n{}",
+        failures.len(),
+        CASES.len(),
+        failures.join("\n")
+    );
+}
