@@ -94,7 +94,9 @@ impl Profile {
         if u >= last as f64 {
             return (last - 1, 1.0);
         }
-        let i = u.floor() as usize;
+        // 0 < u < last here, so truncation is the floor (and needs no libm
+        // call on targets without a rounding instruction).
+        let i = u as usize;
         (i.min(last - 1), u - i as f64)
     }
 
@@ -102,20 +104,29 @@ impl Profile {
     /// end values outside the profile.
     #[inline]
     pub fn elevation_at(&self, x_m: f64) -> f64 {
-        let (i, f) = self.locate(x_m);
-        let e = &self.elevation_m;
-        e[i] + f * (e[i + 1] - e[i])
+        self.elevation_and_slope_at(x_m).0
     }
 
     /// Slope dz/dx at `x_m` (the segment to the right of a sample; zero
     /// outside the profile, where the road is held flat).
     #[inline]
     pub fn slope_at(&self, x_m: f64) -> f64 {
-        if x_m < self.start_m || x_m >= self.end_m() {
-            return 0.0;
-        }
-        let (i, _) = self.locate(x_m);
-        (self.elevation_m[i + 1] - self.elevation_m[i]) / self.spacing_m
+        self.elevation_and_slope_at(x_m).1
+    }
+
+    /// [`Profile::elevation_at`] and [`Profile::slope_at`] together, from
+    /// one segment lookup (the same numbers as the two calls).
+    #[inline]
+    pub fn elevation_and_slope_at(&self, x_m: f64) -> (f64, f64) {
+        let (i, f) = self.locate(x_m);
+        let (a, b) = (self.elevation_m[i], self.elevation_m[i + 1]);
+        let elevation = a + f * (b - a);
+        let slope = if x_m < self.start_m || x_m >= self.end_m() {
+            0.0
+        } else {
+            (b - a) / self.spacing_m
+        };
+        (elevation, slope)
     }
 
     /// R.m.s. elevation about the mean, m.

@@ -16,7 +16,7 @@ use super::{
     Excitation, Plan, RunInfo, Sample, SampleSink, SolveError, SolverKind, all_finite,
     instability_hint, sample_count,
 };
-use crate::vehicle::{Contact, MAX_DOF, Vehicle};
+use crate::vehicle::{Contact, ElementModel, MAX_DOF, Vehicle};
 
 type State = SVector<f64, { 2 * MAX_DOF }>;
 
@@ -24,7 +24,7 @@ type State = SVector<f64, { 2 * MAX_DOF }>;
 const CHUNK_SAMPLES: usize = 1000;
 
 struct Equations<'a> {
-    vehicle: &'a Vehicle,
+    model: ElementModel<'a>,
     excitation: &'a Excitation<'a>,
 }
 
@@ -37,12 +37,13 @@ impl System<f64, State> for Equations<'_> {
         qd.copy_from_slice(&y.as_slice()[MAX_DOF..]);
         let inputs = self.excitation.at(t);
         let mut qdd = [0.0; MAX_DOF];
-        self.vehicle.evaluate(
+        self.model.evaluate_with(
             &q,
             &qd,
             &inputs.road,
             inputs.force_n,
             self.excitation.force_x_m(),
+            Contact::LiftOff,
             &mut qdd,
         );
         for j in 0..MAX_DOF {
@@ -68,6 +69,8 @@ pub(super) fn run(
         qd.copy_from_slice(&y.as_slice()[MAX_DOF..]);
         (q, qd)
     };
+    let model = vehicle.element_model();
+    let force_x_m = excitation.force_x_m();
     let (q0, qd0) = split(&y);
     sink.accept(&Sample::at(
         vehicle,
@@ -95,7 +98,7 @@ pub(super) fn run(
         let t0 = done as f64 * dt;
         let t1 = (done + count) as f64 * dt;
         let system = Equations {
-            vehicle,
+            model: vehicle.element_model(),
             excitation,
         };
         let mut stepper = Dopri5::from_param(
@@ -152,7 +155,16 @@ pub(super) fn run(
                 });
             }
             let (q, qd) = split(state);
-            sink.accept(&Sample::at(vehicle, excitation, t, q, qd, Contact::LiftOff))?;
+            let inputs = excitation.at(t);
+            sink.accept(&Sample::from_inputs(
+                &model,
+                force_x_m,
+                t,
+                inputs,
+                q,
+                qd,
+                Contact::LiftOff,
+            ))?;
         }
         y = ys[count];
         done += count;

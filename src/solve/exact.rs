@@ -21,10 +21,10 @@
 //! interval; at the default 1 kHz and usual spacings this is far below the
 //! adaptive solver's tolerance (a test compares the two).
 
-use nalgebra::{DMatrix, DVector};
+use nalgebra::DMatrix;
 
 use super::{
-    Excitation, Plan, RunInfo, Sample, SampleSink, SolveError, SolverKind, all_finite,
+    Excitation, Inputs, Plan, RunInfo, Sample, SampleSink, SolveError, SolverKind, all_finite,
     instability_hint, sample_count,
 };
 use crate::vehicle::{AXLE_NAMES, Contact, MAX_DOF, Vehicle};
@@ -72,6 +72,74 @@ pub fn discretise(vehicle: &Vehicle, force_x_m: f64, h_s: f64) -> Discrete {
     Discrete { phi, g0, g1 }
 }
 
+/// The discrete update in fixed-size, column-major arrays, for a state of
+/// at most `N` entries (`N = 2·ndof` in the hot loop, so the compiler
+/// unrolls it; rows and columns past the model's size are zero).
+///
+/// The sum runs in the order of a column-by-column matrix–vector product:
+/// `Φ x` first, then `G₀ w_k`, then `G₁ w_{k+1}`, so it gives the same
+/// numbers as [`Discrete`] used through nalgebra's `gemv`.
+#[derive(Debug, Clone, Copy)]
+pub struct Step<const N: usize> {
+    phi: [[f64; N]; N],
+    g0: [[f64; N]; 3],
+    g1: [[f64; N]; 3],
+}
+
+impl<const N: usize> Step<N> {
+    /// The fixed-size form of `d`, or `None` when its state has more than
+    /// `N` entries.
+    pub fn new(d: &Discrete) -> Option<Self> {
+        let n = d.phi.nrows();
+        if n > N || d.g0.ncols() != 3 || d.g1.ncols() != 3 {
+            return None;
+        }
+        let mut s = Step {
+            phi: [[0.0; N]; N],
+            g0: [[0.0; N]; 3],
+            g1: [[0.0; N]; 3],
+        };
+        for r in 0..n {
+            for c in 0..n {
+                s.phi[c][r] = d.phi[(r, c)];
+            }
+            for c in 0..3 {
+                s.g0[c][r] = d.g0[(r, c)];
+                s.g1[c][r] = d.g1[(r, c)];
+            }
+        }
+        Some(s)
+    }
+
+    /// `Φ x + G₀ w_k + G₁ w_{k+1}`.
+    #[inline(always)]
+    pub fn advance(&self, x: &[f64; N], w_k: &[f64; 3], w_next: &[f64; 3]) -> [f64; N] {
+        let mut y = [0.0; N];
+        for (col, &xj) in self.phi.iter().zip(x) {
+            for (yi, &a) in y.iter_mut().zip(col) {
+                *yi += a * xj;
+            }
+        }
+        for (col, &wj) in self.g0.iter().zip(w_k) {
+            for (yi, &a) in y.iter_mut().zip(col) {
+                *yi += a * wj;
+            }
+        }
+        for (col, &wj) in self.g1.iter().zip(w_next) {
+            for (yi, &a) in y.iter_mut().zip(col) {
+                *yi += a * wj;
+            }
+        }
+        y
+    }
+}
+
+/// The hold inputs `w = [r_f, r_r, F]` of one instant.
+#[inline(always)]
+pub(super) fn hold_inputs(i: &Inputs) -> [f64; 3] {
+    [i.road.elevation_m[0], i.road.elevation_m[1], i.force_n]
+}
+
 pub(super) fn run(
     vehicle: &Vehicle,
     excitation: &Excitation<'_>,
@@ -79,25 +147,48 @@ pub(super) fn run(
     sink: &mut dyn SampleSink,
 ) -> Result<RunInfo, SolveError> {
     let dt = 1.0 / plan.output_rate_hz;
+    let d = discretise(vehicle, excitation.force_x_m(), dt);
+    // One monomorphised loop per model size (2, 3 or 4 degrees of freedom);
+    // the last arm also takes any smaller model, padded with zeros.
+    let out = match vehicle.dof_count() {
+        2 => Step::<4>::new(&d).map(|s| run_fixed(vehicle, excitation, plan, sink, &s)),
+        3 => Step::<6>::new(&d).map(|s| run_fixed(vehicle, excitation, plan, sink, &s)),
+        _ => {
+            Step::<{ 2 * MAX_DOF }>::new(&d).map(|s| run_fixed(vehicle, excitation, plan, sink, &s))
+        }
+    };
+    out.unwrap_or_else(|| {
+        Err(SolveError::Settings(format!(
+            "the vehicle has {} degrees of freedom; the exact solver handles at most {MAX_DOF}",
+            vehicle.dof_count()
+        )))
+    })
+}
+
+fn run_fixed<const N: usize>(
+    vehicle: &Vehicle,
+    excitation: &Excitation<'_>,
+    plan: &Plan,
+    sink: &mut dyn SampleSink,
+    step: &Step<N>,
+) -> Result<RunInfo, SolveError> {
+    let dt = 1.0 / plan.output_rate_hz;
     let total = sample_count(excitation.duration_s(), plan.output_rate_hz);
     let n = vehicle.dof_count();
-    let d = discretise(vehicle, excitation.force_x_m(), dt);
-    let mut x = DVector::<f64>::zeros(2 * n);
-    let mut next = DVector::<f64>::zeros(2 * n);
-    let inputs_vec = |t: f64| {
-        let i = excitation.at(t);
-        DVector::from_column_slice(&[i.road.elevation_m[0], i.road.elevation_m[1], i.force_n])
-    };
-    let mut w_k = inputs_vec(0.0);
-    let mut w_next = w_k.clone();
+    let force_x_m = excitation.force_x_m();
+    let model = vehicle.element_model();
+    let mut x = [0.0; N];
+    // Inputs are evaluated once per sample: those of sample k+1 drive the
+    // update and are then reused for that sample's output.
+    let mut inputs = excitation.at(0.0);
     let mut pulls = [0u64; 2];
     for k in 0..total {
         let t = k as f64 * dt;
         let mut q = [0.0; MAX_DOF];
         let mut qd = [0.0; MAX_DOF];
-        q[..n].copy_from_slice(&x.as_slice()[..n]);
-        qd[..n].copy_from_slice(&x.as_slice()[n..]);
-        let sample = Sample::at(vehicle, excitation, t, q, qd, Contact::Bonded);
+        q[..n].copy_from_slice(&x[..n]);
+        qd[..n].copy_from_slice(&x[n..2 * n]);
+        let sample = Sample::from_inputs(&model, force_x_m, t, inputs, q, qd, Contact::Bonded);
         for (i, in_contact) in sample.elements.in_contact.iter().enumerate() {
             if !in_contact {
                 if plan.fallback_to_adaptive {
@@ -109,7 +200,7 @@ pub(super) fn run(
                 pulls[i] += 1;
             }
         }
-        if !all_finite(x.as_slice()) {
+        if !all_finite(&x) {
             return Err(SolveError::NonFinite {
                 time_s: t,
                 hint: instability_hint(vehicle),
@@ -120,16 +211,9 @@ pub(super) fn run(
             return Err(SolveError::Interrupted);
         }
         if k + 1 < total {
-            let i = excitation.at((k + 1) as f64 * dt);
-            w_next[0] = i.road.elevation_m[0];
-            w_next[1] = i.road.elevation_m[1];
-            w_next[2] = i.force_n;
-            // next = Φ x + G₀ w_k + G₁ w_{k+1}, without allocating.
-            next.gemv(1.0, &d.phi, &x, 0.0);
-            next.gemv(1.0, &d.g0, &w_k, 1.0);
-            next.gemv(1.0, &d.g1, &w_next, 1.0);
-            std::mem::swap(&mut x, &mut next);
-            std::mem::swap(&mut w_k, &mut w_next);
+            let next = excitation.at((k + 1) as f64 * dt);
+            x = step.advance(&x, &hold_inputs(&inputs), &hold_inputs(&next));
+            inputs = next;
         }
     }
     Ok(RunInfo {

@@ -23,10 +23,14 @@
 mod adaptive;
 mod exact;
 
+pub use exact::{Discrete, Step, discretise};
+
 use thiserror::Error;
 
 use crate::road::Profile;
-use crate::vehicle::{AXLE_NAMES, Contact, ElementState, MAX_DOF, RoadState, Vehicle};
+use crate::vehicle::{
+    AXLE_NAMES, Contact, ElementModel, ElementState, MAX_DOF, RoadState, Vehicle,
+};
 
 /// Default output rate, Hz: 1 kHz resolves wheel hop (10–15 Hz) and the
 /// ISO 2631-1 weightings up to their 100 Hz band limit.
@@ -90,12 +94,12 @@ impl Excitation<'_> {
         let z0 = p.elevation_m[0];
         let x_front = p.start_m + self.speed_m_s * t_s;
         let x_rear = x_front - self.wheelbase_m;
+        // One segment lookup per axle for both elevation and slope.
+        let (e_front, s_front) = p.elevation_and_slope_at(x_front);
+        let (e_rear, s_rear) = p.elevation_and_slope_at(x_rear);
         let road = RoadState {
-            elevation_m: [p.elevation_at(x_front) - z0, p.elevation_at(x_rear) - z0],
-            rate_m_s: [
-                p.slope_at(x_front) * self.speed_m_s,
-                p.slope_at(x_rear) * self.speed_m_s,
-            ],
+            elevation_m: [e_front - z0, e_rear - z0],
+            rate_m_s: [s_front * self.speed_m_s, s_rear * self.speed_m_s],
         };
         let force_n = self.force.map_or(0.0, |f| {
             f.amplitude_n * (2.0 * std::f64::consts::PI * f.frequency_hz * t_s).sin()
@@ -259,14 +263,36 @@ impl Sample {
         qd: [f64; MAX_DOF],
         contact: Contact,
     ) -> Sample {
-        let inputs = excitation.at(time_s);
+        Sample::from_inputs(
+            &vehicle.element_model(),
+            excitation.force_x_m(),
+            time_s,
+            excitation.at(time_s),
+            q,
+            qd,
+            contact,
+        )
+    }
+
+    /// [`Sample::at`] for inputs already evaluated at `time_s` and a
+    /// prepared element model (the solvers' hot loops).
+    #[inline]
+    pub(crate) fn from_inputs(
+        model: &ElementModel<'_>,
+        force_x_m: f64,
+        time_s: f64,
+        inputs: Inputs,
+        q: [f64; MAX_DOF],
+        qd: [f64; MAX_DOF],
+        contact: Contact,
+    ) -> Sample {
         let mut qdd = [0.0; MAX_DOF];
-        let elements = vehicle.evaluate_with(
+        let elements = model.evaluate_with(
             &q,
             &qd,
             &inputs.road,
             inputs.force_n,
-            excitation.force_x_m(),
+            force_x_m,
             contact,
             &mut qdd,
         );

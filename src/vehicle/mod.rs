@@ -401,18 +401,67 @@ impl Vehicle {
         contact_model: Contact,
         qdd: &mut [f64; MAX_DOF],
     ) -> ElementState {
+        self.element_model()
+            .evaluate_with(q, qd, road, force_n, force_x_m, contact_model, qdd)
+    }
+
+    /// The element model with its per-vehicle constants (static loads,
+    /// masses, wheel coordinates) worked out once, for loops that evaluate
+    /// it at every sample or solver stage.
+    pub fn element_model(&self) -> ElementModel<'_> {
+        ElementModel {
+            vehicle: self,
+            static_suspension_n: self.static_suspension_n(),
+            static_contact_n: self.static_contact_n(),
+            mass: self.mass_diagonal(),
+            wheel: [self.wheel_dof(0), self.wheel_dof(1)],
+        }
+    }
+}
+
+/// [`Vehicle::evaluate_with`] with the vehicle's constants precomputed
+/// ([`Vehicle::element_model`]); the arithmetic is the same, so are the
+/// results.
+#[derive(Debug, Clone, Copy)]
+pub struct ElementModel<'a> {
+    vehicle: &'a Vehicle,
+    static_suspension_n: [f64; 2],
+    static_contact_n: [f64; 2],
+    mass: [f64; MAX_DOF],
+    wheel: [Option<usize>; 2],
+}
+
+impl ElementModel<'_> {
+    /// The vehicle this model evaluates.
+    pub fn vehicle(&self) -> &Vehicle {
+        self.vehicle
+    }
+
+    /// See [`Vehicle::evaluate_with`].
+    #[inline]
+    #[allow(clippy::too_many_arguments)]
+    pub fn evaluate_with(
+        &self,
+        q: &[f64; MAX_DOF],
+        qd: &[f64; MAX_DOF],
+        road: &RoadState,
+        force_n: f64,
+        force_x_m: f64,
+        contact_model: Contact,
+        qdd: &mut [f64; MAX_DOF],
+    ) -> ElementState {
         let lift_off = contact_model == Contact::LiftOff;
-        let static_s = self.static_suspension_n();
-        let static_c = self.static_contact_n();
-        let mass = self.mass_diagonal();
+        let static_s = &self.static_suspension_n;
+        let static_c = &self.static_contact_n;
+        let mass = &self.mass;
         let mut out = ElementState::default();
         let mut body_force = force_n;
         let mut body_moment = force_n * force_x_m;
         *qdd = [0.0; MAX_DOF];
-        for (i, axle) in self.axles.iter().enumerate() {
+        for (i, axle) in self.vehicle.axles.iter().enumerate() {
             let zb = q[0] + axle.x_m * q[1];
             let vb = qd[0] + axle.x_m * qd[1];
-            let wheel = self.wheel_dof(i);
+            let wheel = self.wheel[i].filter(|&w| w < MAX_DOF);
             let (zl, vl) = match wheel {
                 Some(w) => (q[w], qd[w]),
                 None => (road.elevation_m[i], road.rate_m_s[i]),
