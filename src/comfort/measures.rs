@@ -68,7 +68,10 @@ pub struct Meter {
     ring_pos: usize,
     ring_sum: f64,
     since_resum: usize,
-    max_window_mean: f64,
+    // Largest window sum seen (divided by the window length only in
+    // `finish`: division by a positive constant keeps the order, so the
+    // maximum of the quotients is the quotient of the maximum).
+    max_window_sum: f64,
 }
 
 impl Meter {
@@ -89,11 +92,12 @@ impl Meter {
             ring_pos: 0,
             ring_sum: 0.0,
             since_resum: 0,
-            max_window_mean: 0.0,
+            max_window_sum: 0.0,
         })
     }
 
     /// Adds one sample, m/s².
+    #[inline]
     pub fn push(&mut self, accel_m_s2: f64) {
         let w = self.filter.process(accel_m_s2);
         let w2 = w * w;
@@ -105,7 +109,10 @@ impl Meter {
 
         let len = self.ring.len();
         let old = std::mem::replace(&mut self.ring[self.ring_pos], w2);
-        self.ring_pos = (self.ring_pos + 1) % len;
+        self.ring_pos += 1;
+        if self.ring_pos == len {
+            self.ring_pos = 0;
+        }
         self.ring_sum += w2 - old;
         self.since_resum += 1;
         if self.since_resum >= len {
@@ -115,9 +122,7 @@ impl Meter {
             self.since_resum = 0;
         }
         if self.n >= len as u64 {
-            self.max_window_mean = self
-                .max_window_mean
-                .max(self.ring_sum.max(0.0) / len as f64);
+            self.max_window_sum = self.max_window_sum.max(self.ring_sum.max(0.0));
         }
     }
 
@@ -129,7 +134,7 @@ impl Meter {
         let aw = (self.sum_w2 / n).sqrt();
         let vdv = (self.sum_w4 * self.dt_s).powf(0.25);
         let mtvv = if self.n >= self.ring.len() as u64 {
-            self.max_window_mean.sqrt()
+            (self.max_window_sum / self.ring.len() as f64).sqrt()
         } else {
             aw
         };

@@ -26,14 +26,20 @@ pub enum StatsError {
     Parameter(String),
 }
 
-/// Streaming count, mean, r.m.s., standard deviation, minimum and maximum
-/// (Welford's update for the mean and variance: B. P. Welford,
-/// Technometrics 4(3), 1962).
+/// Streaming count, mean, r.m.s., standard deviation, minimum and maximum.
+///
+/// Sums of the deviations from the first value pushed (the shifted-data
+/// algorithm: Chan, Golub & LeVeque, "Algorithms for computing the sample
+/// variance", The American Statistician 37(3), 1983): no division per value,
+/// unlike Welford's update, and no catastrophic cancellation as long as the
+/// first value is not far from the mean compared with the spread — true of
+/// every dynamic quantity of a run, which starts at rest at zero.
 #[derive(Debug, Clone, Default)]
 pub struct Moments {
     n: u64,
-    mean: f64,
-    m2: f64,
+    shift: f64,
+    sum_d: f64,
+    sum_d2: f64,
     min: f64,
     max: f64,
 }
@@ -47,17 +53,18 @@ impl Moments {
     /// Adds one value.
     #[inline]
     pub fn push(&mut self, x: f64) {
-        self.n += 1;
-        if self.n == 1 {
+        if self.n == 0 {
+            self.shift = x;
             self.min = x;
             self.max = x;
         } else {
             self.min = self.min.min(x);
             self.max = self.max.max(x);
         }
-        let d = x - self.mean;
-        self.mean += d / self.n as f64;
-        self.m2 += d * (x - self.mean);
+        self.n += 1;
+        let d = x - self.shift;
+        self.sum_d += d;
+        self.sum_d2 += d * d;
     }
 
     /// Number of values pushed.
@@ -67,7 +74,20 @@ impl Moments {
 
     /// Arithmetic mean (0 when empty).
     pub fn mean(&self) -> f64 {
-        self.mean
+        if self.n == 0 {
+            0.0
+        } else {
+            self.shift + self.sum_d / self.n as f64
+        }
+    }
+
+    /// `Σ(x − mean)²`: the shifted sums' `Σd² − (Σd)²/n`, never negative.
+    fn sum_sq_dev(&self) -> f64 {
+        if self.n == 0 {
+            0.0
+        } else {
+            (self.sum_d2 - self.sum_d * self.sum_d / self.n as f64).max(0.0)
+        }
     }
 
     /// Population variance `Σ(x − mean)²/n` (0 when empty).
@@ -75,7 +95,7 @@ impl Moments {
         if self.n == 0 {
             0.0
         } else {
-            self.m2 / self.n as f64
+            self.sum_sq_dev() / self.n as f64
         }
     }
 
@@ -89,13 +109,14 @@ impl Moments {
         if self.n < 2 {
             0.0
         } else {
-            (self.m2 / (self.n - 1) as f64).sqrt()
+            (self.sum_sq_dev() / (self.n - 1) as f64).sqrt()
         }
     }
 
     /// Root mean square `√(Σx²/n) = √(mean² + variance)` (0 when empty).
     pub fn rms(&self) -> f64 {
-        (self.mean * self.mean + self.variance()).sqrt()
+        let mean = self.mean();
+        (mean * mean + self.variance()).sqrt()
     }
 
     /// Smallest value (NaN when empty).
