@@ -12,7 +12,7 @@ use std::io::Write;
 
 use serde::Serialize;
 
-use crate::comfort::{Measures, Meter, Weighting};
+use crate::comfort::{Guidance, Measures, Meter, Weighting, guidance};
 use crate::report::{AtomicFile, ExportError};
 use crate::road::Profile;
 use crate::solve::{
@@ -20,6 +20,10 @@ use crate::solve::{
     SolverSettings,
 };
 use crate::stats::Moments;
+use crate::stats::durability::{
+    AxleDurability, DurabilitySettings, DurabilitySummary, write_rainflow_header,
+    write_travel_histograms,
+};
 use crate::vehicle::{AXLE_NAMES, Vehicle};
 
 /// Everything a run needs besides the vehicle and road.
@@ -34,7 +38,15 @@ pub struct RunOptions {
     pub weighting: Weighting,
     /// Optional harmonic body force.
     pub force: Option<HarmonicForce>,
+    /// Daily exposure duration for the ISO 2631-1 health guidance, s.
+    pub exposure_s: f64,
+    /// Durability evaluation settings.
+    pub durability: DurabilitySettings,
 }
+
+/// Eight hours, s: the reference day of ISO 2631-1 Annex B and of the
+/// EU Directive 2002/44/EC A(8).
+pub const DEFAULT_EXPOSURE_S: f64 = 8.0 * 3600.0;
 
 impl RunOptions {
     /// Defaults for a run at `speed_m_s`.
@@ -44,6 +56,8 @@ impl RunOptions {
             solver: SolverSettings::default(),
             weighting: Weighting::Wk,
             force: None,
+            exposure_s: DEFAULT_EXPOSURE_S,
+            durability: DurabilitySettings::default(),
         }
     }
 }
@@ -79,6 +93,9 @@ pub struct SeatSummary {
     /// The measures (accel_rms, aw, vdv, mtvv, crest_factor, …), flattened.
     #[serde(flatten)]
     pub measures: Measures,
+    /// Comfort (Annex C) and health (Annex B, Directive 2002/44/EC)
+    /// guidance for the run's exposure duration: estimates, not measurements.
+    pub guidance: Guidance,
 }
 
 /// Front and rear axle results.
@@ -109,6 +126,9 @@ pub struct AxleSummary {
     pub dynamic_load_coefficient: f64,
     /// Fraction of samples with the tyre off the road.
     pub time_off_ground_fraction: f64,
+    /// Travel percentiles, stop engagement, crossings, rainflow.
+    #[serde(flatten)]
+    pub durability: DurabilitySummary,
 }
 
 /// Body motion r.m.s. values.
@@ -132,6 +152,23 @@ pub fn simulate(
     options: &RunOptions,
     history: Option<&mut AtomicFile>,
 ) -> Result<RunSummary, crate::Error> {
+    simulate_detailed(vehicle, profile, options, history).map(|(s, _)| s)
+}
+
+/// [`simulate`], also returning the per-axle durability evaluators so the
+/// caller can write their histograms and rainflow tables.
+pub fn simulate_detailed(
+    vehicle: &Vehicle,
+    profile: &Profile,
+    options: &RunOptions,
+    history: Option<&mut AtomicFile>,
+) -> Result<(RunSummary, Durability), crate::Error> {
+    if !(options.exposure_s.is_finite() && options.exposure_s > 0.0) {
+        return Err(crate::Error::Usage(format!(
+            "--exposure must be a positive duration, got {} s",
+            options.exposure_s
+        )));
+    }
     let excitation = Excitation {
         profile,
         speed_m_s: options.speed_m_s,
@@ -141,7 +178,38 @@ pub fn simulate(
     let plan = solve::plan(vehicle, &excitation, &options.solver)?;
     let mut sink = Evaluators::new(vehicle, options, plan.output_rate_hz, history)?;
     let info = solve::run(vehicle, &excitation, &plan, &mut sink)?;
-    Ok(sink.summary(vehicle, &excitation, info))
+    let summary = sink.summary(vehicle, &excitation, info, options.exposure_s);
+    Ok((
+        summary,
+        Durability {
+            axles: sink.durability,
+        },
+    ))
+}
+
+/// The durability evaluators of a finished run (front, rear).
+pub struct Durability {
+    axles: [AxleDurability; 2],
+}
+
+impl Durability {
+    /// Writes both axles' travel histograms as one CSV.
+    pub fn write_travel_histograms(&self, out: &mut dyn Write) -> std::io::Result<()> {
+        write_travel_histograms(
+            self.axles[0].travel_histogram(),
+            self.axles[1].travel_histogram(),
+            out,
+        )
+    }
+
+    /// Writes both axles' rainflow range–mean tables (travel and force) as one CSV.
+    pub fn write_rainflow(&self, out: &mut dyn Write) -> std::io::Result<()> {
+        write_rainflow_header(out)?;
+        for (a, name) in self.axles.iter().zip(AXLE_NAMES) {
+            a.write_rainflow_rows(name, out)?;
+        }
+        Ok(())
+    }
 }
 
 /// The streaming evaluators of one run.
@@ -158,6 +226,9 @@ struct Evaluators<'h> {
     pitch: Moments,
     heave_acc: Moments,
     pitch_acc: Moments,
+    durability: [AxleDurability; 2],
+    durability_settings: DurabilitySettings,
+    clearances: [(Option<f64>, Option<f64>); 2],
     history: Option<&'h mut AtomicFile>,
     header: String,
     line: String,
@@ -175,7 +246,20 @@ impl<'h> Evaluators<'h> {
             .iter()
             .map(|_| Meter::new(options.weighting, rate_hz))
             .collect::<Result<Vec<_>, _>>()?;
+        let clearances = [0, 1].map(|i| {
+            vehicle.axles[i].stops.map_or((None, None), |s| {
+                (s.bump_clearance_m, s.rebound_clearance_m)
+            })
+        });
+        let durability_err = |e: crate::stats::StatsError| crate::Error::Usage(e.to_string());
+        let durability = [
+            AxleDurability::new(&options.durability, clearances[0]).map_err(durability_err)?,
+            AxleDurability::new(&options.durability, clearances[1]).map_err(durability_err)?,
+        ];
         Ok(Evaluators {
+            durability,
+            durability_settings: options.durability.clone(),
+            clearances,
             seat_x_m: vehicle.seats.iter().map(|s| s.x_m).collect(),
             weighting: options.weighting,
             rate_hz,
@@ -200,6 +284,10 @@ impl<'h> Evaluators<'h> {
             *m = Meter::new(self.weighting, self.rate_hz)
                 .map_err(|e| SolveError::Settings(e.to_string()))?;
         }
+        for i in 0..2 {
+            self.durability[i] = AxleDurability::new(&self.durability_settings, self.clearances[i])
+                .map_err(|e| SolveError::Settings(e.to_string()))?;
+        }
         self.travel = Default::default();
         self.suspension = Default::default();
         self.contact = Default::default();
@@ -211,8 +299,15 @@ impl<'h> Evaluators<'h> {
         Ok(())
     }
 
-    fn summary(&self, vehicle: &Vehicle, excitation: &Excitation<'_>, info: RunInfo) -> RunSummary {
+    fn summary(
+        &mut self,
+        vehicle: &Vehicle,
+        excitation: &Excitation<'_>,
+        info: RunInfo,
+        exposure_s: f64,
+    ) -> RunSummary {
         let statics = vehicle.static_contact_n();
+        let durability = [self.durability[0].finish(), self.durability[1].finish()];
         let axle = |i: usize| {
             let n = self.travel[i].count().max(1) as f64;
             AxleSummary {
@@ -224,6 +319,7 @@ impl<'h> Evaluators<'h> {
                 static_load: statics[i],
                 dynamic_load_coefficient: self.contact[i].rms() / statics[i],
                 time_off_ground_fraction: self.off_ground[i] as f64 / n,
+                durability: durability[i].clone(),
             }
         };
         RunSummary {
@@ -236,10 +332,14 @@ impl<'h> Evaluators<'h> {
                 .seats
                 .iter()
                 .zip(&self.seats)
-                .map(|(s, m)| SeatSummary {
-                    name: s.name.clone(),
-                    x_m: s.x_m,
-                    measures: m.finish(),
+                .map(|(s, m)| {
+                    let measures = m.finish();
+                    SeatSummary {
+                        name: s.name.clone(),
+                        x_m: s.x_m,
+                        guidance: guidance(&measures, exposure_s),
+                        measures,
+                    }
                 })
                 .collect(),
             axles: Axles {
@@ -295,6 +395,7 @@ impl SampleSink for Evaluators<'_> {
             self.travel[i].push(s.elements.travel_m[i]);
             self.suspension[i].push(s.elements.suspension_n[i]);
             self.contact[i].push(s.elements.contact_n[i]);
+            self.durability[i].push(s.elements.travel_m[i], s.elements.suspension_n[i]);
             if !s.elements.in_contact[i] {
                 self.off_ground[i] += 1;
             }

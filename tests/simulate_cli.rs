@@ -250,3 +250,71 @@ fn a_failed_run_leaves_no_history_file() {
     assert_eq!(common::read(&hist), "previous good result\n");
     assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 1);
 }
+
+#[test]
+fn durability_files_conserve_counts_and_match_the_summary() {
+    let dir = scratch();
+    let (hist, rf) = (
+        dir.path().join("travel.csv"),
+        dir.path().join("rainflow.csv"),
+    );
+    let out = roughride()
+        .args([
+            "simulate",
+            "--vehicle",
+            demo("vehicles/demo_van_stops.toml").to_str().unwrap(),
+        ])
+        .args([
+            "--profile",
+            demo("roads/gravel_track_e_potholes.csv").to_str().unwrap(),
+            "--speed",
+            "10",
+            "--rate",
+            "500",
+            "--json",
+        ])
+        .arg("--travel-histogram")
+        .arg(&hist)
+        .arg("--rainflow")
+        .arg(&rf)
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    let v: serde_json::Value = serde_json::from_slice(&out).unwrap();
+    let samples = v["solver"]["samples"].as_u64().unwrap();
+    // Histograms conserve the sample count of each axle (under/overflow rows included).
+    let text = common::read(&hist);
+    let (mut front, mut rear) = (0u64, 0u64);
+    for line in text.lines().skip(1) {
+        let cells: Vec<&str> = line.split(',').collect();
+        front += cells[2].parse::<u64>().unwrap();
+        rear += cells[3].parse::<u64>().unwrap();
+    }
+    assert_eq!((front, rear), (samples, samples));
+    // The rainflow table holds every counted travel cycle of the summary.
+    let table = common::read(&rf);
+    for (axle, key) in [("front", "front"), ("rear", "rear")] {
+        let total: f64 = table
+            .lines()
+            .skip(1)
+            .filter(|l| l.starts_with(&format!("{axle},travel_m,")))
+            .map(|l| l.rsplit(',').next().unwrap().parse::<f64>().unwrap())
+            .sum();
+        let expected = v["axles"][key]["travel_cycles"].as_f64().unwrap();
+        assert!(
+            (total - expected).abs() < 1e-9,
+            "{axle}: {total} vs {expected}"
+        );
+    }
+    // Stops exist on the van: the fraction past them is reported.
+    assert!(
+        v["axles"]["front"]["time_past_bump_fraction"]
+            .as_f64()
+            .is_some()
+    );
+    // Health guidance comes with its caution.
+    assert!(v["caution"].as_str().unwrap().contains("estimates"));
+    assert!(v["seats"][0]["guidance"]["a8_m_s2"].as_f64().is_some());
+}

@@ -7,12 +7,14 @@ use serde::Serialize;
 
 use roughride::Error;
 use roughride::batch::values::parse_speed_m_s;
+use roughride::comfort::HEALTH_CAUTION;
 use roughride::comfort::Weighting;
 use roughride::pipeline::{self, RunOptions, RunSummary};
-use roughride::report::{AtomicFile, Table, json_line, sig};
+use roughride::report::{AtomicFile, Table, io_error, json_line, sig, write_atomic};
 use roughride::road::iso8608::{RoadClass, RoadSpec, generate};
 use roughride::road::{Profile, read_profile_csv};
 use roughride::solve::{SolverChoice, SolverSettings};
+use roughride::stats::durability::DurabilitySettings;
 use roughride::vehicle::{Vehicle, read_vehicle};
 
 /// Run a vehicle over a road at a constant speed and report ride comfort
@@ -67,10 +69,30 @@ pub struct Args {
     /// Frequency weighting for the seats (wk, wd, wf, wc, we, wj, none).
     #[arg(long, default_value = "wk", value_parser = parse_weighting)]
     pub weighting: Weighting,
+    /// Daily exposure for the ISO 2631-1 health guidance: 8h, 30min, 3600s.
+    #[arg(long, value_name = "DURATION", default_value = "8h", value_parser = parse_duration)]
+    pub exposure: f64,
+    /// Write both axles' suspension-travel histograms (CSV) to this file.
+    #[arg(long, value_name = "FILE")]
+    pub travel_histogram: Option<PathBuf>,
+    /// Bin width of the travel histogram, m.
+    #[arg(long, value_name = "M", default_value_t = 0.002)]
+    pub travel_bin: f64,
+    /// Write rainflow range–mean tables (ASTM E1049-85) of travel and
+    /// suspension force, per axle, as CSV to this file.
+    #[arg(long, value_name = "FILE")]
+    pub rainflow: Option<PathBuf>,
+    /// S–N exponents for the damage-equivalent ranges, comma-separated.
+    #[arg(long, value_name = "M,…", value_delimiter = ',', default_values_t = [3.0, 5.0])]
+    pub sn_exponent: Vec<f64>,
 }
 
 fn parse_speed(s: &str) -> Result<f64, String> {
     parse_speed_m_s(s).map_err(|e| e.to_string())
+}
+
+fn parse_duration(s: &str) -> Result<f64, String> {
+    roughride::batch::values::parse_duration_s(s).map_err(|e| e.to_string())
 }
 
 fn parse_solver(s: &str) -> Result<SolverChoice, String> {
@@ -105,6 +127,7 @@ struct Output<'a> {
     summary: &'a RunSummary,
     road: RoadInfo,
     warnings: Vec<String>,
+    caution: &'static str,
 }
 
 /// Loads the road the arguments name.
@@ -169,9 +192,29 @@ pub fn run(a: Args) -> Result<(), Error> {
         },
         weighting: a.weighting,
         force: None,
+        exposure_s: a.exposure,
+        durability: DurabilitySettings {
+            travel_bin_m: a.travel_bin,
+            sn_exponents: a.sn_exponent.clone(),
+            ..DurabilitySettings::default()
+        },
     };
     let mut history = a.history.as_deref().map(AtomicFile::create).transpose()?;
-    let summary = pipeline::simulate(&vehicle, &profile, &options, history.as_mut())?;
+    let (summary, durability) =
+        pipeline::simulate_detailed(&vehicle, &profile, &options, history.as_mut())?;
+    if let Some(path) = &a.travel_histogram {
+        write_atomic(path, |w| {
+            durability
+                .write_travel_histograms(w)
+                .map_err(|e| io_error(path, e))
+        })?;
+    }
+    if let Some(path) = &a.rainflow {
+        write_atomic(path, |w| {
+            durability.write_rainflow(w).map_err(|e| io_error(path, e))
+        })?;
+    }
+    // The history is committed last, once every other output is in place.
     if let Some(h) = history {
         h.commit()?;
     }
@@ -192,6 +235,7 @@ pub fn run(a: Args) -> Result<(), Error> {
         summary: &summary,
         road,
         warnings,
+        caution: HEALTH_CAUTION,
     };
     if a.json {
         print!("{}", json_line(&out, "simulation summary")?);
@@ -278,6 +322,52 @@ fn render(o: &Output<'_>) -> String {
     }
     out.push_str(&axles.render());
     out.push('\n');
+    let mut dur = Table::new("Durability: travel percentiles and rainflow (ASTM E1049-85)")
+        .with_header([
+            "axle",
+            "p1 mm",
+            "p50 mm",
+            "p99 mm",
+            "past bump %",
+            "past rebound %",
+            "travel cycles",
+        ]);
+    for (name, a) in [("front", &s.axles.front), ("rear", &s.axles.rear)] {
+        let d = &a.durability;
+        let p = |q: f64| {
+            d.travel_percentiles_m
+                .iter()
+                .find(|(k, _)| *k == q)
+                .map_or("-".to_string(), |(_, v)| sig(v * 1e3, 3))
+        };
+        let pct = |f: Option<f64>| f.map_or("-".to_string(), |v| sig(v * 100.0, 3));
+        dur.row([
+            name.to_string(),
+            p(1.0),
+            p(50.0),
+            p(99.0),
+            pct(d.time_past_bump_fraction),
+            pct(d.time_past_rebound_fraction),
+            sig(d.travel_cycles, 4),
+        ]);
+    }
+    for e in &s.axles.front.durability.damage_equivalent {
+        let rear = s
+            .axles
+            .rear
+            .durability
+            .damage_equivalent
+            .iter()
+            .find(|r| r.sn_exponent == e.sn_exponent);
+        dur.note(format!(
+            "damage-equivalent force range, m = {}: front {} N, rear {} N",
+            sig(e.sn_exponent, 3),
+            sig(e.force_range_n, 3),
+            rear.map_or("-".to_string(), |r| sig(r.force_range_n, 3))
+        ));
+    }
+    out.push_str(&dur.render());
+    out.push('\n');
     let mut body = Table::new("Body").with_header(["quantity", "rms"]);
     body.row([
         "heave acceleration m/s²".to_string(),
@@ -290,5 +380,33 @@ fn render(o: &Output<'_>) -> String {
     body.row(["heave mm".to_string(), sig(s.body.heave_rms * 1e3, 3)]);
     body.row(["pitch mrad".to_string(), sig(s.body.pitch_rms * 1e3, 3)]);
     out.push_str(&body.render());
+    out.push('\n');
+    let exposure_h = s
+        .seats
+        .first()
+        .map_or(8.0, |x| x.guidance.exposure_s / 3600.0);
+    let mut guide = Table::new(format!(
+        "Guidance (ISO 2631-1 Annex C comfort; Annex B and Directive 2002/44/EC for {} h a day)",
+        sig(exposure_h, 3)
+    ))
+    .with_header([
+        "seat",
+        "comfort reaction",
+        "A(8) m/s²",
+        "A(8) status",
+        "caution zone (B.1)",
+    ]);
+    for seat in &s.seats {
+        let g = &seat.guidance;
+        guide.row([
+            seat.name.clone(),
+            g.comfort_label.clone(),
+            sig(g.a8_m_s2, 3),
+            g.a8_status.to_string(),
+            g.caution_zone_b1.position.to_string(),
+        ]);
+    }
+    guide.note(HEALTH_CAUTION);
+    out.push_str(&guide.render());
     out
 }

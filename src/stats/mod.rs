@@ -9,6 +9,7 @@
 //! column names (with units) from the caller.
 
 mod crossings;
+pub mod durability;
 mod histogram;
 pub mod rainflow;
 

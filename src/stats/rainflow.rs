@@ -19,6 +19,7 @@ use std::collections::BTreeMap;
 use std::io::{self, Write};
 
 use super::StatsError;
+use crate::report::fmt_grid;
 
 /// One counted cycle (or half cycle).
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -178,6 +179,11 @@ impl DamageEquivalent {
         self.cycles += c.count;
     }
 
+    /// The S–N exponent m.
+    pub fn exponent(&self) -> f64 {
+        self.m
+    }
+
     /// Cycles counted so far (halves included).
     pub fn cycles(&self) -> f64 {
         self.cycles
@@ -255,9 +261,11 @@ impl RangeMeanTable {
             let (r0, m0) = (r as f64 * self.range_bin, m as f64 * self.mean_bin);
             writeln!(
                 out,
-                "{r0},{},{m0},{},{n}",
-                r0 + self.range_bin,
-                m0 + self.mean_bin
+                "{},{},{},{},{n}",
+                fmt_grid(r0),
+                fmt_grid(r0 + self.range_bin),
+                fmt_grid(m0),
+                fmt_grid(m0 + self.mean_bin)
             )?;
         }
         Ok(())
