@@ -172,6 +172,17 @@ pub fn json_line<T: serde::Serialize>(value: &T, what: &str) -> Result<String, E
         })
 }
 
+/// A bin edge or grid value `k·w` without the rounding noise of the
+/// multiplication (`0.036000000000000004` → `0.036`): rounded to 12 decimal
+/// places, printed in Rust's shortest round-trip form (deterministic).
+pub fn fmt_grid(x: f64) -> String {
+    if !x.is_finite() {
+        return format!("{x}");
+    }
+    let r = (x * 1e12).round() / 1e12;
+    format!("{}", if r == 0.0 { 0.0 } else { r })
+}
+
 /// Wraps an I/O error while writing `path` (use inside `fill` closures).
 pub fn io_error(path: &Path, source: io::Error) -> ExportError {
     ExportError::Io {
