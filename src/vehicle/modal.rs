@@ -350,82 +350,62 @@ fn best_assignment(
     real: &[usize],
     score: &[Vec<f64>],
 ) -> Option<Vec<Slot>> {
-    fn go(
-        mode: usize,
+    struct Search<'a> {
         modes: usize,
-        complex: &[usize],
-        real: &[usize],
-        used: &mut Vec<bool>,
-        score: &[Vec<f64>],
-        current: &mut Vec<Slot>,
-        total: f64,
-        best: &mut Option<(f64, Vec<Slot>)>,
-    ) {
-        if mode == modes {
-            if best.as_ref().is_none_or(|(b, _)| total > *b + 1e-12) {
-                *best = Some((total, current.clone()));
+        complex: &'a [usize],
+        real: &'a [usize],
+        score: &'a [Vec<f64>],
+        used: Vec<bool>,
+        current: Vec<Slot>,
+        best: Option<(f64, Vec<Slot>)>,
+    }
+    impl Search<'_> {
+        fn go(&mut self, mode: usize, total: f64) {
+            if mode == self.modes {
+                if self.best.as_ref().is_none_or(|(b, _)| total > *b + 1e-12) {
+                    self.best = Some((total, self.current.clone()));
+                }
+                return;
             }
-            return;
-        }
-        for &c in complex {
-            if !used[c] {
-                used[c] = true;
-                current.push(Slot::Pair(c));
-                go(
-                    mode + 1,
-                    modes,
-                    complex,
-                    real,
-                    used,
-                    score,
-                    current,
-                    total + score[mode][c],
-                    best,
-                );
-                current.pop();
-                used[c] = false;
+            for ic in 0..self.complex.len() {
+                let c = self.complex[ic];
+                if !self.used[c] {
+                    self.used[c] = true;
+                    self.current.push(Slot::Pair(c));
+                    self.go(mode + 1, total + self.score[mode][c]);
+                    self.current.pop();
+                    self.used[c] = false;
+                }
             }
-        }
-        for (ia, &a) in real.iter().enumerate() {
-            for &b in &real[ia + 1..] {
-                if !used[a] && !used[b] {
-                    used[a] = true;
-                    used[b] = true;
-                    current.push(Slot::Real(a, b));
-                    let s = 0.5 * (score[mode][a] + score[mode][b]);
-                    go(
-                        mode + 1,
-                        modes,
-                        complex,
-                        real,
-                        used,
-                        score,
-                        current,
-                        total + s,
-                        best,
-                    );
-                    current.pop();
-                    used[a] = false;
-                    used[b] = false;
+            for ia in 0..self.real.len() {
+                for ib in ia + 1..self.real.len() {
+                    let (a, b) = (self.real[ia], self.real[ib]);
+                    if !self.used[a] && !self.used[b] {
+                        self.used[a] = true;
+                        self.used[b] = true;
+                        self.current.push(Slot::Real(a, b));
+                        let s = 0.5 * (self.score[mode][a] + self.score[mode][b]);
+                        self.go(mode + 1, total + s);
+                        self.current.pop();
+                        self.used[a] = false;
+                        self.used[b] = false;
+                    }
                 }
             }
         }
     }
     let roots = score.first().map_or(0, |r| r.len());
-    let mut used = vec![false; roots];
-    let mut best = None;
-    go(
-        0,
+    let mut search = Search {
         modes,
         complex,
         real,
-        &mut used,
         score,
-        &mut Vec::new(),
-        0.0,
-        &mut best,
-    );
-    best.map(|(_, s)| s)
+        used: vec![false; roots],
+        current: Vec::new(),
+        best: None,
+    };
+    search.go(0, 0.0);
+    search.best.map(|(_, s)| s)
 }
 
 /// Labels by dominant kinetic energy, each label used once.
@@ -656,8 +636,8 @@ fn guidance(ride: &RideFrequencies, pitch_to_bounce: f64, dynamic_index: f64) ->
         FLAT_RIDE_FRONT_TO_REAR * 100.0
     ));
     if pitch_to_bounce.is_finite() {
-        let close = if pitch_to_bounce <= CLOSE_PITCH_BOUNCE_RATIO
-            && pitch_to_bounce >= 1.0 / CLOSE_PITCH_BOUNCE_RATIO
+        let close = if (1.0 / CLOSE_PITCH_BOUNCE_RATIO..=CLOSE_PITCH_BOUNCE_RATIO)
+            .contains(&pitch_to_bounce)
         {
             "within"
         } else {
