@@ -12,9 +12,15 @@ use roughride::comfort::Weighting;
 use roughride::pipeline::{self, RunOptions, RunSummary};
 use roughride::report::{AtomicFile, Table, io_error, json_line, sig, write_atomic};
 use roughride::road::iso8608::{RoadClass, RoadSpec, generate};
+use roughride::road::obstacle::flat;
 use roughride::road::{Profile, read_profile_csv};
+use roughride::solve::HarmonicForce;
 use roughride::solve::{SolverChoice, SolverSettings};
 use roughride::stats::durability::DurabilitySettings;
+use roughride::vehicle::response::{
+    HarmonicAmplitudes, PredictedRms, SpectralSettings, harmonic_force_amplitudes,
+    predicted_rms_with,
+};
 use roughride::vehicle::{Vehicle, read_vehicle};
 
 /// Run a vehicle over a road at a constant speed and report ride comfort
@@ -31,20 +37,28 @@ pub struct Args {
     #[arg(long, value_name = "FILE")]
     pub vehicle: PathBuf,
     /// Road profile CSV (distance_m,elevation_m).
-    #[arg(long, value_name = "FILE", conflicts_with_all = ["class"], required_unless_present = "class")]
+    #[arg(long, value_name = "FILE", conflicts_with_all = ["class", "flat"], required_unless_present_any = ["class", "flat"])]
     pub profile: Option<PathBuf>,
     /// ISO 8608 road class A–H for a generated road.
-    #[arg(long, value_name = "A-H", requires = "length")]
+    #[arg(long, value_name = "A-H", requires = "length", conflicts_with = "flat")]
     pub class: Option<RoadClass>,
+    /// A flat road of --length metres (e.g. for --force alone).
+    #[arg(long, requires = "length")]
+    pub flat: bool,
     /// Seed of the generated road.
     #[arg(long, default_value_t = 1, requires = "class")]
     pub seed: u64,
-    /// Length of the generated road, m.
-    #[arg(long, value_name = "M", requires = "class")]
+    /// Length of the generated (or flat) road, m.
+    #[arg(long, value_name = "M")]
     pub length: Option<f64>,
-    /// Sample spacing of the generated road, m.
-    #[arg(long, value_name = "M", default_value_t = 0.05, requires = "class")]
+    /// Sample spacing of the generated (or flat) road, m.
+    #[arg(long, value_name = "M", default_value_t = 0.05)]
     pub spacing: f64,
+    /// Harmonic vertical force on the body, F = A·sin(2π f t) at x ahead of
+    /// the CG: AMPLITUDE_N,FREQUENCY_HZ,X_M (e.g. an engine imbalance
+    /// 150,25,1.3). Alone (with --flat) or on top of a road.
+    #[arg(long, value_name = "A,F,X", value_parser = parse_force)]
+    pub force: Option<HarmonicForce>,
     /// Forward speed: m/s, or km/h with a kmh suffix (e.g. 20 or 72kmh).
     #[arg(long, value_name = "SPEED", value_parser = parse_speed)]
     pub speed: f64,
@@ -91,6 +105,29 @@ fn parse_speed(s: &str) -> Result<f64, String> {
     parse_speed_m_s(s).map_err(|e| e.to_string())
 }
 
+fn parse_force(s: &str) -> Result<HarmonicForce, String> {
+    let parts: Vec<&str> = s.split(',').map(str::trim).collect();
+    let bad =
+        || format!("invalid --force {s:?}: expected AMPLITUDE_N,FREQUENCY_HZ,X_M, e.g. 150,25,1.3");
+    if parts.len() != 3 {
+        return Err(bad());
+    }
+    let v: Vec<f64> = parts
+        .iter()
+        .map(|p| p.parse::<f64>().map_err(|_| bad()))
+        .collect::<Result<_, _>>()?;
+    if v.iter().any(|x| !x.is_finite()) || v[1] <= 0.0 {
+        return Err(format!(
+            "invalid --force {s:?}: values must be finite and the frequency positive"
+        ));
+    }
+    Ok(HarmonicForce {
+        amplitude_n: v[0],
+        frequency_hz: v[1],
+        x_m: v[2],
+    })
+}
+
 fn parse_duration(s: &str) -> Result<f64, String> {
     roughride::batch::values::parse_duration_s(s).map_err(|e| e.to_string())
 }
@@ -119,6 +156,10 @@ enum RoadInfo {
         samples: usize,
         spacing_m: f64,
     },
+    Flat {
+        samples: usize,
+        spacing_m: f64,
+    },
 }
 
 #[derive(Debug, Serialize)]
@@ -126,12 +167,19 @@ struct Output<'a> {
     #[serde(flatten)]
     summary: &'a RunSummary,
     road: RoadInfo,
+    /// Random-vibration prediction from the road PSD and the frequency
+    /// response (generated roads only), beside the time-domain values.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    predicted: Option<PredictedRms>,
+    /// Steady-state amplitudes of the harmonic body force (frequency domain).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    harmonic_force: Option<HarmonicAmplitudes>,
     warnings: Vec<String>,
     caution: &'static str,
 }
 
 /// Loads the road the arguments name.
-fn load_road(a: &Args) -> Result<(Profile, RoadInfo, Vec<String>), Error> {
+fn load_road(a: &Args) -> Result<(Profile, RoadInfo, Option<RoadSpec>, Vec<String>), Error> {
     if let Some(path) = &a.profile {
         let (p, warnings) = read_profile_csv(path)?;
         let info = RoadInfo::File {
@@ -139,7 +187,18 @@ fn load_road(a: &Args) -> Result<(Profile, RoadInfo, Vec<String>), Error> {
             samples: p.len(),
             spacing_m: p.spacing_m,
         };
-        return Ok((p, info, warnings));
+        return Ok((p, info, None, warnings));
+    }
+    if a.flat {
+        let length = a
+            .length
+            .ok_or_else(|| Error::Usage("--flat needs --length (m)".into()))?;
+        let p = flat(length, a.spacing)?;
+        let info = RoadInfo::Flat {
+            samples: p.len(),
+            spacing_m: p.spacing_m,
+        };
+        return Ok((p, info, None, Vec::new()));
     }
     let class = a
         .class
@@ -156,7 +215,7 @@ fn load_road(a: &Args) -> Result<(Profile, RoadInfo, Vec<String>), Error> {
         samples: p.len(),
         spacing_m: p.spacing_m,
     };
-    Ok((p, info, Vec::new()))
+    Ok((p, info, Some(spec), Vec::new()))
 }
 
 /// Refuses a road the vehicle cannot drive meaningfully.
@@ -164,7 +223,7 @@ fn check_road(vehicle: &Vehicle, profile: &Profile, what: &RoadInfo) -> Result<(
     if profile.length_m() < vehicle.wheelbase_m() {
         let name = match what {
             RoadInfo::File { path, .. } => path.clone(),
-            RoadInfo::Generated { .. } => "generated road".into(),
+            RoadInfo::Generated { .. } | RoadInfo::Flat { .. } => "the road (--length)".into(),
         };
         return Err(Error::Usage(format!(
             "{name}: the profile ({:.3} m) is shorter than the wheelbase ({:.3} m)",
@@ -177,7 +236,7 @@ fn check_road(vehicle: &Vehicle, profile: &Profile, what: &RoadInfo) -> Result<(
 
 pub fn run(a: Args) -> Result<(), Error> {
     let vehicle = read_vehicle(&a.vehicle)?;
-    let (profile, road, warnings) = load_road(&a)?;
+    let (profile, road, spec, warnings) = load_road(&a)?;
     for w in &warnings {
         eprintln!("roughride: warning: {w}");
     }
@@ -191,7 +250,7 @@ pub fn run(a: Args) -> Result<(), Error> {
             atol: a.atol,
         },
         weighting: a.weighting,
-        force: None,
+        force: a.force,
         exposure_s: a.exposure,
         durability: DurabilitySettings {
             travel_bin_m: a.travel_bin,
@@ -200,6 +259,26 @@ pub fn run(a: Args) -> Result<(), Error> {
         },
     };
     let mut history = a.history.as_deref().map(AtomicFile::create).transpose()?;
+    // Frequency-domain companions, computed before the run so that bad
+    // values are refused before any file is written.
+    let predicted = match &spec {
+        Some(spec) => Some(predicted_rms_with(
+            &vehicle,
+            a.speed,
+            spec,
+            a.weighting,
+            &SpectralSettings {
+                profile_spacing_m: Some(spec.spacing_m),
+                ..Default::default()
+            },
+        )?),
+        None => None,
+    };
+    let harmonic_force = a
+        .force
+        .as_ref()
+        .map(|f| harmonic_force_amplitudes(&vehicle, f))
+        .transpose()?;
     let (summary, durability) =
         pipeline::simulate_detailed(&vehicle, &profile, &options, history.as_mut())?;
     if let Some(path) = &a.travel_histogram {
@@ -234,6 +313,8 @@ pub fn run(a: Args) -> Result<(), Error> {
     let out = Output {
         summary: &summary,
         road,
+        predicted,
+        harmonic_force,
         warnings,
         caution: HEALTH_CAUTION,
     };
@@ -252,6 +333,7 @@ fn render(o: &Output<'_>) -> String {
         RoadInfo::Generated { class, seed, .. } => {
             format!("ISO 8608 class {class} road, seed {seed}")
         }
+        RoadInfo::Flat { .. } => "a flat road".to_string(),
     };
     let mut out = format!(
         "{} at {} m/s ({} km/h) over {}\n  {:.1} m in {} s, {} solver, {} samples at {} Hz\n\n",
@@ -381,6 +463,62 @@ fn render(o: &Output<'_>) -> String {
     body.row(["pitch mrad".to_string(), sig(s.body.pitch_rms * 1e3, 3)]);
     out.push_str(&body.render());
     out.push('\n');
+    if let Some(p) = &o.predicted {
+        let mut t = Table::new(format!(
+            "Spectral prediction (road PSD × |H|², {} to {} Hz) beside the time-domain run",
+            sig(p.band_hz[0], 3),
+            sig(p.band_hz[1], 3)
+        ))
+        .with_header(["quantity", "predicted", "simulated", "difference %"]);
+        let mut row = |name: String, pred: f64, sim: f64| {
+            let diff = if pred != 0.0 {
+                100.0 * (sim - pred) / pred
+            } else {
+                0.0
+            };
+            t.row([name, sig(pred, 3), sig(sim, 3), sig(diff, 2)]);
+        };
+        for (ps, ss) in p.seats.iter().zip(&s.seats) {
+            row(format!("{} aw m/s²", ss.name), ps.aw, ss.measures.aw);
+        }
+        for (name, pa, sa) in [
+            ("front", &p.axles.front, &s.axles.front),
+            ("rear", &p.axles.rear, &s.axles.rear),
+        ] {
+            row(
+                format!("{name} travel rms mm"),
+                pa.travel_rms * 1e3,
+                sa.travel_rms * 1e3,
+            );
+            row(
+                format!("{name} tyre load rms N"),
+                pa.tyre_load_rms,
+                sa.tyre_load_rms,
+            );
+        }
+        t.note("a large difference means the run is too short for stable statistics, or a tyre left the road (the prediction is linear)");
+        out.push_str(&t.render());
+        out.push('\n');
+    }
+    if let Some(h) = &o.harmonic_force {
+        let mut t = Table::new(format!(
+            "Harmonic body force {} N at {} Hz, x = {} m: steady-state amplitudes (frequency domain)",
+            sig(h.amplitude_n, 3),
+            sig(h.frequency_hz, 3),
+            sig(h.x_m, 3)
+        ))
+        .with_header(["quantity", "amplitude"]);
+        t.row(["heave mm".to_string(), sig(h.heave_m * 1e3, 3)]);
+        t.row(["pitch mrad".to_string(), sig(h.pitch_rad * 1e3, 3)]);
+        for seat in &h.seats {
+            t.row([
+                format!("{} acceleration m/s²", seat.name),
+                sig(seat.accel_amplitude_m_s2, 3),
+            ]);
+        }
+        out.push_str(&t.render());
+        out.push('\n');
+    }
     let exposure_h = s
         .seats
         .first()
