@@ -10,6 +10,7 @@ mod classify;
 mod frf;
 mod modes;
 mod comfort;
+mod plot;
 mod profile;
 mod sweep;
 
@@ -43,6 +44,8 @@ pub enum Command {
     Comfort(comfort::Args),
     /// Run a grid of vehicle × road × speed × seed cases in parallel; one CSV row per case.
     Sweep(sweep::Args),
+    /// Draw SVG pictures: comfort against speed, histograms, road PSD, time windows.
+    Plot(plot::Args),
 }
 
 /// Runs the chosen command.
@@ -55,6 +58,7 @@ pub fn run(cli: Cli) -> Result<(), roughride::Error> {
         Command::Classify(args) => classify::run(args),
         Command::Comfort(a) => comfort::run(a),
         Command::Sweep(a) => sweep::run(a),
+        Command::Plot(a) => plot::run(a),
     }
 }
 

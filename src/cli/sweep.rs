@@ -179,7 +179,8 @@ pub fn run(a: Args) -> Result<(), Error> {
             atol: a.atol,
         },
         weighting: a.weighting,
-        force: None,
+        // Everything else as `simulate` has it by default.
+        ..RunOptions::at_speed(1.0)
     };
     let runner = Runner::new(options, jobs);
     let (lo, hi) = a.shard.bounds(grid.len());

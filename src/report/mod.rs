@@ -3,6 +3,7 @@
 //! success, so a failed or interrupted run never leaves a partial file and
 //! never clobbers a good one).
 
+pub mod plot;
 pub mod table;
 
 pub use table::{Table, sig};
