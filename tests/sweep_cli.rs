@@ -172,6 +172,13 @@ fn column_keys(seats: usize) -> Vec<(String, String)> {
         v.push((format!("travel_rms_{a}_m"), format!("axles.{a}.travel_rms")));
         v.push((format!("travel_min_{a}_m"), format!("axles.{a}.travel_min")));
         v.push((format!("travel_max_{a}_m"), format!("axles.{a}.travel_max")));
+        // Travel percentiles 1, 5, 50, 95, 99 % as simulate lists them.
+        for (i, p) in ["1", "5", "50", "95", "99"].iter().enumerate() {
+            v.push((
+                format!("travel_p{p}_{a}_m"),
+                format!("axles.{a}.travel_percentiles_m.{i}.1"),
+            ));
+        }
         v.push((
             format!("tyre_load_rms_{a}_n"),
             format!("axles.{a}.tyre_load_rms"),

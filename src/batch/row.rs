@@ -5,9 +5,12 @@
 //! `case,vehicle,road,class,speed_m_s,seed,seat_aw`, then per seat `i`
 //! (1-based, in vehicle-file order) `seat{i}_aw,seat{i}_vdv,seat{i}_mtvv,
 //! seat{i}_crest_factor`, then per axle (`front`, `rear`)
-//! `travel_rms_{axle}_m,travel_min_{axle}_m,travel_max_{axle}_m,
-//! tyre_load_rms_{axle}_n,dynamic_load_coefficient_{axle},
-//! time_off_ground_fraction_{axle}`, then `heave_accel_rms_m_s2,
+//! `travel_rms_{axle}_m,travel_min_{axle}_m,travel_max_{axle}_m`, the
+//! travel percentiles `travel_p1_{axle}_m … travel_p99_{axle}_m` (1, 5, 50,
+//! 95, 99 %, resolution 0.1 mm), `tyre_load_rms_{axle}_n,
+//! dynamic_load_coefficient_{axle},time_off_ground_fraction_{axle},
+//! time_past_bump_fraction_{axle},time_past_rebound_fraction_{axle}` (the
+//! last two empty for an axle without that stop), then `heave_accel_rms_m_s2,
 //! pitch_accel_rms_rad_s2,duration_s,length_m,solver`.
 //!
 //! `seat_aw` is the first seat's aw (the contract's key), m/s²; aw, MTVV in
@@ -26,6 +29,7 @@ use std::fmt::Write as _;
 
 use crate::pipeline::{AxleSummary, RunSummary};
 use crate::solve::SolverKind;
+use crate::stats::durability::PERCENTILES;
 
 use super::grid::{Case, Grid};
 
@@ -65,9 +69,14 @@ pub fn columns(seats: usize) -> Vec<String> {
         c.push(format!("travel_rms_{a}_m"));
         c.push(format!("travel_min_{a}_m"));
         c.push(format!("travel_max_{a}_m"));
+        for p in PERCENTILES {
+            c.push(format!("travel_p{p}_{a}_m"));
+        }
         c.push(format!("tyre_load_rms_{a}_n"));
         c.push(format!("dynamic_load_coefficient_{a}"));
         c.push(format!("time_off_ground_fraction_{a}"));
+        c.push(format!("time_past_bump_fraction_{a}"));
+        c.push(format!("time_past_rebound_fraction_{a}"));
     }
     for s in [
         "heave_accel_rms_m_s2",
@@ -133,16 +142,32 @@ pub fn cells(grid: &Grid, case: &Case, s: &RunSummary, seats: usize) -> Vec<Cell
     r
 }
 
-fn axle_cells(a: &AxleSummary) -> [Cell; 6] {
-    [
-        a.travel_rms,
-        a.travel_min,
-        a.travel_max,
-        a.tyre_load_rms,
-        a.dynamic_load_coefficient,
-        a.time_off_ground_fraction,
-    ]
-    .map(Cell::Num)
+fn axle_cells(a: &AxleSummary) -> Vec<Cell> {
+    let mut c: Vec<Cell> = [a.travel_rms, a.travel_min, a.travel_max]
+        .map(Cell::Num)
+        .to_vec();
+    let d = &a.durability;
+    for p in PERCENTILES {
+        // The summary lists the same percentiles; a missing one stays empty.
+        let v = d
+            .travel_percentiles_m
+            .iter()
+            .find(|(q, _)| *q == p)
+            .map(|(_, v)| *v);
+        c.push(v.map_or(Cell::Empty, Cell::Num));
+    }
+    c.extend(
+        [
+            a.tyre_load_rms,
+            a.dynamic_load_coefficient,
+            a.time_off_ground_fraction,
+        ]
+        .map(Cell::Num),
+    );
+    for f in [d.time_past_bump_fraction, d.time_past_rebound_fraction] {
+        c.push(f.map_or(Cell::Empty, Cell::Num));
+    }
+    c
 }
 
 /// Quotes a CSV field when it holds a comma, quote or line break (RFC 4180).
