@@ -1,0 +1,28 @@
+#!/usr/bin/env bash
+# Draws every `roughride plot` picture from the demo files and renders each
+# SVG to PNG for a look by eye (rsvg-convert from librsvg2-bin:
+# `apt-get install -y librsvg2-bin`). Usage: scripts/render_plots.sh [OUTDIR]
+set -euo pipefail
+here="$(cd "$(dirname "$0")/.." && pwd)"
+out="${1:-$here/target/plots}"
+mkdir -p "$out"
+cargo build --release --quiet --manifest-path "$here/Cargo.toml"
+rr="$here/target/release/roughride"
+car="$here/profiles/vehicles/demo_hatchback.toml"
+
+"$rr" sweep --vehicle "$car" --classes A,B,C,D --speeds 10:40:5 --seeds 3 --length 500 -o "$out/grid.csv"
+"$rr" plot comfort "$out/grid.csv" -o "$out/comfort.svg"
+"$rr" simulate --vehicle "$car" --class C --seed 1 --length 500 --speed 20 --history "$out/history.csv" > /dev/null
+"$rr" plot histogram "$out/history.csv" --column travel_front_m -o "$out/travel_front.svg"
+"$rr" plot history "$out/history.csv" --columns driver_accel_m_s2,rear_passenger_accel_m_s2 --from 10 --to 15 -o "$out/window.svg"
+"$rr" profile --class C --length 2000 --seed 3 -o "$out/road.csv" > /dev/null
+"$rr" plot psd "$out/road.csv" -o "$out/psd.svg"
+
+if command -v rsvg-convert > /dev/null; then
+    for svg in "$out"/*.svg; do
+        rsvg-convert "$svg" -o "${svg%.svg}.png"
+    done
+    echo "PNG files in $out"
+else
+    echo "rsvg-convert not found (apt-get install -y librsvg2-bin); SVG files in $out"
+fi
