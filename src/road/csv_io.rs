@@ -21,18 +21,132 @@ const MAX_GAP_FACTOR: f64 = 4.0;
 /// Reads a profile CSV. Warnings (resampling) are returned beside the profile
 /// so the caller decides where they go.
 pub fn read_profile_csv(path: &Path) -> Result<(Profile, Vec<String>), ProfileError> {
-    let file = std::fs::File::open(path).map_err(|source| ProfileError::Read {
+    let bytes = std::fs::read(path).map_err(|source| ProfileError::Read {
         path: path.to_path_buf(),
         source,
     })?;
-    read_profile_from(file, path)
+    read_profile_bytes(&bytes, path)
 }
 
 /// Reads a profile CSV from any reader; `path` names it in messages.
 pub fn read_profile_from(
-    reader: impl Read,
+    mut reader: impl Read,
     path: &Path,
 ) -> Result<(Profile, Vec<String>), ProfileError> {
+    let mut bytes = Vec::new();
+    reader
+        .read_to_end(&mut bytes)
+        .map_err(|source| ProfileError::Read {
+            path: path.to_path_buf(),
+            source,
+        })?;
+    read_profile_bytes(&bytes, path)
+}
+
+/// The plain, uniformly spaced file takes the direct reader; anything else
+/// (quotes, comments, blank lines, bad values, uneven spacing) goes through
+/// the general CSV reader, which gives the same numbers and the messages.
+fn read_profile_bytes(bytes: &[u8], path: &Path) -> Result<(Profile, Vec<String>), ProfileError> {
+    match read_plain(bytes) {
+        Some(profile) => Ok((profile, Vec::new())),
+        None => read_general(bytes, path),
+    }
+}
+
+/// Reads the common case without the general CSV machinery: unquoted
+/// comma-separated rows, `\n` or `\r\n` line ends, plain decimal numbers,
+/// distances strictly increasing and uniformly spaced. Returns `None` at
+/// the first thing outside that case, so the general reader decides.
+/// Numbers go through the same `str::parse::<f64>` as the general reader,
+/// so the profile is the same, bit for bit.
+fn read_plain(bytes: &[u8]) -> Option<Profile> {
+    if bytes.contains(&b'"') {
+        return None;
+    }
+    let has_cr = bytes.contains(&b'\r');
+    let header_end = bytes.iter().position(|&b| b == b'\n')?;
+    let header = line_of(has_cr, &bytes[..header_end])?;
+    if header.first() == Some(&b'#') {
+        return None;
+    }
+    let names: Vec<&str> = std::str::from_utf8(header)
+        .ok()?
+        .split(',')
+        .map(str::trim)
+        .collect();
+    let col = |name: &str| {
+        names
+            .iter()
+            .position(|h| h.trim_start_matches('\u{feff}') == name)
+    };
+    let (ix, iz) = (col("distance_m")?, col("elevation_m")?);
+    let body = &bytes[header_end + 1..];
+    let body = body.strip_suffix(b"\n").unwrap_or(body);
+    // Rows printed by `write_profile_csv` take about 25 bytes.
+    let mut xs = Vec::with_capacity(body.len() / 20 + 1);
+    let mut zs = Vec::with_capacity(body.len() / 20 + 1);
+    for line in body.split(|&b| b == b'\n') {
+        let line = line_of(has_cr, line)?;
+        if line.first().is_none_or(|&b| b == b'#') {
+            return None;
+        }
+        let (mut x, mut z) = (None, None);
+        for (i, field) in line.split(|&b| b == b',').enumerate() {
+            if i == ix {
+                x = Some(plain_number(field)?);
+            } else if i == iz {
+                z = Some(plain_number(field)?);
+            }
+            if x.is_some() && z.is_some() {
+                break;
+            }
+        }
+        let (x, z) = (x?, z?);
+        if xs.last().is_some_and(|&prev| x <= prev) {
+            return None;
+        }
+        xs.push(x);
+        zs.push(z);
+    }
+    if xs.len() < 2 {
+        return None;
+    }
+    let spacing = uniform_spacing(&xs)?;
+    Some(Profile::new(xs[0], spacing, zs))
+}
+
+/// One line without its `\r` (before the `\n`), or `None` when a `\r`
+/// stands anywhere else (the general reader ends a record there).
+#[inline]
+fn line_of(has_cr: bool, line: &[u8]) -> Option<&[u8]> {
+    if !has_cr {
+        return Some(line);
+    }
+    let line = line.strip_suffix(b"\r").unwrap_or(line);
+    (!line.contains(&b'\r')).then_some(line)
+}
+
+/// A finite number written with digits, sign, point and exponent only,
+/// between optional spaces or tabs.
+#[inline]
+fn plain_number(field: &[u8]) -> Option<f64> {
+    let field = field.trim_ascii_start();
+    let field = field.trim_ascii_end();
+    if field.is_empty()
+        || !field
+            .iter()
+            .all(|b| matches!(b, b'0'..=b'9' | b'.' | b'e' | b'E' | b'+' | b'-'))
+    {
+        return None;
+    }
+    let v: f64 = std::str::from_utf8(field).ok()?.parse().ok()?;
+    v.is_finite().then_some(v)
+}
+
+/// The general reader: any CSV the `csv` crate accepts, with line numbers
+/// in every message.
+fn read_general(bytes: &[u8], path: &Path) -> Result<(Profile, Vec<String>), ProfileError> {
+    let reader = bytes;
     let p = || path.to_path_buf();
     let mut rdr = csv::ReaderBuilder::new()
         .has_headers(true)
@@ -121,6 +235,17 @@ fn csv_error(path: PathBuf, line: u64, e: csv::Error) -> ProfileError {
     }
 }
 
+/// The spacing of rows that are uniform within the tolerances, or `None`.
+fn uniform_spacing(xs: &[f64]) -> Option<f64> {
+    let n = xs.len();
+    let nominal = (xs[n - 1] - xs[0]) / (n - 1) as f64;
+    xs.windows(2)
+        .all(|w| {
+            ((w[1] - w[0]) - nominal).abs() <= UNIFORM_TOLERANCE * nominal + UNIFORM_TOLERANCE_M
+        })
+        .then_some(nominal)
+}
+
 /// Puts the rows on a uniform grid: as they are when already uniform,
 /// otherwise by linear interpolation at the median spacing.
 fn to_uniform(
@@ -131,11 +256,7 @@ fn to_uniform(
 ) -> Result<(Profile, Vec<String>), ProfileError> {
     let n = xs.len();
     let span = xs[n - 1] - xs[0];
-    let nominal = span / (n - 1) as f64;
-    let uniform = xs.windows(2).all(|w| {
-        ((w[1] - w[0]) - nominal).abs() <= UNIFORM_TOLERANCE * nominal + UNIFORM_TOLERANCE_M
-    });
-    if uniform {
+    if let Some(nominal) = uniform_spacing(xs) {
         return Ok((Profile::new(xs[0], nominal, zs.to_vec()), Vec::new()));
     }
     let mut gaps: Vec<f64> = xs.windows(2).map(|w| w[1] - w[0]).collect();
@@ -282,5 +403,38 @@ mod tests {
         let (q, _) = read(std::str::from_utf8(&buf).unwrap()).unwrap();
         assert_eq!(p.elevation_m, q.elevation_m);
         assert!((p.spacing_m - q.spacing_m).abs() < 1e-12);
+    }
+
+    #[test]
+    fn the_direct_reader_gives_what_the_csv_crate_gives() {
+        // Reference: the general reader built on the `csv` crate. Every plain
+        // variant must come out bit for bit the same through the direct path.
+        let plain = [
+            "distance_m,elevation_m\n0,0e0\n0.05,-1.5494715572999945e-3\n0.1,2.5e-3\n",
+            "distance_m,elevation_m\r\n0,0.001\r\n0.5,0.002\r\n1,-0.003",
+            "note,elevation_m,distance_m\nx,1.5,10\ny,-2.25,10.25\nz,3,10.5\n",
+            "\u{feff}distance_m , elevation_m\n 0 ,\t1e-3 \n1, 2E-3\n2,+3.0e-3\n",
+        ];
+        for text in plain {
+            let direct = read_plain(text.as_bytes()).expect("plain file takes the direct path");
+            let (general, w) = read_general(text.as_bytes(), Path::new("road.csv")).unwrap();
+            assert!(w.is_empty());
+            assert_eq!(direct, general, "{text:?}");
+            assert_eq!(read(text).unwrap().0, general);
+        }
+        // Anything else is left to the general reader.
+        let other = [
+            "distance_m,elevation_m\n\"0\",0\n1,0\n",
+            "# comment\ndistance_m,elevation_m\n0,0\n1,0\n",
+            "distance_m,elevation_m\n0,0\n\n1,0\n",
+            "distance_m,elevation_m\n0,0\r1,0\n",
+            "distance_m,elevation_m\n0,0\n1,inf\n",
+            "distance_m,elevation_m\n0,0\n1,0\n1,0\n",
+            "distance_m,elevation_m\n0,0\n0.9,0.9\n2.1,2.1\n3,3\n",
+            "distance_m,elevation_m\n0,0\n",
+        ];
+        for text in other {
+            assert!(read_plain(text.as_bytes()).is_none(), "{text:?}");
+        }
     }
 }

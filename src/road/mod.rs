@@ -84,7 +84,7 @@ impl Profile {
 
     /// Index of the segment holding `x_m` and the fraction along it, with
     /// `x_m` clamped to the profile.
-    #[inline]
+    #[inline(always)]
     fn locate(&self, x_m: f64) -> (usize, f64) {
         let u = (x_m - self.start_m) / self.spacing_m;
         let last = self.len() - 1;
@@ -95,9 +95,11 @@ impl Profile {
             return (last - 1, 1.0);
         }
         // 0 < u < last here, so truncation is the floor (and needs no libm
-        // call on targets without a rounding instruction).
-        let i = u as usize;
-        (i.min(last - 1), u - i as f64)
+        // call on targets without a rounding instruction). Through i64, which
+        // the processor converts in one instruction each way (usize takes a
+        // longer unsigned sequence); the value is the same.
+        let i = u as i64;
+        ((i as usize).min(last - 1), u - i as f64)
     }
 
     /// Elevation at distance `x_m`, m: linear between samples, held at the
@@ -116,7 +118,7 @@ impl Profile {
 
     /// [`Profile::elevation_at`] and [`Profile::slope_at`] together, from
     /// one segment lookup (the same numbers as the two calls).
-    #[inline]
+    #[inline(always)]
     pub fn elevation_and_slope_at(&self, x_m: f64) -> (f64, f64) {
         let (i, f) = self.locate(x_m);
         let (a, b) = (self.elevation_m[i], self.elevation_m[i + 1]);

@@ -88,7 +88,7 @@ impl Excitation<'_> {
     }
 
     /// Inputs at time `t_s`.
-    #[inline]
+    #[inline(always)]
     pub fn at(&self, t_s: f64) -> Inputs {
         let p = self.profile;
         let z0 = p.elevation_m[0];
@@ -276,7 +276,7 @@ impl Sample {
 
     /// [`Sample::at`] for inputs already evaluated at `time_s` and a
     /// prepared element model (the solvers' hot loops).
-    #[inline]
+    #[inline(always)]
     pub(crate) fn from_inputs(
         model: &ElementModel<'_>,
         force_x_m: f64,

@@ -438,7 +438,7 @@ impl ElementModel<'_> {
     }
 
     /// See [`Vehicle::evaluate_with`].
-    #[inline]
+    #[inline(always)]
     #[allow(clippy::too_many_arguments)]
     pub fn evaluate_with(
         &self,
