@@ -197,7 +197,7 @@ impl Window {
         };
         if from.is_some_and(|f| !f.is_finite())
             || to.is_some_and(|t| !t.is_finite())
-            || !(w.from_s < w.to_s)
+            || w.from_s >= w.to_s
         {
             return Err(Error::Usage(format!(
                 "--from/--to: need a finite window with from < to, got {} .. {}",

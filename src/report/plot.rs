@@ -673,7 +673,8 @@ pub fn history_chart(
     }
     let t0 = time_s[0];
     let t1 = time_s[time_s.len() - 1];
-    if !(t1 > t0) {
+    // Written to also catch NaN times.
+    if t1.partial_cmp(&t0) != Some(std::cmp::Ordering::Greater) {
         return Err(no_data("the time window has no length"));
     }
     let finite = series
