@@ -27,6 +27,15 @@ pub enum Error {
     /// A command-line value was malformed (option name and value in the text).
     #[error("{0}")]
     Usage(String),
+    /// Some cases of a sweep failed; the others were written. Each failure
+    /// has already been reported on its own line.
+    #[error("{failed} of {total} cases failed; the other rows were written")]
+    CasesFailed {
+        /// Cases that failed.
+        failed: usize,
+        /// Cases tried.
+        total: usize,
+    },
 }
 
 impl Error {
@@ -39,6 +48,7 @@ impl Error {
             Error::Export(_) => 1,
             Error::Comfort(e) => e.exit_status(),
             Error::Usage(_) => 2,
+            Error::CasesFailed { .. } => 1,
         }
     }
 }

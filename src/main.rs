@@ -8,6 +8,15 @@ use std::process::ExitCode;
 use clap::Parser;
 
 fn main() -> ExitCode {
+    // Die quietly on a closed pipe (`roughride sweep … | head`), as Unix
+    // tools do, instead of reporting a write error. Rust ignores SIGPIPE by
+    // default; output files are unaffected (they are written atomically).
+    #[cfg(unix)]
+    // SAFETY: restoring the default disposition of SIGPIPE before any thread
+    // starts; no Rust invariant depends on it.
+    unsafe {
+        libc::signal(libc::SIGPIPE, libc::SIG_DFL);
+    }
     let args = cli::Cli::parse();
     // Ctrl-C, SIGTERM and SIGHUP stop runs at their next check, so output
     // files are discarded rather than left half-written. If the handler

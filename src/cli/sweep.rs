@@ -213,17 +213,11 @@ pub fn run(a: Args) -> Result<(), Error> {
     for f in &report.failures {
         eprintln!("roughride: failed: {}: {}", f.description, f.error);
     }
-    eprintln!(
-        "roughride: error: {} of {} cases failed (cases {}..{} of {}); the other rows were written",
-        report.failures.len(),
-        report.bounds.1 - report.bounds.0,
-        report.bounds.0,
-        report.bounds.1,
-        report.total_cases
-    );
-    // Exit status 1 for failed cases (interface.md: 1 for anything but bad
-    // input); the messages are printed above, so exit without another.
-    std::process::exit(1);
+    // Exit status 1 for failed cases (interface.md: 1 for anything but bad input).
+    Err(Error::CasesFailed {
+        failed: report.failures.len(),
+        total: report.bounds.1 - report.bounds.0,
+    })
 }
 
 /// A progress bar on stderr when stderr is a terminal, hidden otherwise
