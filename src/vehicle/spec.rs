@@ -289,26 +289,7 @@ impl Validator<'_> {
 mod tests {
     use super::*;
 
-    const CAR: &str = r#"
-name = "test car"
-[body]
-mass = 1250.0
-pitch_inertia = 2100.0
-[front]
-cg_distance = 1.15
-spring_rate = 38000.0
-damping = 3200.0
-unsprung_mass = 85.0
-tyre_rate = 420000.0
-[rear]
-cg_distance = 1.45
-spring_rate = 33000.0
-damping = 2900.0
-unsprung_mass = 75.0
-tyre_rate = 420000.0
-[[seat]]
-x = 0.35
-"#;
+    use crate::vehicle::tests::HALF_CAR as CAR;
 
     fn parse(text: &str) -> Result<Vehicle, VehicleError> {
         parse_vehicle(text, Path::new("car.toml"))
@@ -317,7 +298,7 @@ x = 0.35
     #[test]
     fn reads_the_contract_example() {
         let v = parse(CAR).unwrap();
-        assert_eq!(v.name, "test car");
+        assert_eq!(v.name, "contract example");
         assert_eq!(v.axles[0].x_m, 1.15);
         assert_eq!(v.axles[1].x_m, -1.45);
         assert_eq!(v.axles[1].tyre.as_ref().unwrap().unsprung_mass_kg, 75.0);
