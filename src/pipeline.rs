@@ -9,6 +9,7 @@
 //! the road itself.
 
 use std::io::Write;
+use std::sync::mpsc;
 
 use serde::Serialize;
 
@@ -177,7 +178,7 @@ pub fn simulate_detailed(
     };
     let plan = solve::plan(vehicle, &excitation, &options.solver)?;
     let mut sink = Evaluators::new(vehicle, options, plan.output_rate_hz, history)?;
-    let info = solve::run(vehicle, &excitation, &plan, &mut sink)?;
+    let info = run_streaming(vehicle, &excitation, &plan, &mut sink)?;
     let summary = sink.summary(vehicle, &excitation, info, options.exposure_s);
     Ok((
         summary,
@@ -185,6 +186,123 @@ pub fn simulate_detailed(
             axles: sink.durability,
         },
     ))
+}
+
+/// Output samples per chunk handed to the evaluator thread (about 230 kB).
+const CHUNK_SAMPLES: usize = 1024;
+/// Chunks queued between the solver and the evaluator thread.
+const CHUNKS_IN_FLIGHT: usize = 4;
+
+/// Runs the solver into the evaluators. A long run outside a parallel batch
+/// evaluates on a second thread while the solver goes on: the solver hands
+/// over chunks of samples in order through a bounded queue, and the chunk
+/// buffers are recycled, so nothing is allocated per sample and the
+/// evaluators see exactly the sequence they would see on one thread (the
+/// results are the same, bit for bit). Inside a sweep the cases already keep
+/// every core busy, so each runs on its own thread.
+fn run_streaming(
+    vehicle: &Vehicle,
+    excitation: &Excitation<'_>,
+    plan: &solve::Plan,
+    sink: &mut Evaluators<'_>,
+) -> Result<RunInfo, SolveError> {
+    let samples = solve::sample_count(excitation.duration_s(), plan.output_rate_hz);
+    let second_core = std::thread::available_parallelism().is_ok_and(|n| n.get() > 1);
+    if samples < 4 * CHUNK_SAMPLES || !second_core || rayon::current_thread_index().is_some() {
+        return solve::run(vehicle, excitation, plan, sink);
+    }
+    std::thread::scope(|scope| {
+        let (tx, rx) = mpsc::sync_channel::<Handover>(CHUNKS_IN_FLIGHT);
+        let (back_tx, back_rx) = mpsc::sync_channel::<Vec<Sample>>(CHUNKS_IN_FLIGHT + 2);
+        let evaluator = scope.spawn(move || -> Result<(), SolveError> {
+            for item in rx {
+                match item {
+                    Handover::Start(kind) => sink.start(kind)?,
+                    Handover::Samples(chunk) => {
+                        for s in &chunk {
+                            sink.accept(s)?;
+                        }
+                        // Back for reuse, empty; a full return queue only
+                        // means one buffer fewer to reuse.
+                        let mut chunk = chunk;
+                        chunk.clear();
+                        let _ = back_tx.try_send(chunk);
+                    }
+                }
+            }
+            Ok(())
+        });
+        let mut feed = Feed {
+            tx,
+            back: back_rx,
+            chunk: Vec::with_capacity(CHUNK_SAMPLES),
+        };
+        let solved = solve::run(vehicle, excitation, plan, &mut feed).and_then(|info| {
+            feed.hand_over()?;
+            Ok(info)
+        });
+        drop(feed); // closes the queue: the evaluator finishes and returns
+        match evaluator.join() {
+            Err(panic) => std::panic::resume_unwind(panic),
+            // The evaluator's own error (e.g. a history write) comes first:
+            // the solver then only saw the queue close.
+            Ok(Err(e)) => Err(e),
+            Ok(Ok(())) => solved,
+        }
+    })
+}
+
+/// What the solver hands to the evaluator thread, in order.
+enum Handover {
+    /// A (re)start: discard everything evaluated so far.
+    Start(SolverKind),
+    /// The next samples.
+    Samples(Vec<Sample>),
+}
+
+/// The solver's side of [`run_streaming`]: collects samples into chunks.
+struct Feed {
+    tx: mpsc::SyncSender<Handover>,
+    back: mpsc::Receiver<Vec<Sample>>,
+    chunk: Vec<Sample>,
+}
+
+impl Feed {
+    fn send(&self, item: Handover) -> Result<(), SolveError> {
+        self.tx.send(item).map_err(|_| {
+            SolveError::Settings("the evaluator thread stopped before the run ended".to_string())
+        })
+    }
+
+    /// Sends the samples collected so far (if any) and takes a recycled buffer.
+    fn hand_over(&mut self) -> Result<(), SolveError> {
+        if self.chunk.is_empty() {
+            return Ok(());
+        }
+        let fresh = self
+            .back
+            .try_recv()
+            .unwrap_or_else(|_| Vec::with_capacity(CHUNK_SAMPLES));
+        let full = std::mem::replace(&mut self.chunk, fresh);
+        self.send(Handover::Samples(full))
+    }
+}
+
+impl SampleSink for Feed {
+    fn start(&mut self, solver: SolverKind) -> Result<(), SolveError> {
+        // Samples not yet handed over belong to the run being discarded.
+        self.chunk.clear();
+        self.send(Handover::Start(solver))
+    }
+
+    #[inline]
+    fn accept(&mut self, sample: &Sample) -> Result<(), SolveError> {
+        self.chunk.push(*sample);
+        if self.chunk.len() >= CHUNK_SAMPLES {
+            self.hand_over()?;
+        }
+        Ok(())
+    }
 }
 
 /// The durability evaluators of a finished run (front, rear).
@@ -451,4 +569,53 @@ fn history_error(h: &AtomicFile, e: std::io::Error) -> SolveError {
 fn fmt_time(x: f64) -> String {
     let s = format!("{x:.6}");
     s.trim_end_matches('0').trim_end_matches('.').to_string()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::road::{RoadClass, RoadSpec, generate};
+    use crate::solve::SolverChoice;
+    use crate::vehicle::tests::half_car;
+
+    /// The summary of a run, as printed.
+    fn json(v: &Vehicle, p: &Profile, choice: SolverChoice, one_thread: bool) -> String {
+        let mut options = RunOptions::at_speed(20.0);
+        options.solver.choice = choice;
+        let run = || serde_json::to_string(&simulate(v, p, &options, None).unwrap()).unwrap();
+        if one_thread {
+            // Inside a pool the evaluators stay on the solver's thread.
+            rayon::ThreadPoolBuilder::new()
+                .num_threads(1)
+                .build()
+                .unwrap()
+                .install(run)
+        } else {
+            run()
+        }
+    }
+
+    #[test]
+    fn the_evaluator_thread_gives_the_one_thread_results_bit_for_bit() {
+        // Reference: the same evaluators fed on the solver's own thread.
+        // Exact runs, and an auto run on a rough road whose tyre lifts off,
+        // so the evaluators restart for the adaptive re-run midway.
+        let v = half_car();
+        let smooth = generate(&RoadSpec::from_class(RoadClass::B, 300.0, 0.05, 4)).unwrap();
+        let rough = generate(&RoadSpec::from_class(RoadClass::E, 200.0, 0.05, 2)).unwrap();
+        let mut restarted = false;
+        for (p, choice) in [
+            (&smooth, SolverChoice::Exact),
+            (&rough, SolverChoice::Exact),
+            (&rough, SolverChoice::Auto),
+        ] {
+            let threaded = json(&v, p, choice, false);
+            assert_eq!(threaded, json(&v, p, choice, true), "{choice:?}");
+            restarted |= threaded.contains("\"fallback\":\"");
+        }
+        assert!(
+            restarted,
+            "the rough road should make the auto run fall back"
+        );
+    }
 }
