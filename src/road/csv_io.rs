@@ -15,6 +15,8 @@ const UNIFORM_TOLERANCE: f64 = 1e-6;
 /// the 1 µm to which [`write_profile_csv`] prints distances, so a file this
 /// crate wrote at any spacing reads back without resampling.
 const UNIFORM_TOLERANCE_M: f64 = 2e-6;
+/// Files at least this large are parsed on two threads, bytes.
+const PARALLEL_PARSE_BYTES: usize = 1 << 20;
 /// A gap wider than this many median spacings is refused rather than bridged.
 const MAX_GAP_FACTOR: f64 = 4.0;
 
@@ -82,6 +84,42 @@ fn read_plain(bytes: &[u8]) -> Option<Profile> {
     let (ix, iz) = (col("distance_m")?, col("elevation_m")?);
     let body = &bytes[header_end + 1..];
     let body = body.strip_suffix(b"\n").unwrap_or(body);
+    let (mut xs, mut zs);
+    // A large file is parsed in two halves split at a line end, one per
+    // core, then joined: the same rows in the same order.
+    let split = (body.len() >= PARALLEL_PARSE_BYTES)
+        .then(|| body[body.len() / 2..].iter().position(|&b| b == b'\n'))
+        .flatten()
+        .map(|i| body.len() / 2 + i);
+    if let Some(split) = split {
+        let (first, second) = std::thread::scope(|scope| {
+            let second = scope.spawn(|| plain_rows(&body[split + 1..], ix, iz, has_cr));
+            let first = plain_rows(&body[..split], ix, iz, has_cr);
+            (first, second.join().ok().flatten())
+        });
+        (xs, zs) = first?;
+        let (xs2, zs2) = second?;
+        if xs2
+            .first()
+            .is_some_and(|&x| xs.last().is_some_and(|&prev| x <= prev))
+        {
+            return None;
+        }
+        xs.extend_from_slice(&xs2);
+        zs.extend_from_slice(&zs2);
+    } else {
+        (xs, zs) = plain_rows(body, ix, iz, has_cr)?;
+    }
+    if xs.len() < 2 {
+        return None;
+    }
+    let spacing = uniform_spacing(&xs)?;
+    Some(Profile::new(xs[0], spacing, zs))
+}
+
+/// The rows of `body` (whole lines, no trailing line end): distances and
+/// elevations, or `None` as for [`read_plain`].
+fn plain_rows(body: &[u8], ix: usize, iz: usize, has_cr: bool) -> Option<(Vec<f64>, Vec<f64>)> {
     // Rows printed by `write_profile_csv` take about 25 bytes.
     let mut xs = Vec::with_capacity(body.len() / 20 + 1);
     let mut zs = Vec::with_capacity(body.len() / 20 + 1);
@@ -108,11 +146,7 @@ fn read_plain(bytes: &[u8]) -> Option<Profile> {
         xs.push(x);
         zs.push(z);
     }
-    if xs.len() < 2 {
-        return None;
-    }
-    let spacing = uniform_spacing(&xs)?;
-    Some(Profile::new(xs[0], spacing, zs))
+    Some((xs, zs))
 }
 
 /// One line without its `\r` (before the `\n`), or `None` when a `\r`
@@ -422,6 +456,21 @@ mod tests {
             assert_eq!(direct, general, "{text:?}");
             assert_eq!(read(text).unwrap().0, general);
         }
+        // A file large enough to be parsed in two halves.
+        let p = Profile::new(
+            0.0,
+            0.05,
+            (0..60_000)
+                .map(|i| 1e-3 * (i as f64 * 0.37).sin())
+                .collect(),
+        );
+        let mut big = Vec::new();
+        write_profile_csv(&p, &mut big).unwrap();
+        assert!(big.len() >= PARALLEL_PARSE_BYTES);
+        let direct = read_plain(&big).expect("plain file takes the direct path");
+        let (general, _) = read_general(&big, Path::new("road.csv")).unwrap();
+        assert_eq!(direct, general);
+        assert_eq!(direct.elevation_m, p.elevation_m);
         // Anything else is left to the general reader.
         let other = [
             "distance_m,elevation_m\n\"0\",0\n1,0\n",
