@@ -6,7 +6,7 @@
 #
 # Each repetition runs both programs as whole processes (start-up, reading the
 # files and printing included), alternating which goes first. Wall and CPU
-# times go to benches/results/<date>-<machine>/times.csv; summary.md gives the
+# times go to benches/results/<date>-<machine>/times-<length>m.csv; summary-<length>m.md gives the
 # medians and their ratio, and checks that both programs report the same seat
 # acceleration r.m.s. (within 1 %), so that the same work was timed.
 #
@@ -39,6 +39,7 @@ cores=$(nproc)
 slug=$(printf '%s' "$cpu_model" | tr 'A-Z' 'a-z' | tr -cs 'a-z0-9' '-' | sed 's/^-//;s/-$//' | cut -c1-40)
 OUT="benches/results/$(date +%F)-${cores}cpu-${slug}"
 mkdir -p "$OUT"
+TAG="${LENGTH_M}m"
 
 WORK=$(mktemp -d)
 trap 'rm -rf "$WORK"' EXIT
@@ -49,7 +50,7 @@ PROFILE="$WORK/road.csv"
 HAVE_TIME=0
 if [ -x /usr/bin/time ]; then HAVE_TIME=1; fi
 
-# One timed run: tool name, then the command. Appends a row to times.csv.
+# One timed run: tool name, then the command. Appends a row to times-<length>m.csv.
 run_one() {
     local rep=$1 order=$2 tool=$3
     shift 3
@@ -64,14 +65,14 @@ run_one() {
     t1=$(date +%s%N)
     local wall
     wall=$(awk -v a="$t0" -v b="$t1" 'BEGIN { printf "%.4f", (b - a) / 1e9 }')
-    echo "$rep,$order,$tool,$wall,$cpu" >>"$OUT/times.csv"
+    echo "$rep,$order,$tool,$wall,$cpu" >>"$OUT/times-$TAG.csv"
     printf '  rep %s  %-9s %7s s\n' "$rep" "$tool" "$wall"
 }
 
 RR=("$BIN" simulate --vehicle "$VEHICLE" --profile "$PROFILE" --speed "$SPEED_M_S" --solver exact --json)
 PY=(python3 benches/baseline_scipy.py --vehicle "$VEHICLE" --profile "$PROFILE" --speed "$SPEED_M_S")
 
-echo "rep,order,tool,wall_s,user_s,sys_s" >"$OUT/times.csv"
+echo "rep,order,tool,wall_s,user_s,sys_s" >"$OUT/times-$TAG.csv"
 load_before=$(cut -d' ' -f1-3 /proc/loadavg 2>/dev/null || echo "?")
 echo "compare.sh: $REPS repetitions, class $CLASS, $LENGTH_M m at $SPACING_M m, $SPEED_M_S m/s, on $cores x $cpu_model"
 for rep in $(seq 1 "$REPS"); do
@@ -84,16 +85,16 @@ for rep in $(seq 1 "$REPS"); do
     fi
 done
 load_after=$(cut -d' ' -f1-3 /proc/loadavg 2>/dev/null || echo "?")
-cp "$WORK/roughride.json" "$OUT/roughride.json"
-cp "$WORK/scipy.json" "$OUT/scipy.json"
+cp "$WORK/roughride.json" "$OUT/roughride-$TAG.json"
+cp "$WORK/scipy.json" "$OUT/scipy-$TAG.json"
 
 python3 - "$OUT" <<EOF
 import csv, json, statistics, sys
 out = sys.argv[1]
-rows = list(csv.DictReader(open(f"{out}/times.csv")))
+rows = list(csv.DictReader(open(f"{out}/times-$TAG.csv")))
 def col(tool, key):
     return [float(r[key]) for r in rows if r["tool"] == tool and r[key] != ""]
-rr, py = json.load(open(f"{out}/roughride.json")), json.load(open(f"{out}/scipy.json"))
+rr, py = json.load(open(f"{out}/roughride-$TAG.json")), json.load(open(f"{out}/scipy-$TAG.json"))
 lines = []
 ok = True
 lines.append("# roughride simulate --solver exact vs numpy/scipy (scipy.signal.lsim)")
@@ -139,7 +140,7 @@ if len(rr["seats"]) != len(py["seats"]):
     ok = False
     lines.append("seat counts differ")
 text = "\n".join(lines) + "\n"
-open(f"{out}/summary.md", "w").write(text)
+open(f"{out}/summary-$TAG.md", "w").write(text)
 print()
 print(text)
 print(f"results in {out}/")
