@@ -105,7 +105,11 @@ impl Meter {
         self.sum_x2 += accel_m_s2 * accel_m_s2;
         self.sum_w2 += w2;
         self.sum_w4 += w2 * w2;
-        self.peak_w = self.peak_w.max(w.abs());
+        // Branches rather than `f64::max`: a new peak is rare, and a NaN
+        // compares false and is skipped as `max` would skip it.
+        if w.abs() > self.peak_w {
+            self.peak_w = w.abs();
+        }
 
         let len = self.ring.len();
         let old = std::mem::replace(&mut self.ring[self.ring_pos], w2);
@@ -122,7 +126,11 @@ impl Meter {
             self.since_resum = 0;
         }
         if self.n >= len as u64 {
-            self.max_window_sum = self.max_window_sum.max(self.ring_sum.max(0.0));
+            // The maximum is never negative, so a sum rounded below zero
+            // (or NaN) leaves it as `max(sum, 0)` would.
+            if self.ring_sum > self.max_window_sum {
+                self.max_window_sum = self.ring_sum;
+            }
         }
     }
 

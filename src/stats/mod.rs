@@ -56,11 +56,16 @@ impl Moments {
     pub fn push(&mut self, x: f64) {
         if self.n == 0 {
             self.shift = x;
+            self.min = f64::INFINITY;
+            self.max = f64::NEG_INFINITY;
+        }
+        // New extremes are rare, so these branches are nearly free; a NaN
+        // compares false and is skipped, as `f64::min`/`max` skip it.
+        if x < self.min {
             self.min = x;
+        }
+        if x > self.max {
             self.max = x;
-        } else {
-            self.min = self.min.min(x);
-            self.max = self.max.max(x);
         }
         self.n += 1;
         let d = x - self.shift;
@@ -120,14 +125,22 @@ impl Moments {
         (mean * mean + self.variance()).sqrt()
     }
 
-    /// Smallest value (NaN when empty).
+    /// Smallest value (NaN when empty or every value was NaN).
     pub fn min(&self) -> f64 {
-        if self.n == 0 { f64::NAN } else { self.min }
+        if self.n == 0 || self.min > self.max {
+            f64::NAN
+        } else {
+            self.min
+        }
     }
 
-    /// Largest value (NaN when empty).
+    /// Largest value (NaN when empty or every value was NaN).
     pub fn max(&self) -> f64 {
-        if self.n == 0 { f64::NAN } else { self.max }
+        if self.n == 0 || self.min > self.max {
+            f64::NAN
+        } else {
+            self.max
+        }
     }
 }
 
@@ -207,6 +220,22 @@ mod tests {
             xs.iter().cloned().fold(f64::NEG_INFINITY, f64::max)
         );
         assert!(Moments::new().min().is_nan());
+        // NaN values are skipped by the extremes as the std `f64::min`/`max`
+        // folds skip them; all-NaN data has no extremes.
+        for data in [[f64::NAN, 2.0, 1.0], [3.0, f64::NAN, -1.0], [f64::NAN; 3]] {
+            let mut m = Moments::new();
+            data.iter().for_each(|&x| m.push(x));
+            let lo = data.iter().cloned().fold(f64::NAN, f64::min);
+            let hi = data.iter().cloned().fold(f64::NAN, f64::max);
+            assert!(
+                m.min() == lo || (m.min().is_nan() && lo.is_nan()),
+                "{data:?}"
+            );
+            assert!(
+                m.max() == hi || (m.max().is_nan() && hi.is_nan()),
+                "{data:?}"
+            );
+        }
         assert_eq!(Moments::new().rms(), 0.0);
     }
 }
