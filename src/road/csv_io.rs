@@ -67,15 +67,11 @@ fn read_plain(bytes: &[u8]) -> Option<Profile> {
     }
     let has_cr = bytes.contains(&b'\r');
     let header_end = bytes.iter().position(|&b| b == b'\n')?;
-    let header = line_of(has_cr, &bytes[..header_end])?;
-    if header.first() == Some(&b'#') {
+    let header = line_of(has_cr, std::str::from_utf8(&bytes[..header_end]).ok()?)?;
+    if header.starts_with('#') {
         return None;
     }
-    let names: Vec<&str> = std::str::from_utf8(header)
-        .ok()?
-        .split(',')
-        .map(str::trim)
-        .collect();
+    let names: Vec<&str> = header.split(',').map(str::trim).collect();
     let col = |name: &str| {
         names
             .iter()
@@ -120,16 +116,18 @@ fn read_plain(bytes: &[u8]) -> Option<Profile> {
 /// The rows of `body` (whole lines, no trailing line end): distances and
 /// elevations, or `None` as for [`read_plain`].
 fn plain_rows(body: &[u8], ix: usize, iz: usize, has_cr: bool) -> Option<(Vec<f64>, Vec<f64>)> {
+    // Validated once here (fast for ASCII), so no field needs it again.
+    let body = std::str::from_utf8(body).ok()?;
     // Rows printed by `write_profile_csv` take about 25 bytes.
     let mut xs = Vec::with_capacity(body.len() / 20 + 1);
     let mut zs = Vec::with_capacity(body.len() / 20 + 1);
-    for line in body.split(|&b| b == b'\n') {
+    for line in body.split('\n') {
         let line = line_of(has_cr, line)?;
-        if line.first().is_none_or(|&b| b == b'#') {
+        if line.is_empty() || line.starts_with('#') {
             return None;
         }
         let (mut x, mut z) = (None, None);
-        for (i, field) in line.split(|&b| b == b',').enumerate() {
+        for (i, field) in line.split(',').enumerate() {
             if i == ix {
                 x = Some(plain_number(field)?);
             } else if i == iz {
@@ -152,28 +150,27 @@ fn plain_rows(body: &[u8], ix: usize, iz: usize, has_cr: bool) -> Option<(Vec<f6
 /// One line without its `\r` (before the `\n`), or `None` when a `\r`
 /// stands anywhere else (the general reader ends a record there).
 #[inline]
-fn line_of(has_cr: bool, line: &[u8]) -> Option<&[u8]> {
+fn line_of(has_cr: bool, line: &str) -> Option<&str> {
     if !has_cr {
         return Some(line);
     }
-    let line = line.strip_suffix(b"\r").unwrap_or(line);
-    (!line.contains(&b'\r')).then_some(line)
+    let line = line.strip_suffix('\r').unwrap_or(line);
+    (!line.contains('\r')).then_some(line)
 }
 
 /// A finite number written with digits, sign, point and exponent only,
 /// between optional spaces or tabs.
 #[inline]
-fn plain_number(field: &[u8]) -> Option<f64> {
-    let field = field.trim_ascii_start();
-    let field = field.trim_ascii_end();
+fn plain_number(field: &str) -> Option<f64> {
+    let field = field.trim_ascii();
     if field.is_empty()
         || !field
-            .iter()
+            .bytes()
             .all(|b| matches!(b, b'0'..=b'9' | b'.' | b'e' | b'E' | b'+' | b'-'))
     {
         return None;
     }
-    let v: f64 = std::str::from_utf8(field).ok()?.parse().ok()?;
+    let v: f64 = field.parse().ok()?;
     v.is_finite().then_some(v)
 }
 
