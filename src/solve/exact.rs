@@ -185,10 +185,9 @@ fn run_fixed<const N: usize>(
         let t = k as f64 * dt;
         let mut q = [0.0; MAX_DOF];
         let mut qd = [0.0; MAX_DOF];
-        for j in 0..n.min(MAX_DOF) {
-            q[j] = x[j];
-            qd[j] = x[n + j];
-        }
+        // n is a constant here, so these compile to plain moves.
+        q[..n].copy_from_slice(&x[..n]);
+        qd[..n].copy_from_slice(&x[n..]);
         let sample = Sample::from_inputs(&model, force_x_m, t, inputs, q, qd, Contact::Bonded);
         for (i, in_contact) in sample.elements.in_contact.iter().enumerate() {
             if !in_contact {
