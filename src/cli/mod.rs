@@ -7,9 +7,9 @@ mod simulate;
 use clap::{Parser, Subcommand};
 
 mod classify;
+mod comfort;
 mod frf;
 mod modes;
-mod comfort;
 mod plot;
 mod profile;
 mod sweep;

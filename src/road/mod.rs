@@ -35,6 +35,9 @@ pub struct Profile {
     pub spacing_m: f64,
     /// Elevation at `start_m + i·spacing_m`, m.
     pub elevation_m: Vec<f64>,
+    /// `1 / spacing_m`, so the lookups at every solver stage multiply
+    /// instead of divide.
+    per_spacing_m: f64,
 }
 
 impl Profile {
@@ -54,6 +57,7 @@ impl Profile {
             start_m,
             spacing_m,
             elevation_m,
+            per_spacing_m: 1.0 / spacing_m,
         }
     }
 
@@ -86,7 +90,7 @@ impl Profile {
     /// `x_m` clamped to the profile.
     #[inline(always)]
     fn locate(&self, x_m: f64) -> (usize, f64) {
-        let u = (x_m - self.start_m) / self.spacing_m;
+        let u = (x_m - self.start_m) * self.per_spacing_m;
         let last = self.len() - 1;
         if u <= 0.0 || u.is_nan() {
             return (0, 0.0);
@@ -126,7 +130,7 @@ impl Profile {
         let slope = if x_m < self.start_m || x_m >= self.end_m() {
             0.0
         } else {
-            (b - a) / self.spacing_m
+            (b - a) * self.per_spacing_m
         };
         (elevation, slope)
     }

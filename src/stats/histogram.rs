@@ -12,6 +12,9 @@ use super::StatsError;
 pub struct Histogram {
     lower: f64,
     bin_width: f64,
+    // 1 / bin_width: binning multiplies (a value within rounding of an
+    // edge may land in the neighbouring bin, inside the stated resolution).
+    per_bin: f64,
     counts: Vec<u64>,
     underflow: u64,
     overflow: u64,
@@ -45,6 +48,7 @@ impl Histogram {
         Ok(Histogram {
             lower,
             bin_width,
+            per_bin: 1.0 / bin_width,
             counts: vec![0; bins as usize],
             underflow: 0,
             overflow: 0,
@@ -59,7 +63,7 @@ impl Histogram {
             self.not_a_number += 1;
             return;
         }
-        let u = (x - self.lower) / self.bin_width;
+        let u = (x - self.lower) * self.per_bin;
         if u < 0.0 {
             self.underflow += 1;
         } else if u >= self.counts.len() as f64 {

@@ -413,7 +413,10 @@ impl Vehicle {
             vehicle: self,
             static_suspension_n: self.static_suspension_n(),
             static_contact_n: self.static_contact_n(),
-            mass: self.mass_diagonal(),
+            // 1/m (zero for absent coordinates, whose q̈ stays zero).
+            inv_mass: self
+                .mass_diagonal()
+                .map(|m| if m > 0.0 { 1.0 / m } else { 0.0 }),
             wheel: [self.wheel_dof(0), self.wheel_dof(1)],
         }
     }
@@ -427,7 +430,7 @@ pub struct ElementModel<'a> {
     vehicle: &'a Vehicle,
     static_suspension_n: [f64; 2],
     static_contact_n: [f64; 2],
-    mass: [f64; MAX_DOF],
+    inv_mass: [f64; MAX_DOF],
     wheel: [Option<usize>; 2],
 }
 
@@ -453,7 +456,7 @@ impl ElementModel<'_> {
         let lift_off = contact_model == Contact::LiftOff;
         let static_s = &self.static_suspension_n;
         let static_c = &self.static_contact_n;
-        let mass = &self.mass;
+        let inv_mass = &self.inv_mass;
         let mut out = ElementState::default();
         let mut body_force = force_n;
         let mut body_moment = force_n * force_x_m;
@@ -484,7 +487,7 @@ impl ElementModel<'_> {
                             ft = -static_c[i];
                         }
                     }
-                    qdd[w] = (ft - fs) / mass[w];
+                    qdd[w] = (ft - fs) * inv_mass[w];
                     out.contact_n[i] = ft;
                 }
                 _ => {
@@ -505,8 +508,8 @@ impl ElementModel<'_> {
             body_force += fs;
             body_moment += axle.x_m * fs;
         }
-        qdd[0] = body_force / mass[0];
-        qdd[1] = body_moment / mass[1];
+        qdd[0] = body_force * inv_mass[0];
+        qdd[1] = body_moment * inv_mass[1];
         out
     }
 }
