@@ -30,8 +30,8 @@ pub mod comfort;
 pub mod error;
 pub mod pipeline;
 pub mod report;
-pub mod solve;
 pub mod road;
+pub mod solve;
 pub mod stats;
 pub mod vehicle;
 

@@ -130,7 +130,10 @@ fn the_comfort_picture_has_one_line_per_class_over_the_annex_c_bands() {
         "-o",
         svg2.to_str().unwrap(),
     ]);
-    assert!(common::read(&svg_path) == common::read(&svg2), "CSV and JSON Lines pictures differ");
+    assert!(
+        common::read(&svg_path) == common::read(&svg2),
+        "CSV and JSON Lines pictures differ"
+    );
 }
 
 /// A short history at 250 Hz (the lowest rate Wk accepts); returns its path.
