@@ -7,11 +7,21 @@ mod common;
 
 use common::{demo, roughride, scratch};
 
-/// A file to create in the scratch directory before the run.
+/// One malformed input: the files to create in a scratch directory, the
+/// command line, and the fragment its message must hold.
 struct Case {
     what: &'static str,
     files: &'static [(&'static str, &'static str)],
     args: &'static [&'static str],
+    fragment: &'static str,
+}
+
+/// A vehicle-file case: `v.toml` is [`GOOD_CAR`] with `from` replaced by
+/// `to`, run through `simulate` on the demo road.
+struct CarEdit {
+    what: &'static str,
+    from: &'static str,
+    to: &'static str,
     fragment: &'static str,
 }
 
@@ -20,175 +30,70 @@ const ROAD: &str = "@road"; // replaced by the demo road's path
 
 const GOOD_CAR: &str = "[body]\nmass = 1000.0\npitch_inertia = 1500.0\n[front]\ncg_distance = 1.2\nspring_rate = 30000.0\ndamping = 2500.0\n[rear]\ncg_distance = 1.4\nspring_rate = 30000.0\ndamping = 2500.0\n[[seat]]\nx = 0.3\n";
 
-const CASES: &[Case] = &[
-    // Vehicle files.
-    Case {
+const CAR_EDITS: &[CarEdit] = &[
+    CarEdit {
         what: "negative mass",
-        files: &[(
-            "v.toml",
-            "[body]\nmass = -1000.0\npitch_inertia = 1500.0\n[front]\ncg_distance = 1.2\nspring_rate = 30000.0\ndamping = 2500.0\n[rear]\ncg_distance = 1.4\nspring_rate = 30000.0\ndamping = 2500.0\n[[seat]]\nx = 0.3\n",
-        )],
-        args: &[
-            "simulate",
-            "--vehicle",
-            "v.toml",
-            "--profile",
-            ROAD,
-            "--speed",
-            "20",
-        ],
+        from: "mass = 1000.0",
+        to: "mass = -1000.0",
         fragment: "`body.mass` must be positive",
     },
-    Case {
+    CarEdit {
         what: "zero pitch inertia",
-        files: &[(
-            "v.toml",
-            "[body]\nmass = 1000.0\npitch_inertia = 0.0\n[front]\ncg_distance = 1.2\nspring_rate = 30000.0\ndamping = 2500.0\n[rear]\ncg_distance = 1.4\nspring_rate = 30000.0\ndamping = 2500.0\n[[seat]]\nx = 0.3\n",
-        )],
-        args: &[
-            "simulate",
-            "--vehicle",
-            "v.toml",
-            "--profile",
-            ROAD,
-            "--speed",
-            "20",
-        ],
+        from: "pitch_inertia = 1500.0",
+        to: "pitch_inertia = 0.0",
         fragment: "`body.pitch_inertia` must be positive",
     },
-    Case {
+    CarEdit {
         what: "unsprung mass without a tyre rate",
-        files: &[(
-            "v.toml",
-            "[body]\nmass = 1000.0\npitch_inertia = 1500.0\n[front]\ncg_distance = 1.2\nspring_rate = 30000.0\ndamping = 2500.0\nunsprung_mass = 40.0\n[rear]\ncg_distance = 1.4\nspring_rate = 30000.0\ndamping = 2500.0\n[[seat]]\nx = 0.3\n",
-        )],
-        args: &[
-            "simulate",
-            "--vehicle",
-            "v.toml",
-            "--profile",
-            ROAD,
-            "--speed",
-            "20",
-        ],
+        from: "damping = 2500.0\n[rear]",
+        to: "damping = 2500.0\nunsprung_mass = 40.0\n[rear]",
         fragment: "`front.tyre_rate` is missing",
     },
-    Case {
+    CarEdit {
         what: "no seat",
-        files: &[(
-            "v.toml",
-            "[body]\nmass = 1000.0\npitch_inertia = 1500.0\n[front]\ncg_distance = 1.2\nspring_rate = 30000.0\ndamping = 2500.0\n[rear]\ncg_distance = 1.4\nspring_rate = 30000.0\ndamping = 2500.0\n",
-        )],
-        args: &[
-            "simulate",
-            "--vehicle",
-            "v.toml",
-            "--profile",
-            ROAD,
-            "--speed",
-            "20",
-        ],
+        from: "[[seat]]\nx = 0.3\n",
+        to: "",
         fragment: "`seat` is missing",
     },
-    Case {
+    CarEdit {
         what: "misspelt key",
-        files: &[(
-            "v.toml",
-            "[body]\nmass = 1000.0\npitch_inertia = 1500.0\n[front]\ncg_distance = 1.2\nspring_rate = 30000.0\ndampng = 2500.0\n[rear]\ncg_distance = 1.4\nspring_rate = 30000.0\ndamping = 2500.0\n[[seat]]\nx = 0.3\n",
-        )],
-        args: &[
-            "simulate",
-            "--vehicle",
-            "v.toml",
-            "--profile",
-            ROAD,
-            "--speed",
-            "20",
-        ],
+        from: "damping = 2500.0\n[rear]",
+        to: "dampng = 2500.0\n[rear]",
         fragment: "unknown field `dampng`",
     },
-    Case {
+    CarEdit {
         what: "text where a number belongs",
-        files: &[(
-            "v.toml",
-            "[body]\nmass = \"heavy\"\npitch_inertia = 1500.0\n[front]\ncg_distance = 1.2\nspring_rate = 30000.0\ndamping = 2500.0\n[rear]\ncg_distance = 1.4\nspring_rate = 30000.0\ndamping = 2500.0\n[[seat]]\nx = 0.3\n",
-        )],
-        args: &[
-            "simulate",
-            "--vehicle",
-            "v.toml",
-            "--profile",
-            ROAD,
-            "--speed",
-            "20",
-        ],
+        from: "mass = 1000.0",
+        to: "mass = \"heavy\"",
         fragment: "invalid type",
     },
-    Case {
+    CarEdit {
         what: "missing [rear] table",
-        files: &[(
-            "v.toml",
-            "[body]\nmass = 1000.0\npitch_inertia = 1500.0\n[front]\ncg_distance = 1.2\nspring_rate = 30000.0\ndamping = 2500.0\n[[seat]]\nx = 0.3\n",
-        )],
-        args: &[
-            "simulate",
-            "--vehicle",
-            "v.toml",
-            "--profile",
-            ROAD,
-            "--speed",
-            "20",
-        ],
+        from: "[rear]\ncg_distance = 1.4\nspring_rate = 30000.0\ndamping = 2500.0\n",
+        to: "",
         fragment: "missing field `rear`",
     },
-    Case {
+    CarEdit {
         what: "clearance without a stop rate",
-        files: &[(
-            "v.toml",
-            "[body]\nmass = 1000.0\npitch_inertia = 1500.0\n[front]\ncg_distance = 1.2\nspring_rate = 30000.0\ndamping = 2500.0\nbump_clearance = 0.05\n[rear]\ncg_distance = 1.4\nspring_rate = 30000.0\ndamping = 2500.0\n[[seat]]\nx = 0.3\n",
-        )],
-        args: &[
-            "simulate",
-            "--vehicle",
-            "v.toml",
-            "--profile",
-            ROAD,
-            "--speed",
-            "20",
-        ],
+        from: "damping = 2500.0\n[rear]",
+        to: "damping = 2500.0\nbump_clearance = 0.05\n[rear]",
         fragment: "`front.stop_rate` is missing",
     },
-    Case {
+    CarEdit {
         what: "damping_bump without damping_rebound",
-        files: &[(
-            "v.toml",
-            "[body]\nmass = 1000.0\npitch_inertia = 1500.0\n[front]\ncg_distance = 1.2\nspring_rate = 30000.0\ndamping_bump = 2500.0\n[rear]\ncg_distance = 1.4\nspring_rate = 30000.0\ndamping = 2500.0\n[[seat]]\nx = 0.3\n",
-        )],
-        args: &[
-            "simulate",
-            "--vehicle",
-            "v.toml",
-            "--profile",
-            ROAD,
-            "--speed",
-            "20",
-        ],
+        from: "damping = 2500.0\n[rear]",
+        to: "damping_bump = 2500.0\n[rear]",
         fragment: "`front.damping_rebound` is missing",
     },
-    Case {
+    CarEdit {
         what: "broken TOML syntax",
-        files: &[("v.toml", "[body\nmass = 1000.0\n")],
-        args: &[
-            "simulate",
-            "--vehicle",
-            "v.toml",
-            "--profile",
-            ROAD,
-            "--speed",
-            "20",
-        ],
+        from: "[body]",
+        to: "[body",
         fragment: "v.toml",
     },
+];
+
+const CASES: &[Case] = &[
     Case {
         what: "missing vehicle file",
         files: &[],
@@ -441,11 +346,45 @@ const CASES: &[Case] = &[
 
 #[test]
 fn every_bad_input_exits_2_with_a_message_that_names_the_problem() {
-    assert!(CASES.len() >= 20);
+    assert!(CASES.len() + CAR_EDITS.len() >= 20);
+    let vehicle_args = &[
+        "simulate",
+        "--vehicle",
+        "v.toml",
+        "--profile",
+        ROAD,
+        "--speed",
+        "20",
+    ];
+    let edited: Vec<(Case, String)> = CAR_EDITS
+        .iter()
+        .map(|e| {
+            assert!(
+                GOOD_CAR.contains(e.from),
+                "{}: {:?} not in the good file",
+                e.what,
+                e.from
+            );
+            let case = Case {
+                what: e.what,
+                files: &[],
+                args: vehicle_args,
+                fragment: e.fragment,
+            };
+            (case, GOOD_CAR.replacen(e.from, e.to, 1))
+        })
+        .collect();
+    let all = edited
+        .iter()
+        .map(|(c, text)| (c, Some(text.as_str())))
+        .chain(CASES.iter().map(|c| (c, None)));
     let mut failures = Vec::new();
-    for case in CASES {
+    for (case, car) in all {
         let dir = scratch();
         std::fs::write(dir.path().join("car.toml"), GOOD_CAR).unwrap();
+        if let Some(text) = car {
+            std::fs::write(dir.path().join("v.toml"), text).unwrap();
+        }
         for (name, text) in case.files {
             std::fs::write(dir.path().join(name), text).unwrap();
         }
@@ -501,7 +440,7 @@ fn every_bad_input_exits_2_with_a_message_that_names_the_problem() {
         failures.is_empty(),
         "{} of {} cases failed:\n{}",
         failures.len(),
-        CASES.len(),
+        CASES.len() + CAR_EDITS.len(),
         failures.join("\n")
     );
 }

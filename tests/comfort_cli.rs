@@ -3,15 +3,13 @@
 //! table with its caution, and bad input (exit status 2, file/line/column in
 //! the message).
 
+mod common;
+
 use std::f64::consts::PI;
 use std::path::{Path, PathBuf};
 
-use assert_cmd::Command;
+use common::{json_of, roughride};
 use predicates::prelude::*;
-
-fn roughride() -> Command {
-    Command::cargo_bin("roughride").expect("the roughride binary is built")
-}
 
 /// Writes a record CSV `time_s,<column>` sampled at `fs` for `n` samples.
 fn record(
@@ -34,24 +32,6 @@ fn record(
     })
     .expect("scratch record written");
     path
-}
-
-fn json_of(args: &[&str]) -> serde_json::Value {
-    let out = roughride()
-        .args(args)
-        .arg("--json")
-        .assert()
-        .success()
-        .get_output()
-        .stdout
-        .clone();
-    let text = String::from_utf8(out).unwrap();
-    assert_eq!(
-        text.trim_end().lines().count(),
-        1,
-        "exactly one JSON object: {text}"
-    );
-    serde_json::from_str(&text).unwrap()
 }
 
 fn num(v: &serde_json::Value, key: &str) -> f64 {

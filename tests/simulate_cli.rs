@@ -3,29 +3,11 @@
 
 mod common;
 
-use common::{demo, roughride, scratch};
+use common::{demo, json_of, roughride, scratch};
 use predicates::prelude::*;
 
 const CAR: &str = "vehicles/demo_hatchback.toml";
 const ROAD: &str = "roads/demo_rural_c.csv";
-
-fn json_of(args: &[&str]) -> serde_json::Value {
-    let out = roughride()
-        .args(args)
-        .arg("--json")
-        .assert()
-        .success()
-        .get_output()
-        .stdout
-        .clone();
-    let text = String::from_utf8(out).unwrap();
-    assert_eq!(
-        text.trim_end().lines().count(),
-        1,
-        "exactly one JSON object: {text}"
-    );
-    serde_json::from_str(&text).unwrap()
-}
 
 #[test]
 fn the_demo_run_prints_the_contract_keys() {

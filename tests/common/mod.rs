@@ -23,6 +23,26 @@ pub fn roughride() -> assert_cmd::Command {
     assert_cmd::Command::cargo_bin("roughride").expect("binary built")
 }
 
+/// Runs the binary with `args` and `--json`, expects success and exactly
+/// one JSON object on stdout (the contract), and returns it.
+pub fn json_of(args: &[&str]) -> serde_json::Value {
+    let out = roughride()
+        .args(args)
+        .arg("--json")
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    let text = String::from_utf8(out).unwrap();
+    assert_eq!(
+        text.trim_end().lines().count(),
+        1,
+        "exactly one JSON object: {text}"
+    );
+    serde_json::from_str(&text).unwrap()
+}
+
 /// Runs `tests/reference/<script>` with `input` (JSON) on stdin and returns
 /// the JSON it prints. `None` only when ROUGHRIDE_SKIP_PYTHON=1 and Python
 /// or a package is missing; otherwise a missing package fails the test.
