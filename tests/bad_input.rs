@@ -95,6 +95,36 @@ const CAR_EDITS: &[CarEdit] = &[
 
 const CASES: &[Case] = &[
     Case {
+        what: "a speed so low the run would never end",
+        files: &[],
+        args: &[
+            "simulate",
+            "--vehicle",
+            CAR,
+            "--profile",
+            ROAD,
+            "--speed",
+            "1e-300",
+        ],
+        fragment: "output samples",
+    },
+    Case {
+        what: "an output rate above the limit",
+        files: &[],
+        args: &[
+            "simulate",
+            "--vehicle",
+            CAR,
+            "--profile",
+            ROAD,
+            "--speed",
+            "20",
+            "--rate",
+            "1e12",
+        ],
+        fragment: "--rate",
+    },
+    Case {
         what: "missing vehicle file",
         files: &[],
         args: &[

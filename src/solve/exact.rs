@@ -203,7 +203,8 @@ fn run_fixed<const N: usize>(
         // The discrete update of a damped linear model cannot diverge, so a
         // non-finite state can only come from its inputs; checking it with
         // the cancellation, once per block, keeps the loop short.
-        if k % super::CANCEL_CHECK_SAMPLES == 0 {
+        // (First at k = 1, right after the first update.)
+        if k % super::CANCEL_CHECK_SAMPLES == 1 {
             if !all_finite(&x) {
                 return Err(SolveError::NonFinite {
                     time_s: t,

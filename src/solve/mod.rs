@@ -35,6 +35,10 @@ use crate::vehicle::{
 /// Default output rate, Hz: 1 kHz resolves wheel hop (10–15 Hz) and the
 /// ISO 2631-1 weightings up to their 100 Hz band limit.
 pub const DEFAULT_OUTPUT_RATE_HZ: f64 = 1000.0;
+/// Highest output rate accepted, Hz (1 MHz: far above any ride frequency).
+pub const MAX_OUTPUT_RATE_HZ: f64 = 1.0e6;
+/// Most output samples one run may have (10⁹: about 12 days of driving at 1 kHz).
+pub const MAX_SAMPLES: usize = 1_000_000_000;
 /// Default relative tolerance of the adaptive solver.
 pub const DEFAULT_RTOL: f64 = 1e-7;
 /// Default absolute tolerance of the adaptive solver (states in m, rad, m/s).
@@ -214,6 +218,29 @@ pub fn plan(
             excitation.speed_m_s
         ));
     }
+    if settings.output_rate_hz > MAX_OUTPUT_RATE_HZ {
+        return bad(format!(
+            "--rate {} Hz is above the {MAX_OUTPUT_RATE_HZ} Hz this tool samples at",
+            settings.output_rate_hz
+        ));
+    }
+    // Count in floating point: an absurd duration must be refused, not
+    // wrap the integer sample count.
+    let samples = excitation.duration_s() * settings.output_rate_hz;
+    if !(samples < MAX_SAMPLES as f64) {
+        return bad(format!(
+            "the run would need {samples:.3e} output samples ({:.3e} s at {} Hz); at most {MAX_SAMPLES:.0e}: check --speed, the road length and --rate",
+            excitation.duration_s(),
+            settings.output_rate_hz
+        ));
+    }
+    if samples < 1.0 {
+        return bad(format!(
+            "the run lasts {:.3e} s, less than one output interval at {} Hz: the road is too short for this speed",
+            excitation.duration_s(),
+            settings.output_rate_hz
+        ));
+    }
     let (kind, fallback) = match settings.choice {
         SolverChoice::Auto if vehicle.is_linear() => (SolverKind::Exact, true),
         SolverChoice::Auto | SolverChoice::Adaptive => (SolverKind::Adaptive, false),
@@ -341,7 +368,7 @@ pub enum SolveError {
     #[error("{0}")]
     Settings(String),
     /// The state became NaN or infinite.
-    #[error("the run became unstable at t = {time_s:.4} s (a state is not finite); {hint}")]
+    #[error("the run became unstable (a state was not finite at t = {time_s:.4} s); {hint}")]
     NonFinite {
         /// When it was found.
         time_s: f64,
