@@ -10,6 +10,7 @@ mod classify;
 mod comfort;
 mod frf;
 mod modes;
+mod options;
 mod plot;
 mod profile;
 mod sweep;

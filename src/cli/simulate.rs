@@ -3,19 +3,19 @@
 use std::path::PathBuf;
 
 use clap::Args as ClapArgs;
+
+use super::options::SolverArgs;
 use serde::Serialize;
 
 use roughride::Error;
 use roughride::batch::values::parse_speed_m_s;
 use roughride::comfort::HEALTH_CAUTION;
-use roughride::comfort::Weighting;
 use roughride::pipeline::{self, RunOptions, RunSummary};
 use roughride::report::{AtomicFile, Table, io_error, json_line, sig, write_atomic};
 use roughride::road::iso8608::{RoadClass, RoadSpec, generate};
 use roughride::road::obstacle::flat;
 use roughride::road::{Profile, read_profile_csv};
 use roughride::solve::HarmonicForce;
-use roughride::solve::{SolverChoice, SolverSettings};
 use roughride::stats::durability::DurabilitySettings;
 use roughride::vehicle::response::{
     HarmonicAmplitudes, PredictedRms, SpectralSettings, harmonic_force_amplitudes,
@@ -68,21 +68,8 @@ pub struct Args {
     /// Print one JSON object instead of the table.
     #[arg(long)]
     pub json: bool,
-    /// Solver: auto (exact for linear vehicles), exact, or adaptive.
-    #[arg(long, default_value = "auto", value_parser = parse_solver)]
-    pub solver: SolverChoice,
-    /// Output sample rate, Hz.
-    #[arg(long, value_name = "HZ", default_value_t = roughride::solve::DEFAULT_OUTPUT_RATE_HZ)]
-    pub rate: f64,
-    /// Relative tolerance of the adaptive solver.
-    #[arg(long, default_value_t = roughride::solve::DEFAULT_RTOL)]
-    pub rtol: f64,
-    /// Absolute tolerance of the adaptive solver.
-    #[arg(long, default_value_t = roughride::solve::DEFAULT_ATOL)]
-    pub atol: f64,
-    /// Frequency weighting for the seats (wk, wd, wf, wc, we, wj, none).
-    #[arg(long, default_value = "wk", value_parser = parse_weighting)]
-    pub weighting: Weighting,
+    #[command(flatten)]
+    pub run: SolverArgs,
     /// Daily exposure for the ISO 2631-1 health guidance: 8h, 30min, 3600s.
     #[arg(long, value_name = "DURATION", default_value = "8h", value_parser = parse_duration)]
     pub exposure: f64,
@@ -130,14 +117,6 @@ fn parse_force(s: &str) -> Result<HarmonicForce, String> {
 
 fn parse_duration(s: &str) -> Result<f64, String> {
     roughride::batch::values::parse_duration_s(s).map_err(|e| e.to_string())
-}
-
-fn parse_solver(s: &str) -> Result<SolverChoice, String> {
-    s.parse()
-}
-
-fn parse_weighting(s: &str) -> Result<Weighting, String> {
-    s.parse()
 }
 
 /// Where the road came from, for the report.
@@ -243,13 +222,8 @@ pub fn run(a: Args) -> Result<(), Error> {
     check_road(&vehicle, &profile, &road)?;
     let options = RunOptions {
         speed_m_s: a.speed,
-        solver: SolverSettings {
-            choice: a.solver,
-            output_rate_hz: a.rate,
-            rtol: a.rtol,
-            atol: a.atol,
-        },
-        weighting: a.weighting,
+        solver: a.run.settings(),
+        weighting: a.run.weighting,
         force: a.force,
         exposure_s: a.exposure,
         durability: DurabilitySettings {
@@ -266,7 +240,7 @@ pub fn run(a: Args) -> Result<(), Error> {
             &vehicle,
             a.speed,
             spec,
-            a.weighting,
+            a.run.weighting,
             &SpectralSettings {
                 profile_spacing_m: Some(spec.spacing_m),
                 ..Default::default()

@@ -7,17 +7,18 @@ use std::sync::Arc;
 
 use clap::Args as ClapArgs;
 
+use super::options::SolverArgs;
+
 use roughride::Error;
 use roughride::batch::values::{Shard, parse_speed_list_m_s};
 use roughride::batch::{
     Format, Grid, OutputSpec, RoadGeometry, RoadSource, Runner, SweepVehicle, write_sweep,
 };
-use roughride::comfort::{HEALTH_CAUTION, Weighting};
+use roughride::comfort::HEALTH_CAUTION;
 use roughride::pipeline::RunOptions;
 use roughride::report::write_to;
 use roughride::road::iso8608::RoadClass;
 use roughride::road::read_profile_csv;
-use roughride::solve::{SolverChoice, SolverSettings};
 use roughride::vehicle::read_vehicle;
 
 /// Run a grid of cases (vehicle × road × speed × seed) in parallel and print
@@ -76,21 +77,8 @@ pub struct Args {
     /// Write to this file (atomically) instead of stdout.
     #[arg(short = 'o', long = "output", value_name = "FILE")]
     pub output: Option<PathBuf>,
-    /// Solver: auto (exact for linear vehicles), exact, or adaptive.
-    #[arg(long, default_value = "auto", value_parser = parse_solver)]
-    pub solver: SolverChoice,
-    /// Output sample rate, Hz.
-    #[arg(long, value_name = "HZ", default_value_t = roughride::solve::DEFAULT_OUTPUT_RATE_HZ)]
-    pub rate: f64,
-    /// Relative tolerance of the adaptive solver.
-    #[arg(long, default_value_t = roughride::solve::DEFAULT_RTOL)]
-    pub rtol: f64,
-    /// Absolute tolerance of the adaptive solver.
-    #[arg(long, default_value_t = roughride::solve::DEFAULT_ATOL)]
-    pub atol: f64,
-    /// Frequency weighting for the seats (wk, wd, wf, wc, we, wj, none).
-    #[arg(long, default_value = "wk", value_parser = parse_weighting)]
-    pub weighting: Weighting,
+    #[command(flatten)]
+    pub run: SolverArgs,
 }
 
 /// Parsed `--speeds`, m/s (a newtype so clap keeps the list as one value).
@@ -110,14 +98,6 @@ fn parse_class(s: &str) -> Result<RoadClass, String> {
 
 fn parse_shard(s: &str) -> Result<Shard, String> {
     Shard::parse(s).map_err(|e| e.to_string())
-}
-
-fn parse_solver(s: &str) -> Result<SolverChoice, String> {
-    s.parse()
-}
-
-fn parse_weighting(s: &str) -> Result<Weighting, String> {
-    s.parse()
 }
 
 /// Reads the vehicles and roads the arguments name (all input is checked
@@ -172,13 +152,8 @@ pub fn run(a: Args) -> Result<(), Error> {
     };
     let options = RunOptions {
         speed_m_s: 1.0, // each case sets its own
-        solver: SolverSettings {
-            choice: a.solver,
-            output_rate_hz: a.rate,
-            rtol: a.rtol,
-            atol: a.atol,
-        },
-        weighting: a.weighting,
+        solver: a.run.settings(),
+        weighting: a.run.weighting,
         // Everything else as `simulate` has it by default.
         ..RunOptions::at_speed(1.0)
     };

@@ -1,0 +1,48 @@
+//! Options shared by the commands that run the solver (`simulate`,
+//! `sweep`), defined once so their names, defaults and help stay the same.
+
+use clap::Args;
+use roughride::comfort::Weighting;
+use roughride::solve::{
+    DEFAULT_ATOL, DEFAULT_OUTPUT_RATE_HZ, DEFAULT_RTOL, SolverChoice, SolverSettings,
+};
+
+/// Solver and seat-weighting options.
+#[derive(Debug, Clone, Args)]
+pub struct SolverArgs {
+    /// Solver: auto (exact for linear vehicles), exact, or adaptive.
+    #[arg(long, default_value = "auto", value_parser = parse_solver)]
+    pub solver: SolverChoice,
+    /// Output sample rate, Hz.
+    #[arg(long, value_name = "HZ", default_value_t = DEFAULT_OUTPUT_RATE_HZ)]
+    pub rate: f64,
+    /// Relative tolerance of the adaptive solver.
+    #[arg(long, default_value_t = DEFAULT_RTOL)]
+    pub rtol: f64,
+    /// Absolute tolerance of the adaptive solver.
+    #[arg(long, default_value_t = DEFAULT_ATOL)]
+    pub atol: f64,
+    /// Frequency weighting for the seats (wk, wd, wf, wc, we, wj, none).
+    #[arg(long, default_value = "wk", value_parser = parse_weighting)]
+    pub weighting: Weighting,
+}
+
+impl SolverArgs {
+    /// The solver settings these options describe.
+    pub fn settings(&self) -> SolverSettings {
+        SolverSettings {
+            choice: self.solver,
+            output_rate_hz: self.rate,
+            rtol: self.rtol,
+            atol: self.atol,
+        }
+    }
+}
+
+fn parse_solver(s: &str) -> Result<SolverChoice, String> {
+    s.parse()
+}
+
+fn parse_weighting(s: &str) -> Result<Weighting, String> {
+    s.parse()
+}
