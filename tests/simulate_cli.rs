@@ -392,3 +392,48 @@ fn a_harmonic_body_force_gives_the_frequency_domain_amplitude_after_the_transien
     let got = 2.0 * ((sc / n).powi(2) + (ss / n).powi(2)).sqrt();
     assert!((got - want).abs() < 0.01 * want, "{got} vs {want}");
 }
+
+#[test]
+fn comfort_on_the_written_history_gives_the_seat_values_of_the_run() {
+    // The same ISO 2631-1 evaluation serves measured records and simulated
+    // seats: evaluating the history's seat column must give the run's values.
+    let dir = scratch();
+    let hist = dir.path().join("h.csv");
+    let run = {
+        let out = roughride()
+            .args([
+                "simulate",
+                "--vehicle",
+                demo(CAR).to_str().unwrap(),
+                "--class",
+                "C",
+                "--length",
+                "60",
+                "--speed",
+                "20",
+                "--json",
+                "--history",
+            ])
+            .arg(&hist)
+            .assert()
+            .success()
+            .get_output()
+            .stdout
+            .clone();
+        serde_json::from_slice::<serde_json::Value>(&out).unwrap()
+    };
+    let record = json_of(&[
+        "comfort",
+        hist.to_str().unwrap(),
+        "--column",
+        "driver_accel_m_s2",
+    ]);
+    for key in ["accel_rms", "aw", "vdv", "mtvv", "crest_factor"] {
+        let (a, b) = (
+            run["seats"][0][key].as_f64().unwrap(),
+            record[key].as_f64().unwrap(),
+        );
+        // The history prints full precision ({:e}), so the values agree to rounding.
+        assert!((a - b).abs() <= 1e-12 * a.abs(), "{key}: {a} vs {b}");
+    }
+}
