@@ -22,7 +22,19 @@ mod sweep;
 /// Every command prints a table by default and one JSON object with --json.
 /// Exit status: 0 success, 2 bad input or usage, 1 anything else.
 #[derive(Debug, Parser)]
-#[command(name = "roughride", version, about, long_about = None, propagate_version = true)]
+#[command(
+    name = "roughride",
+    version,
+    about = "Ride comfort (ISO 2631-1) and durability estimates for a vehicle on a road, before a prototype exists",
+    propagate_version = true,
+    after_help = "A first session:\n  \
+        roughride modes    --vehicle profiles/vehicles/demo_hatchback.toml\n  \
+        roughride simulate --vehicle profiles/vehicles/demo_hatchback.toml --profile profiles/roads/demo_rural_c.csv --speed 72kmh\n  \
+        roughride sweep    --vehicle profiles/vehicles/demo_hatchback.toml --classes A,B,C,D --speeds 10:35:5 --length 500 -o grid.csv\n  \
+        roughride plot comfort grid.csv -o comfort.svg\n\n\
+        Health values are estimates from a model, not measurements: ISO 2631-1, local regulation and\n\
+        qualified practice govern."
+)]
 pub struct Cli {
     #[command(subcommand)]
     pub command: Command,
@@ -31,20 +43,20 @@ pub struct Cli {
 /// The commands, one per job.
 #[derive(Debug, Subcommand)]
 pub enum Command {
-    /// Natural frequencies, damping ratios, mode shapes and nodes; ride frequencies and flat-ride guidance.
-    Modes(modes::Args),
-    /// Frequency response to road elevation (and a body force): magnitude and phase per output, as CSV.
-    Frf(frf::Args),
     /// Run a vehicle over a road at a speed: comfort (ISO 2631-1), travel, tyre load.
     Simulate(simulate::Args),
+    /// Run a grid of vehicle × road × speed × seed cases in parallel; one CSV row per case.
+    Sweep(sweep::Args),
     /// Synthesise an ISO 8608 road profile (with obstacles) as CSV.
     Profile(profile::Args),
     /// Roughness of a profile CSV: ISO 8608 class, PSD fit, octave bands, IRI.
     Classify(classify::Args),
     /// ISO 2631-1 comfort and health evaluation of a measured acceleration record.
     Comfort(comfort::Args),
-    /// Run a grid of vehicle × road × speed × seed cases in parallel; one CSV row per case.
-    Sweep(sweep::Args),
+    /// Natural frequencies, damping ratios, mode shapes and nodes; ride frequencies and flat-ride guidance.
+    Modes(modes::Args),
+    /// Frequency response to road elevation (and a body force): magnitude and phase per output, as CSV.
+    Frf(frf::Args),
     /// Draw SVG pictures: comfort against speed, histograms, road PSD, time windows.
     Plot(plot::Args),
 }
