@@ -14,7 +14,7 @@ use std::sync::mpsc;
 use serde::Serialize;
 
 use crate::comfort::{Guidance, Measures, Meter, Weighting, guidance};
-use crate::report::{AtomicFile, ExportError};
+use crate::report::{AtomicFile, ExportError, fmt_micro};
 use crate::road::Profile;
 use crate::solve::{
     self, Excitation, HarmonicForce, RunInfo, Sample, SampleSink, SolveError, SolverKind,
@@ -529,8 +529,8 @@ impl SampleSink for Evaluators<'_> {
             let _ = write!(
                 line,
                 "{},{},{:e},{:e},{:e},{:e},{:e},{:e}",
-                fmt_time(s.time_s),
-                fmt_time(s.inputs.distance_m),
+                fmt_micro(s.time_s),
+                fmt_micro(s.inputs.distance_m),
                 s.inputs.road.elevation_m[0],
                 s.inputs.road.elevation_m[1],
                 s.q[0],
@@ -563,12 +563,6 @@ fn history_error(h: &AtomicFile, e: std::io::Error) -> SolveError {
         path: h.target().to_path_buf(),
         source: e,
     })
-}
-
-/// Times and distances to 1 µs / 1 µm without trailing zeros.
-fn fmt_time(x: f64) -> String {
-    let s = format!("{x:.6}");
-    s.trim_end_matches('0').trim_end_matches('.').to_string()
 }
 
 #[cfg(test)]

@@ -2,11 +2,10 @@
 //! obstacles on it and write the profile CSV of the contract
 //! (`distance_m,elevation_m`) to stdout or, atomically, to `-o FILE`.
 
-use std::io::ErrorKind;
 use std::path::{Path, PathBuf};
 
 use clap::{ArgGroup, Args as ClapArgs};
-use roughride::report::{self, ExportError, Table, sig};
+use roughride::report::{self, Table, sig};
 use roughride::road::iso8608::{DEFAULT_N_MAX_CYCLE_M, DEFAULT_N_MIN_CYCLE_M};
 use roughride::road::{self, Obstacle, Profile, RoadClass, RoadSpec};
 
@@ -97,27 +96,19 @@ pub fn run(args: Args) -> Result<(), roughride::Error> {
 
     let path = args.output.as_deref().filter(|p| *p != Path::new("-"));
     let shown = path.unwrap_or(Path::new("<stdout>"));
-    let written: Result<(), ExportError> = report::write_to(path, |w| {
+    // A reader that stops early (`| head`) ends the process quietly through
+    // SIGPIPE (see main.rs), like any other command's output.
+    report::write_to(path, |w| {
         road::write_profile_csv(&profile, w).map_err(|e| report::io_error(shown, e))
-    });
-    match written {
-        // A reader that stops early (`| head`) is not an error.
-        Err(ExportError::Io { source, .. })
-            if path.is_none() && source.kind() == ErrorKind::BrokenPipe =>
-        {
-            Ok(())
-        }
-        Err(e) => Err(e.into()),
-        Ok(()) => {
-            if let Some(p) = path {
-                print!(
-                    "{}",
-                    summary(&profile, spec.as_ref(), &args.obstacle, p).render()
-                );
-            }
-            Ok(())
-        }
+    })
+    .map_err(roughride::Error::from)?;
+    if let Some(p) = path {
+        print!(
+            "{}",
+            summary(&profile, spec.as_ref(), &args.obstacle, p).render()
+        );
     }
+    Ok(())
 }
 
 /// What was written, for the human reading the terminal.

@@ -184,6 +184,13 @@ pub fn fmt_grid(x: f64) -> String {
     format!("{}", if r == 0.0 { 0.0 } else { r })
 }
 
+/// `x` to 6 decimals without trailing zeros (`20.5`, `0.001`, `3`): times
+/// to 1 µs and distances to 1 µm in the CSVs, deterministic.
+pub fn fmt_micro(x: f64) -> String {
+    let s = format!("{x:.6}");
+    s.trim_end_matches('0').trim_end_matches('.').to_string()
+}
+
 /// Wraps an I/O error while writing `path` (use inside `fill` closures).
 pub fn io_error(path: &Path, source: io::Error) -> ExportError {
     ExportError::Io {

@@ -331,20 +331,14 @@ fn to_uniform(
 pub fn write_profile_csv(profile: &Profile, out: &mut dyn Write) -> std::io::Result<()> {
     writeln!(out, "distance_m,elevation_m")?;
     for (i, z) in profile.elevation_m.iter().enumerate() {
-        writeln!(out, "{},{:e}", fmt_distance(profile.distance_m(i)), z)?;
+        writeln!(
+            out,
+            "{},{:e}",
+            crate::report::fmt_micro(profile.distance_m(i)),
+            z
+        )?;
     }
     Ok(())
-}
-
-/// Distances to 1 µm, without trailing zeros, so files stay small and stable.
-fn fmt_distance(x: f64) -> String {
-    let s = format!("{x:.6}");
-    let s = s.trim_end_matches('0').trim_end_matches('.');
-    if s.is_empty() || s == "-" {
-        "0".into()
-    } else {
-        s.to_string()
-    }
 }
 
 #[cfg(test)]

@@ -303,18 +303,7 @@ pub fn road_frf(
     frequencies_hz: &[f64],
 ) -> Result<FrequencyResponse, crate::Error> {
     check_speed(speed_m_s)?;
-    check_frequencies(frequencies_hz)?;
-    let model = Model::new(v);
-    let rows: Vec<Vec<C64>> = frequencies_hz
-        .iter()
-        .map(|&f| model.road(speed_m_s, f))
-        .collect();
-    let nch = model.channels.len();
-    Ok(FrequencyResponse {
-        frequencies_hz: frequencies_hz.to_vec(),
-        values: transpose(rows, nch),
-        channels: model.channels,
-    })
+    tabulate(v, frequencies_hz, |model, f| model.road(speed_m_s, f))
 }
 
 /// Body-force frequency responses (force at `x_m`) on `frequencies_hz`.
@@ -328,11 +317,20 @@ pub fn force_frf(
             "--force-x must be finite, got {x_m}"
         )));
     }
+    tabulate(v, frequencies_hz, |model, f| model.force(x_m, f))
+}
+
+/// Every channel of `response(model, f)` over `frequencies_hz`.
+fn tabulate(
+    v: &Vehicle,
+    frequencies_hz: &[f64],
+    response: impl Fn(&Model, f64) -> Vec<C64>,
+) -> Result<FrequencyResponse, crate::Error> {
     check_frequencies(frequencies_hz)?;
     let model = Model::new(v);
     let rows: Vec<Vec<C64>> = frequencies_hz
         .iter()
-        .map(|&f| model.force(x_m, f))
+        .map(|&f| response(&model, f))
         .collect();
     let nch = model.channels.len();
     Ok(FrequencyResponse {
