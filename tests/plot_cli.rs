@@ -119,6 +119,14 @@ fn the_comfort_picture_has_one_line_per_class_over_the_annex_c_bands() {
     ] {
         assert!(svg.texts.iter().any(|t| t == band), "band label {band}");
     }
+    // The health caution as a footnote (product rule: every picture with a
+    // comfort figure carries it), and what the bars over the seeds are.
+    assert!(
+        has_text(&svg, "not measurements") && has_text(&svg, "ISO 2631-1, local regulation"),
+        "caution footnote: {:?}",
+        svg.texts
+    );
+    assert!(has_text(&svg, "bars: smallest to largest aw of the seeds"));
     // The JSON Lines of the same sweep give the same picture, byte for byte.
     let svg2 = dir.path().join("aw2.svg");
     ok(&[

@@ -1,23 +1,69 @@
 //! SVG pictures of results (plotters, SVG backend only: no system
-//! libraries, text left to the viewer's fonts): comfort (aw) against speed
-//! with the ISO 2631-1 Annex C comfort bands, a histogram of one quantity,
-//! a road profile's displacement PSD against the ISO 8608 class bands, and
-//! a time-history window.
+//! libraries, text left to the viewer's fonts), all drawn in one shared
+//! chart frame.
 //!
-//! Every function takes plain data (numbers and labels, or a [`Profile`]),
-//! does whatever reduction the picture needs (grouping over seeds, the Welch
-//! PSD, histogram bins, decimation) and returns the SVG document as a
-//! string; reading files and writing the picture is the caller's job
+//! # The frame
+//!
+//! Every picture is a [`Frame`]: a title on top, one or more panels of
+//! [`Axes`] stacked below it (sharing the picture's width), and optional
+//! footnote lines at the bottom (the health caution goes there, see
+//! [`crate::comfort::HEALTH_CAUTION`]). An [`Axis`] carries its label
+//! (quantity and unit, e.g. `"speed (m/s)"`), its range, linear or
+//! logarithmic, and its tick format ([`tick`] by default, [`decade_tick`]
+//! for powers of ten). A panel's legend goes in the corner asked for with
+//! [`Axes::legend`] and lists every series drawn with a `.label(…)`.
+//!
+//! ```ignore
+//! use plotters::prelude::*;
+//! use roughride::report::plot::{Axes, Axis, Frame, colour, draw_err, legend_line};
+//!
+//! let svg = Frame::new("Exceedance of travel ranges")
+//!     .footnote(roughride::comfort::HEALTH_CAUTION)
+//!     .draw(
+//!         Axes::new(Axis::log("cycles", 1.0, 1e6), Axis::log("range (mm)", 0.1, 100.0))
+//!             .legend(SeriesLabelPosition::UpperRight),
+//!         |chart, _canvas| {
+//!             let c = colour(0);
+//!             chart
+//!                 .draw_series(LineSeries::new(vec![(1.0, 50.0), (1e6, 0.2)], c.stroke_width(2)))
+//!                 .map_err(draw_err)?
+//!                 .label("front")
+//!                 .legend(legend_line(c));
+//!             Ok(())
+//!         },
+//!     )?;
+//! ```
+//!
+//! The body closure gets the panel's chart (data coordinates, [`Chart`])
+//! and the whole picture ([`Canvas`], pixel coordinates as
+//! `chart.backend_coord` gives them) for text in the margins.
+//! [`Frame::draw_stacked`] draws several panels that share the horizontal
+//! axis (its label under the lowest panel only). Values that a log axis
+//! cannot show (zero, negative) must be left out by the caller.
+//!
+//! # The pictures
+//!
+//! Comfort (aw) against speed with the ISO 2631-1 Annex C comfort bands, a
+//! histogram of one quantity, a road profile's displacement PSD against the
+//! ISO 8608 class bands, and a time-history window. Every function takes
+//! plain data (numbers and labels, or a [`Profile`]), does whatever
+//! reduction the picture needs (grouping over seeds, the Welch PSD,
+//! histogram bins, decimation) and returns the SVG document as a string;
+//! reading files and writing the picture is the caller's job
 //! ([`super::write_to`]). Axes carry the quantity and its unit. Output is
 //! deterministic: the same data give the same bytes.
 
 use std::collections::BTreeMap;
+use std::ops::Range;
 
+use plotters::coord::Shift;
+use plotters::coord::ranged1d::{DefaultFormatting, KeyPointHint, Ranged};
+use plotters::coord::types::RangedCoordf64;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 
 use super::ExportError;
-use crate::comfort::COMFORT_BANDS;
+use crate::comfort::{COMFORT_BANDS, HEALTH_CAUTION};
 use crate::road::Profile;
 use crate::road::classify::{classify, welch_segment_len};
 use crate::road::iso8608::{N0_CYCLE_M, RoadClass};
@@ -29,11 +75,19 @@ pub const SIZE_PX: (u32, u32) = (960, 600);
 /// Most points drawn per time-history series (min/max decimation beyond).
 pub const MAX_HISTORY_POINTS: usize = 4000;
 
-const FONT: &str = "sans-serif";
-const LABEL_DARK: RGBColor = RGBColor(40, 40, 40);
-const LABEL_GREY: RGBColor = RGBColor(90, 90, 90);
+/// The font family of every text (left to the viewer).
+pub const FONT: &str = "sans-serif";
+/// Dark grey for labels in the margins.
+pub const LABEL_DARK: RGBColor = RGBColor(40, 40, 40);
+/// Mid grey for secondary labels and footnotes.
+pub const LABEL_GREY: RGBColor = RGBColor(90, 90, 90);
 /// Right margin of the comfort picture, for the band labels, pixels.
 const BAND_LABEL_PX: u32 = 190;
+/// Footnote text size and line pitch, pixels.
+const FOOTNOTE_FONT_PX: u32 = 12;
+const FOOTNOTE_LINE_PX: u32 = 16;
+/// Longest footnote line, characters (a 12 px sans-serif line across the picture).
+const FOOTNOTE_CHARS: usize = 140;
 
 /// Distinct series colours (Okabe & Ito, "Color Universal Design", 2008:
 /// readable with the common colour-vision deficiencies), then darker tones.
@@ -50,22 +104,395 @@ const PALETTE: [RGBColor; 10] = [
     RGBColor(60, 120, 60),
 ];
 
-fn colour(i: usize) -> RGBColor {
+/// The colour of series `i` (cycles through the palette).
+pub fn colour(i: usize) -> RGBColor {
     PALETTE[i % PALETTE.len()]
 }
 
-fn draw_err(e: impl std::fmt::Display) -> ExportError {
+/// A drawing failure as an export error (plotters' errors are a bug or an
+/// impossible picture, never the user's input).
+pub fn draw_err(e: impl std::fmt::Display) -> ExportError {
     ExportError::Serialise {
         what: "SVG picture".to_string(),
         message: e.to_string(),
     }
 }
 
-fn no_data(what: &str) -> ExportError {
+/// The error for data that leave nothing to draw.
+pub fn no_data(what: &str) -> ExportError {
     ExportError::Serialise {
         what: "SVG picture".to_string(),
         message: format!("nothing to draw: {what}"),
     }
+}
+
+/// The legend sample of a line series: a short thick stroke.
+pub fn legend_line(c: RGBColor) -> impl Fn((i32, i32)) -> PathElement<(i32, i32)> + 'static {
+    move |(x, y)| PathElement::new(vec![(x, y), (x + 24, y)], c.stroke_width(3))
+}
+
+// -------------------------------------------------------------- the frame
+
+/// The coordinate of one axis: linear, or logarithmic (base 10).
+#[derive(Debug, Clone, Copy)]
+pub enum Scale {
+    /// Linear from `lo` to `hi`.
+    Linear { lo: f64, hi: f64 },
+    /// Logarithmic from `lo` to `hi` (both > 0).
+    Log { lo: f64, hi: f64 },
+}
+
+impl Scale {
+    fn linear(lo: f64, hi: f64) -> RangedCoordf64 {
+        (lo..hi).into()
+    }
+}
+
+impl Ranged for Scale {
+    type FormatOption = DefaultFormatting;
+    type ValueType = f64;
+
+    fn map(&self, value: &f64, limit: (i32, i32)) -> i32 {
+        match *self {
+            Scale::Linear { lo, hi } => Scale::linear(lo, hi).map(value, limit),
+            Scale::Log { lo, hi } => {
+                Scale::linear(lo.log10(), hi.log10()).map(&value.log10(), limit)
+            }
+        }
+    }
+
+    fn key_points<H: KeyPointHint>(&self, hint: H) -> Vec<f64> {
+        match *self {
+            Scale::Linear { lo, hi } => Scale::linear(lo, hi).key_points(hint),
+            Scale::Log { lo, hi } => log_key_points(lo, hi, hint),
+        }
+    }
+
+    fn range(&self) -> Range<f64> {
+        match *self {
+            Scale::Linear { lo, hi } | Scale::Log { lo, hi } => lo..hi,
+        }
+    }
+}
+
+/// Grid and tick values of a log axis: the powers of ten inside the range
+/// (1, 2 and 5 times them when the range spans less than two decades), and
+/// for the light grid every integer multiple of each decade.
+fn log_key_points<H: KeyPointHint>(lo: f64, hi: f64, hint: H) -> Vec<f64> {
+    let inside = |v: &f64| *v >= lo * (1.0 - 1e-12) && *v <= hi * (1.0 + 1e-12);
+    let (k0, k1) = (lo.log10().floor() as i32 - 1, hi.log10().ceil() as i32 + 1);
+    let with = |mult: &[f64]| -> Vec<f64> {
+        (k0..=k1)
+            .flat_map(|k| mult.iter().map(move |m| m * 10f64.powi(k)))
+            .filter(inside)
+            .collect()
+    };
+    let mut bold = with(&[1.0]);
+    if bold.len() < 2 {
+        bold = with(&[1.0, 2.0, 5.0]);
+    }
+    let max = hint.max_num_points().max(1);
+    if bold.len() > max {
+        let step = bold.len().div_ceil(max);
+        bold = bold.into_iter().step_by(step).collect();
+    }
+    if !hint.weight().allow_light_points() {
+        return bold;
+    }
+    let light = with(&[1.0, 2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0]);
+    if light.len() <= max { light } else { bold }
+}
+
+/// One axis of a panel: label (quantity and unit), range, scale and tick format.
+#[derive(Debug, Clone)]
+pub struct Axis {
+    label: String,
+    scale: Scale,
+    ticks: fn(f64) -> String,
+}
+
+impl Axis {
+    /// A linear axis from `lo` to `hi`, ticks by [`tick`].
+    pub fn linear(label: impl Into<String>, lo: f64, hi: f64) -> Self {
+        Axis {
+            label: label.into(),
+            scale: Scale::Linear { lo, hi },
+            ticks: tick,
+        }
+    }
+
+    /// A logarithmic axis from `lo` to `hi` (both > 0), ticks by [`tick`].
+    pub fn log(label: impl Into<String>, lo: f64, hi: f64) -> Self {
+        Axis {
+            label: label.into(),
+            scale: Scale::Log { lo, hi },
+            ticks: tick,
+        }
+    }
+
+    /// Formats the tick labels with `format` (e.g. [`decade_tick`]).
+    pub fn ticks(mut self, format: fn(f64) -> String) -> Self {
+        self.ticks = format;
+        self
+    }
+
+    /// The axis range, in data units.
+    pub fn range(&self) -> (f64, f64) {
+        match self.scale {
+            Scale::Linear { lo, hi } | Scale::Log { lo, hi } => (lo, hi),
+        }
+    }
+
+    fn check(&self) -> Result<(), ExportError> {
+        let (lo, hi) = self.range();
+        let log = matches!(self.scale, Scale::Log { .. });
+        if !(lo.is_finite() && hi.is_finite() && lo < hi) || (log && lo <= 0.0) {
+            return Err(draw_err(format!(
+                "axis `{}`: range {lo} .. {hi} cannot be drawn",
+                self.label
+            )));
+        }
+        Ok(())
+    }
+}
+
+/// One panel: two axes, where its legend goes, and its grid.
+#[derive(Debug, Clone)]
+pub struct Axes {
+    /// Horizontal axis.
+    pub x: Axis,
+    /// Vertical axis.
+    pub y: Axis,
+    legend: Option<SeriesLabelPosition>,
+    fine_grid: bool,
+    margin_right_px: u32,
+    y_label_px: u32,
+}
+
+impl Axes {
+    /// A panel with a fine grid, no legend and the usual margins.
+    pub fn new(x: Axis, y: Axis) -> Self {
+        Axes {
+            x,
+            y,
+            legend: None,
+            fine_grid: true,
+            margin_right_px: 16,
+            y_label_px: 80,
+        }
+    }
+
+    /// Draws the legend (every labelled series) in this corner or place.
+    pub fn legend(mut self, at: SeriesLabelPosition) -> Self {
+        self.legend = Some(at);
+        self
+    }
+
+    /// Only the main grid lines, no fine grid between them.
+    pub fn coarse_grid(mut self) -> Self {
+        self.fine_grid = false;
+        self
+    }
+
+    /// Leaves `px` pixels right of the plot for labels drawn on the canvas.
+    pub fn margin_right(mut self, px: u32) -> Self {
+        self.margin_right_px = px;
+        self
+    }
+}
+
+/// A panel's chart, in data coordinates.
+pub type Chart<'a, 'b> = ChartContext<'a, SVGBackend<'b>, Cartesian2d<Scale, Scale>>;
+/// The whole picture, in pixels (as `Chart::backend_coord` gives them).
+pub type Canvas<'b> = DrawingArea<SVGBackend<'b>, Shift>;
+
+/// A picture: title, panels, footnote. See the module doc.
+#[derive(Debug, Clone)]
+pub struct Frame {
+    title: String,
+    footnotes: Vec<String>,
+    size_px: (u32, u32),
+}
+
+impl Frame {
+    /// A picture of [`SIZE_PX`] with this title.
+    pub fn new(title: impl Into<String>) -> Self {
+        Frame {
+            title: title.into(),
+            footnotes: Vec::new(),
+            size_px: SIZE_PX,
+        }
+    }
+
+    /// Adds a footnote under the panels, wrapped to the picture's width.
+    pub fn footnote(mut self, text: &str) -> Self {
+        self.footnotes.extend(wrap(text, FOOTNOTE_CHARS));
+        self
+    }
+
+    /// Sets the picture size, pixels.
+    pub fn size(mut self, size_px: (u32, u32)) -> Self {
+        self.size_px = size_px;
+        self
+    }
+
+    /// Draws one panel; `body` draws the data on it.
+    pub fn draw<F>(self, axes: Axes, body: F) -> Result<String, ExportError>
+    where
+        F: FnOnce(&mut Chart<'_, '_>, &Canvas<'_>) -> Result<(), ExportError>,
+    {
+        let mut body = Some(body);
+        self.draw_stacked(std::slice::from_ref(&axes), |_, chart, canvas| {
+            match body.take() {
+                Some(b) => b(chart, canvas),
+                None => Ok(()),
+            }
+        })
+    }
+
+    /// Draws `panels` stacked top to bottom, equal heights, sharing the
+    /// horizontal axis label (drawn under the lowest panel only); `body`
+    /// gets each panel's index and chart in turn.
+    pub fn draw_stacked<F>(self, panels: &[Axes], mut body: F) -> Result<String, ExportError>
+    where
+        F: FnMut(usize, &mut Chart<'_, '_>, &Canvas<'_>) -> Result<(), ExportError>,
+    {
+        if panels.is_empty() {
+            return Err(no_data("no panel"));
+        }
+        for p in panels {
+            p.x.check()?;
+            p.y.check()?;
+        }
+        let mut svg = String::new();
+        {
+            let root = SVGBackend::with_string(&mut svg, self.size_px).into_drawing_area();
+            root.fill(&WHITE).map_err(draw_err)?;
+            let foot_px = match self.footnotes.len() {
+                0 => 0,
+                n => 6 + FOOTNOTE_LINE_PX * n as u32,
+            };
+            let (upper, lower) = root.split_vertically(self.size_px.1 - foot_px);
+            let titled = upper
+                .margin(16, 0, 0, 0)
+                .titled(&self.title, (FONT, 22))
+                .map_err(draw_err)?;
+            self.draw_footnotes(&lower)?;
+            let areas = titled.split_evenly((panels.len(), 1));
+            for (i, (area, axes)) in areas.iter().zip(panels).enumerate() {
+                let lowest = i + 1 == panels.len();
+                let mut chart = panel(area, axes, lowest)?;
+                body(i, &mut chart, &root)?;
+                if let Some(at) = &axes.legend {
+                    draw_legend(&mut chart, at.clone())?;
+                }
+            }
+            root.present().map_err(draw_err)?;
+        }
+        Ok(svg)
+    }
+
+    fn draw_footnotes(&self, area: &Canvas<'_>) -> Result<(), ExportError> {
+        let style = TextStyle::from((FONT, FOOTNOTE_FONT_PX).into_font())
+            .color(&LABEL_GREY)
+            .pos(Pos::new(HPos::Left, VPos::Top));
+        for (i, line) in self.footnotes.iter().enumerate() {
+            area.draw(&Text::new(
+                line.as_str(),
+                (16, FOOTNOTE_LINE_PX as i32 * i as i32),
+                style.clone(),
+            ))
+            .map_err(draw_err)?;
+        }
+        Ok(())
+    }
+}
+
+/// Builds one panel's chart and draws its axes and grid.
+fn panel<'a, 'b>(
+    area: &'a Canvas<'b>,
+    axes: &Axes,
+    lowest: bool,
+) -> Result<Chart<'a, 'b>, ExportError> {
+    let mut chart = ChartBuilder::on(area)
+        .margin(16)
+        .margin_right(axes.margin_right_px)
+        .x_label_area_size(if lowest { 48 } else { 28 })
+        .y_label_area_size(axes.y_label_px)
+        .build_cartesian_2d(axes.x.scale, axes.y.scale)
+        .map_err(draw_err)?;
+    let (xt, yt) = (axes.x.ticks, axes.y.ticks);
+    let x_fmt = move |v: &f64| xt(*v);
+    let y_fmt = move |v: &f64| yt(*v);
+    let mut mesh = chart.configure_mesh();
+    mesh.y_desc(axes.y.label.as_str())
+        .label_style((FONT, 14))
+        .axis_desc_style((FONT, 16))
+        .x_label_formatter(&x_fmt)
+        .y_label_formatter(&y_fmt);
+    if lowest {
+        mesh.x_desc(axes.x.label.as_str());
+    }
+    if !axes.fine_grid {
+        mesh.light_line_style(WHITE.mix(0.0));
+    }
+    mesh.draw().map_err(draw_err)?;
+    Ok(chart)
+}
+
+/// The legend of every labelled series, in the frame's one style.
+fn draw_legend<'a, 'b: 'a>(
+    chart: &mut Chart<'a, 'b>,
+    at: SeriesLabelPosition,
+) -> Result<(), ExportError> {
+    chart
+        .configure_series_labels()
+        .position(at)
+        .label_font((FONT, 14))
+        .background_style(WHITE.mix(0.85))
+        .border_style(BLACK)
+        .draw()
+        .map_err(draw_err)
+}
+
+/// Splits `text` into lines of at most `width` characters at spaces (a
+/// longer word gets a line of its own).
+pub fn wrap(text: &str, width: usize) -> Vec<String> {
+    let mut lines = Vec::new();
+    let mut line = String::new();
+    for word in text.split_whitespace() {
+        if !line.is_empty() && line.chars().count() + 1 + word.chars().count() > width {
+            lines.push(std::mem::take(&mut line));
+        }
+        if !line.is_empty() {
+            line.push(' ');
+        }
+        line.push_str(word);
+    }
+    if !line.is_empty() {
+        lines.push(line);
+    }
+    lines
+}
+
+/// An axis tick: four significant figures without trailing zeros.
+pub fn tick(v: f64) -> String {
+    let s = short(v);
+    if s.contains('.') && !s.contains('e') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s
+    }
+}
+
+/// A tick for a log axis of small or large values: `1e-3`, `2e5`.
+pub fn decade_tick(v: f64) -> String {
+    format!("{v:.0e}")
+}
+
+/// Four significant figures, plain or with an exponent for tiny or huge values.
+fn short(v: f64) -> String {
+    super::sig(v, 4)
 }
 
 /// An axis label from a column name with its unit suffix:
@@ -169,12 +596,52 @@ pub fn comfort_levels(points: &[ComfortPoint]) -> Vec<(String, Vec<ComfortLevel>
     out
 }
 
+/// Annex C band shades, mildest first: green to red, drawn translucent.
+const BAND_SHADES: [RGBColor; 6] = [
+    RGBColor(46, 160, 67),
+    RGBColor(140, 190, 60),
+    RGBColor(230, 200, 40),
+    RGBColor(240, 150, 40),
+    RGBColor(225, 90, 40),
+    RGBColor(190, 30, 45),
+];
+
 /// aw against speed, one line per series (mean over seeds, with a bar from
 /// the smallest to the largest seed where there are several), over the
 /// comfort reactions of ISO 2631-1 Annex C shaded and labelled. The bands
-/// overlap in the standard, and overlapping shades show it.
+/// overlap in the standard, and overlapping shades show it. The footnote
+/// explains the bars and carries the health caution.
 pub fn comfort_chart(points: &[ComfortPoint], title: &str) -> Result<String, ExportError> {
     let series = comfort_levels(points);
+    let (x0, x1, y1) = comfort_ranges(&series)?;
+    let seeds = series
+        .iter()
+        .flat_map(|(_, l)| l)
+        .map(|l| l.rows)
+        .max()
+        .unwrap_or(1);
+    let mut frame = Frame::new(title);
+    if seeds > 1 {
+        frame = frame.footnote(&format!(
+            "Lines: mean aw over the seeds at each speed; bars: smallest to largest aw of the \
+             seeds ({seeds} per point at most)."
+        ));
+    }
+    let axes = Axes::new(
+        Axis::linear("speed (m/s)", x0, x1),
+        Axis::linear("seat aw, ISO 2631-1 Wk (m/s²)", 0.0, y1),
+    )
+    .margin_right(BAND_LABEL_PX)
+    .coarse_grid()
+    .legend(SeriesLabelPosition::UpperLeft);
+    frame.footnote(HEALTH_CAUTION).draw(axes, |chart, canvas| {
+        draw_comfort_bands(chart, canvas, (x0, x1), y1)?;
+        draw_comfort_series(chart, &series)
+    })
+}
+
+/// Speed range (padded) and the top of the aw axis.
+fn comfort_ranges(series: &[(String, Vec<ComfortLevel>)]) -> Result<(f64, f64, f64), ExportError> {
     let finite: Vec<&ComfortLevel> = series
         .iter()
         .flat_map(|(_, l)| l)
@@ -183,140 +650,150 @@ pub fn comfort_chart(points: &[ComfortPoint], title: &str) -> Result<String, Exp
     if finite.is_empty() {
         return Err(no_data("no rows with a finite speed and aw"));
     }
-    let (mut x0, mut x1) = finite
+    let (x0, x1) = finite
         .iter()
         .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), l| {
             (a.min(l.speed_m_s), b.max(l.speed_m_s))
         });
     let pad = ((x1 - x0) * 0.05).max(0.5);
-    x0 = (x0 - pad).max(0.0);
-    x1 += pad;
     let top = finite.iter().map(|l| l.max_m_s2).fold(0.0, f64::max);
     // Show at least the first two bands so the scale reads at a glance.
-    let y1 = (top * 1.12).max(0.7);
+    Ok(((x0 - pad).max(0.0), x1 + pad, (top * 1.12).max(0.7)))
+}
 
-    let mut svg = String::new();
-    {
-        let root = SVGBackend::with_string(&mut svg, SIZE_PX).into_drawing_area();
-        root.fill(&WHITE).map_err(draw_err)?;
-        let mut chart = ChartBuilder::on(&root)
-            .caption(title, (FONT, 22))
-            .margin(16)
-            .margin_right(BAND_LABEL_PX)
-            .x_label_area_size(48)
-            .y_label_area_size(64)
-            .build_cartesian_2d(x0..x1, 0.0..y1)
-            .map_err(draw_err)?;
+/// The Annex C bands as shades, with their names and ranges in the right margin.
+fn draw_comfort_bands(
+    chart: &mut Chart<'_, '_>,
+    canvas: &Canvas<'_>,
+    (x0, x1): (f64, f64),
+    y1: f64,
+) -> Result<(), ExportError> {
+    let text = |size: u32, c: &'static RGBColor, v: VPos| {
+        TextStyle::from((FONT, size).into_font())
+            .color(c)
+            .pos(Pos::new(HPos::Left, v))
+    };
+    for (band, shade) in COMFORT_BANDS.iter().zip(BAND_SHADES) {
+        if band.lower_m_s2 >= y1 {
+            continue;
+        }
+        let upper = band.upper_m_s2.min(y1);
         chart
-            .configure_mesh()
-            .x_desc("speed (m/s)")
-            .y_desc("seat aw, ISO 2631-1 Wk (m/s²)")
-            .label_style((FONT, 14))
-            .axis_desc_style((FONT, 16))
-            .light_line_style(WHITE.mix(0.0))
-            .draw()
+            .draw_series(std::iter::once(Rectangle::new(
+                [(x0, band.lower_m_s2), (x1, upper)],
+                shade.mix(0.13).filled(),
+            )))
             .map_err(draw_err)?;
-        // Annex C bands, mildest first: green to red, translucent.
-        let shades = [
-            RGBColor(46, 160, 67),
-            RGBColor(140, 190, 60),
-            RGBColor(230, 200, 40),
-            RGBColor(240, 150, 40),
-            RGBColor(225, 90, 40),
-            RGBColor(190, 30, 45),
-        ];
-        for (band, shade) in COMFORT_BANDS.iter().zip(shades) {
-            if band.lower_m_s2 >= y1 {
-                continue;
-            }
-            let upper = band.upper_m_s2.min(y1);
-            chart
-                .draw_series(std::iter::once(Rectangle::new(
-                    [(x0, band.lower_m_s2), (x1, upper)],
-                    shade.mix(0.13).filled(),
-                )))
-                .map_err(draw_err)?;
-            // The label in the right margin, level with the middle of the
-            // visible part of the band (the middles are far enough apart
-            // for the overlapping bands to keep their labels apart).
-            let range = if band.upper_m_s2.is_finite() {
-                format!("{}–{} m/s²", band.lower_m_s2, band.upper_m_s2)
-            } else {
-                format!("above {} m/s²", band.lower_m_s2)
-            };
-            let (px, py) = chart.backend_coord(&(x1, 0.5 * (band.lower_m_s2 + upper)));
-            let text = |size: i32, c: &'static RGBColor, v: VPos| {
-                TextStyle::from((FONT, size).into_font())
-                    .color(c)
-                    .pos(Pos::new(HPos::Left, v))
-            };
-            root.draw(&Text::new(
-                band.label,
-                (px + 10, py),
-                text(14, &LABEL_DARK, VPos::Bottom),
-            ))
-            .map_err(draw_err)?;
-            root.draw(&Text::new(
-                range,
-                (px + 10, py + 2),
-                text(12, &LABEL_GREY, VPos::Top),
-            ))
-            .map_err(draw_err)?;
-            root.draw(&Rectangle::new(
+        // The label in the right margin, level with the middle of the
+        // visible part of the band (the middles are far enough apart for
+        // the overlapping bands to keep their labels apart).
+        let range = if band.upper_m_s2.is_finite() {
+            format!("{}–{} m/s²", band.lower_m_s2, band.upper_m_s2)
+        } else {
+            format!("above {} m/s²", band.lower_m_s2)
+        };
+        let (px, py) = chart.backend_coord(&(x1, 0.5 * (band.lower_m_s2 + upper)));
+        let draw = |e: &Text<'_, (i32, i32), String>| canvas.draw(e).map_err(draw_err);
+        draw(&Text::new(
+            band.label.to_string(),
+            (px + 10, py),
+            text(14, &LABEL_DARK, VPos::Bottom),
+        ))?;
+        draw(&Text::new(
+            range,
+            (px + 10, py + 2),
+            text(12, &LABEL_GREY, VPos::Top),
+        ))?;
+        canvas
+            .draw(&Rectangle::new(
                 [(px + 2, py - 6), (px + 7, py + 6)],
                 shade.mix(0.6).filled(),
             ))
             .map_err(draw_err)?;
-        }
-        let (px, py) = chart.backend_coord(&(x1, y1));
-        root.draw(&Text::new(
+    }
+    let (px, py) = chart.backend_coord(&(x1, y1));
+    canvas
+        .draw(&Text::new(
             "ISO 2631-1 Annex C",
             (px + 10, py),
             TextStyle::from((FONT, 13).into_font().style(FontStyle::Italic))
                 .color(&RGBColor(60, 60, 60)),
         ))
-        .map_err(draw_err)?;
-        for (i, (name, levels)) in series.iter().enumerate() {
-            let c = colour(i);
-            let line: Vec<(f64, f64)> = levels.iter().map(|l| (l.speed_m_s, l.mean_m_s2)).collect();
-            chart
-                .draw_series(LineSeries::new(line.clone(), c.stroke_width(2)))
-                .map_err(draw_err)?
-                .label(name.as_str())
-                .legend(move |(x, y)| {
-                    PathElement::new(vec![(x, y), (x + 24, y)], c.stroke_width(3))
-                });
-            chart
-                .draw_series(line.iter().map(|p| Circle::new(*p, 3, c.filled())))
-                .map_err(draw_err)?;
-            chart
-                .draw_series(
-                    levels
-                        .iter()
-                        .filter(|l| l.rows > 1 && l.max_m_s2 > l.min_m_s2)
-                        .map(|l| {
-                            PathElement::new(
-                                vec![(l.speed_m_s, l.min_m_s2), (l.speed_m_s, l.max_m_s2)],
-                                c.stroke_width(1),
-                            )
-                        }),
-                )
-                .map_err(draw_err)?;
-        }
+        .map_err(draw_err)
+}
+
+/// One line per series through the means, dots, and min–max bars over the seeds.
+fn draw_comfort_series(
+    chart: &mut Chart<'_, '_>,
+    series: &[(String, Vec<ComfortLevel>)],
+) -> Result<(), ExportError> {
+    for (i, (name, levels)) in series.iter().enumerate() {
+        let c = colour(i);
+        let line: Vec<(f64, f64)> = levels.iter().map(|l| (l.speed_m_s, l.mean_m_s2)).collect();
         chart
-            .configure_series_labels()
-            .position(SeriesLabelPosition::UpperLeft)
-            .label_font((FONT, 14))
-            .background_style(WHITE.mix(0.85))
-            .border_style(BLACK)
-            .draw()
+            .draw_series(LineSeries::new(line.clone(), c.stroke_width(2)))
+            .map_err(draw_err)?
+            .label(name.as_str())
+            .legend(legend_line(c));
+        chart
+            .draw_series(line.iter().map(|p| Circle::new(*p, 3, c.filled())))
             .map_err(draw_err)?;
-        root.present().map_err(draw_err)?;
+        chart
+            .draw_series(
+                levels
+                    .iter()
+                    .filter(|l| l.rows > 1 && l.max_m_s2 > l.min_m_s2)
+                    .map(|l| {
+                        PathElement::new(
+                            vec![(l.speed_m_s, l.min_m_s2), (l.speed_m_s, l.max_m_s2)],
+                            c.stroke_width(1),
+                        )
+                    }),
+            )
+            .map_err(draw_err)?;
     }
-    Ok(svg)
+    Ok(())
 }
 
 // -------------------------------------------------------------- histogram
+
+/// Equal bins from the smallest to the largest finite value, the largest
+/// value counted in the last bin.
+struct Bins {
+    hist: Histogram,
+    counts: Vec<u64>,
+    width: f64,
+}
+
+fn bin_values(finite: &[f64], bins: usize) -> Result<Bins, ExportError> {
+    let lo = finite.iter().copied().fold(f64::INFINITY, f64::min);
+    let hi = finite.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+    // A constant column still gets one visible bar.
+    let (lo, hi) = if hi > lo {
+        (lo, hi)
+    } else {
+        (
+            lo - 0.5 * lo.abs().max(1e-12),
+            hi + 0.5 * hi.abs().max(1e-12),
+        )
+    };
+    let width = (hi - lo) / bins as f64;
+    let mut hist = Histogram::new(lo, hi, width).map_err(draw_err)?;
+    for v in finite {
+        hist.push(*v);
+    }
+    // Bins are [lower, upper): the largest value lands in the overflow and
+    // is drawn in the last bin (percentiles below the 100th are unaffected).
+    let mut counts = hist.counts().to_vec();
+    if let Some(last) = counts.last_mut() {
+        *last += hist.overflow();
+    }
+    Ok(Bins {
+        hist,
+        counts,
+        width,
+    })
+}
 
 /// A histogram of `values` in `bins` equal bins from the smallest to the
 /// largest finite value (NaN and infinite values are left out and counted
@@ -336,31 +813,10 @@ pub fn histogram_chart(
     if bins == 0 {
         return Err(draw_err("the number of bins must be at least 1"));
     }
-    let lo = finite.iter().copied().fold(f64::INFINITY, f64::min);
-    let hi = finite.iter().copied().fold(f64::NEG_INFINITY, f64::max);
-    // A constant column still gets one visible bar.
-    let (lo, hi) = if hi > lo {
-        (lo, hi)
-    } else {
-        (
-            lo - 0.5 * lo.abs().max(1e-12),
-            hi + 0.5 * hi.abs().max(1e-12),
-        )
-    };
-    let width = (hi - lo) / bins as f64;
-    let mut h = Histogram::new(lo, hi, width).map_err(draw_err)?;
-    for v in &finite {
-        h.push(*v);
-    }
-    // Bins are [lower, upper): the largest value lands in the overflow and
-    // is drawn in the last bin (percentiles below the 100th are unaffected).
-    let mut counts = h.counts().to_vec();
-    if let Some(last) = counts.last_mut() {
-        *last += h.overflow();
-    }
-    let peak = counts.iter().copied().max().unwrap_or(0).max(1) as f64;
-    let (x0, _) = h.edges(0);
-    let (_, x1) = h.edges(counts.len() - 1);
+    let b = bin_values(&finite, bins)?;
+    let peak = b.counts.iter().copied().max().unwrap_or(0).max(1) as f64;
+    let (x0, _) = b.hist.edges(0);
+    let (_, x1) = b.hist.edges(b.counts.len() - 1);
     let unit = unit_of(column).unwrap_or("");
     let skipped = values.len() - finite.len();
     let caption = if skipped > 0 {
@@ -371,46 +827,37 @@ pub fn histogram_chart(
     } else {
         format!("{title} ({} samples)", finite.len())
     };
-
-    let mut svg = String::new();
-    {
-        let root = SVGBackend::with_string(&mut svg, SIZE_PX).into_drawing_area();
-        root.fill(&WHITE).map_err(draw_err)?;
-        let mut chart = ChartBuilder::on(&root)
-            .caption(caption, (FONT, 22))
-            .margin(16)
-            .x_label_area_size(48)
-            .y_label_area_size(72)
-            .build_cartesian_2d(x0..x1, 0.0..peak * 1.12)
-            .map_err(draw_err)?;
-        chart
-            .configure_mesh()
-            .x_desc(axis_label(column))
-            .y_desc("samples per bin")
-            .label_style((FONT, 14))
-            .axis_desc_style((FONT, 16))
-            .y_label_formatter(&|v| format!("{v:.0}"))
-            .draw()
-            .map_err(draw_err)?;
+    let axes = Axes::new(
+        Axis::linear(axis_label(column), x0, x1),
+        Axis::linear("samples per bin", 0.0, peak * 1.12).ticks(|v| format!("{v:.0}")),
+    )
+    .legend(SeriesLabelPosition::UpperRight);
+    Frame::new(caption).draw(axes, |chart, _| {
         let bar = colour(0);
         chart
             .draw_series(
-                counts
+                b.counts
                     .iter()
                     .enumerate()
                     .filter(|(_, c)| **c > 0)
                     .map(|(i, c)| {
-                        let (a, b) = h.edges(i);
-                        Rectangle::new([(a, 0.0), (b, *c as f64)], bar.mix(0.75).filled())
+                        let (lo, hi) = b.hist.edges(i);
+                        Rectangle::new([(lo, 0.0), (hi, *c as f64)], bar.mix(0.75).filled())
                     }),
             )
             .map_err(draw_err)?
-            .label(format!("{} bins of {} {unit}", counts.len(), short(width)))
+            .label(format!(
+                "{} bins of {} {unit}",
+                b.counts.len(),
+                short(b.width)
+            ))
             .legend(move |(x, y)| {
                 Rectangle::new([(x, y - 5), (x + 16, y + 5)], bar.mix(0.75).filled())
             });
         for (p, name, c) in [(1.0, "1st", 5), (50.0, "50th", 1), (99.0, "99th", 5)] {
-            let Some(v) = h.percentile(p) else { continue };
+            let Some(v) = b.hist.percentile(p) else {
+                continue;
+            };
             let col = colour(c);
             chart
                 .draw_series(std::iter::once(PathElement::new(
@@ -423,35 +870,16 @@ pub fn histogram_chart(
                     PathElement::new(vec![(x, y), (x + 24, y)], col.stroke_width(2))
                 });
         }
-        chart
-            .configure_series_labels()
-            .position(SeriesLabelPosition::UpperRight)
-            .label_font((FONT, 14))
-            .background_style(WHITE.mix(0.85))
-            .border_style(BLACK)
-            .draw()
-            .map_err(draw_err)?;
-        root.present().map_err(draw_err)?;
-    }
-    Ok(svg)
-}
-
-/// An axis tick: four significant figures without trailing zeros.
-fn tick(v: f64) -> String {
-    let s = short(v);
-    if s.contains('.') && !s.contains('e') {
-        s.trim_end_matches('0').trim_end_matches('.').to_string()
-    } else {
-        s
-    }
-}
-
-/// Four significant figures, plain or with an exponent for tiny or huge values.
-fn short(v: f64) -> String {
-    super::sig(v, 4)
+        Ok(())
+    })
 }
 
 // -------------------------------------------------------------------- PSD
+
+/// `Gd(n) = gd_n0·(n/n0)^−2`, the ISO 8608 straight line of waviness 2.
+fn class_line(gd_n0: f64, n: f64) -> f64 {
+    gd_n0 * (n / N0_CYCLE_M).powi(-2)
+}
 
 /// The profile's displacement PSD `Gd(n)` (Welch, as `roughride classify`
 /// computes it) on log–log axes, over the ISO 8608 classes: boundaries
@@ -475,139 +903,132 @@ pub fn psd_chart(profile: &Profile, title: &str) -> Result<String, ExportError> 
     let fit = classify(profile).ok();
     let x0 = points[0].0;
     let x1 = points[points.len() - 1].0;
-    let line = |gd_n0: f64, n: f64| gd_n0 * (n / N0_CYCLE_M).powi(-2);
     // Vertical range: the data, clipped from below at a hundredth of the
     // class A mean at the highest frequency (a generated road has no power
     // above its band edge, which would otherwise squash the picture).
-    let floor = line(RoadClass::A.gd_n0_m3(), x1) / 100.0;
+    let y0 = class_line(RoadClass::A.gd_n0_m3(), x1) / 100.0;
     let data_max = points.iter().map(|p| p.1).fold(0.0, f64::max);
-    let y0 = floor;
-    let y1 = (data_max * 4.0).max(floor * 1e4);
+    let y1 = (data_max * 4.0).max(y0 * 1e4);
     // Bins below the floor (outside a generated road's band) are left out.
     let drawn: Vec<(f64, f64)> = points.iter().copied().filter(|p| p.1 >= y0).collect();
-
-    let mut svg = String::new();
-    {
-        let root = SVGBackend::with_string(&mut svg, SIZE_PX).into_drawing_area();
-        root.fill(&WHITE).map_err(draw_err)?;
-        let mut chart = ChartBuilder::on(&root)
-            .caption(title, (FONT, 22))
-            .margin(16)
-            .x_label_area_size(48)
-            .y_label_area_size(80)
-            .build_cartesian_2d((x0..x1).log_scale(), (y0..y1).log_scale())
-            .map_err(draw_err)?;
-        chart
-            .configure_mesh()
-            .x_desc("spatial frequency n (cycle/m)")
-            .y_desc("displacement PSD Gd(n) (m³)")
-            .label_style((FONT, 14))
-            .axis_desc_style((FONT, 16))
-            .x_label_formatter(&|v| tick(*v))
-            .y_label_formatter(&|v| format!("{v:.0e}"))
-            .draw()
-            .map_err(draw_err)?;
-        // Class bands between boundary lines, clipped to the picture: the
-        // region between two curves, cut at y0 and y1, is the region between
-        // the clamped curves; 65 log-spaced points per curve follow it.
-        let ns: Vec<f64> = (0..=64)
-            .map(|i| x0 * (x1 / x0).powf(i as f64 / 64.0))
-            .collect();
-        let clamp = |g: f64| g.clamp(y0, y1);
-        for class in RoadClass::ALL {
-            let (lower, upper) = class.bounds_m3();
-            let lower = if lower > 0.0 { lower } else { y0 / 1e6 };
-            let upper = if upper.is_finite() { upper } else { y1 * 1e6 };
-            if class.index() % 2 == 0 {
-                let poly: Vec<(f64, f64)> = ns
-                    .iter()
-                    .map(|&n| (n, clamp(line(lower, n))))
-                    .chain(ns.iter().rev().map(|&n| (n, clamp(line(upper, n)))))
-                    .collect();
-                chart
-                    .draw_series(std::iter::once(Polygon::new(
-                        poly,
-                        RGBColor(120, 120, 120).mix(0.12).filled(),
-                    )))
-                    .map_err(draw_err)?;
-            }
-            // The boundary line, only where it is inside the picture:
-            // Gd = b·(n/n0)^−2 lies between y0 and y1 for n between
-            // n0·√(b/y1) and n0·√(b/y0).
-            let a = x0.max(N0_CYCLE_M * (lower / y1).sqrt());
-            let b = x1.min(N0_CYCLE_M * (lower / y0).sqrt());
-            if class != RoadClass::A && b > a {
-                chart
-                    .draw_series(LineSeries::new(
-                        [(a, line(lower, a)), (b, line(lower, b))],
-                        RGBColor(150, 150, 150).stroke_width(1),
-                    ))
-                    .map_err(draw_err)?;
-            }
-            // The letter on the class mean line, placed where that line is
-            // inside the picture, preferably towards the right.
-            let mean = class.gd_n0_m3();
-            let candidates = [x1 / 1.8, x1 / 6.0, (x0 * x1).sqrt(), x0 * 3.0];
-            if let Some(n) = candidates.iter().copied().find(|&n| {
-                let g = line(mean, n);
-                g > y0 * 2.0 && g < y1 / 2.0
-            }) {
-                let style = TextStyle::from((FONT, 16).into_font())
-                    .color(&RGBColor(80, 80, 80))
-                    .pos(Pos::new(HPos::Center, VPos::Center));
-                chart
-                    .draw_series(std::iter::once(Text::new(
-                        class.to_string(),
-                        (n, line(mean, n)),
-                        style,
-                    )))
-                    .map_err(draw_err)?;
-            }
-        }
+    let legend = format!(
+        "Welch PSD ({} segments of {} m)",
+        spectrum.segments,
+        short(spectrum.segment_len as f64 * profile.spacing_m)
+    );
+    let axes = Axes::new(
+        Axis::log("spatial frequency n (cycle/m)", x0, x1),
+        Axis::log("displacement PSD Gd(n) (m³)", y0, y1).ticks(decade_tick),
+    )
+    .legend(SeriesLabelPosition::LowerLeft);
+    Frame::new(title).draw(axes, |chart, _| {
+        draw_class_bands(chart, (x0, x1), (y0, y1))?;
         let c = colour(0);
         chart
             .draw_series(LineSeries::new(drawn, c.stroke_width(2)))
             .map_err(draw_err)?
-            .label(format!(
-                "Welch PSD ({} segments of {} m)",
-                spectrum.segments,
-                short(spectrum.segment_len as f64 * profile.spacing_m)
-            ))
-            .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 24, y)], c.stroke_width(3)));
+            .label(legend)
+            .legend(legend_line(c));
         if let Some(f) = &fit {
-            let fc = colour(1);
-            let a = f.fit_min_cycle_m.max(x0);
-            let b = f.fit_max_cycle_m.min(x1);
-            if b > a {
-                chart
-                    .draw_series(DashedLineSeries::new(
-                        [(a, line(f.gd_n0, a)), (b, line(f.gd_n0, b))],
-                        8,
-                        5,
-                        fc.stroke_width(2),
-                    ))
-                    .map_err(draw_err)?
-                    .label(format!(
-                        "fit, w = 2: Gd(n0) = {} m³, class {}",
-                        short(f.gd_n0),
-                        f.class
-                    ))
-                    .legend(move |(x, y)| {
-                        PathElement::new(vec![(x, y), (x + 24, y)], fc.stroke_width(2))
-                    });
-            }
+            draw_class_fit(chart, f, (x0, x1))?;
         }
-        chart
-            .configure_series_labels()
-            .position(SeriesLabelPosition::LowerLeft)
-            .label_font((FONT, 14))
-            .background_style(WHITE.mix(0.85))
-            .border_style(BLACK)
-            .draw()
-            .map_err(draw_err)?;
-        root.present().map_err(draw_err)?;
+        Ok(())
+    })
+}
+
+/// ISO 8608 class bands between boundary lines, alternate ones shaded, each
+/// lettered on its mean line, all clipped to the picture.
+fn draw_class_bands(
+    chart: &mut Chart<'_, '_>,
+    (x0, x1): (f64, f64),
+    (y0, y1): (f64, f64),
+) -> Result<(), ExportError> {
+    // The region between two curves, cut at y0 and y1, is the region
+    // between the clamped curves; 65 log-spaced points per curve follow it.
+    let ns: Vec<f64> = (0..=64)
+        .map(|i| x0 * (x1 / x0).powf(i as f64 / 64.0))
+        .collect();
+    let clamp = |g: f64| g.clamp(y0, y1);
+    for class in RoadClass::ALL {
+        let (lower, upper) = class.bounds_m3();
+        let lower = if lower > 0.0 { lower } else { y0 / 1e6 };
+        let upper = if upper.is_finite() { upper } else { y1 * 1e6 };
+        if class.index() % 2 == 0 {
+            let poly: Vec<(f64, f64)> = ns
+                .iter()
+                .map(|&n| (n, clamp(class_line(lower, n))))
+                .chain(ns.iter().rev().map(|&n| (n, clamp(class_line(upper, n)))))
+                .collect();
+            chart
+                .draw_series(std::iter::once(Polygon::new(
+                    poly,
+                    RGBColor(120, 120, 120).mix(0.12).filled(),
+                )))
+                .map_err(draw_err)?;
+        }
+        // The boundary line, only where it is inside the picture: Gd =
+        // b·(n/n0)^−2 lies between y0 and y1 for n between n0·√(b/y1) and
+        // n0·√(b/y0).
+        let a = x0.max(N0_CYCLE_M * (lower / y1).sqrt());
+        let b = x1.min(N0_CYCLE_M * (lower / y0).sqrt());
+        if class != RoadClass::A && b > a {
+            chart
+                .draw_series(LineSeries::new(
+                    [(a, class_line(lower, a)), (b, class_line(lower, b))],
+                    RGBColor(150, 150, 150).stroke_width(1),
+                ))
+                .map_err(draw_err)?;
+        }
+        // The letter on the class mean line, placed where that line is
+        // inside the picture, preferably towards the right.
+        let mean = class.gd_n0_m3();
+        let candidates = [x1 / 1.8, x1 / 6.0, (x0 * x1).sqrt(), x0 * 3.0];
+        if let Some(n) = candidates.iter().copied().find(|&n| {
+            let g = class_line(mean, n);
+            g > y0 * 2.0 && g < y1 / 2.0
+        }) {
+            let style = TextStyle::from((FONT, 16).into_font())
+                .color(&RGBColor(80, 80, 80))
+                .pos(Pos::new(HPos::Center, VPos::Center));
+            chart
+                .draw_series(std::iter::once(Text::new(
+                    class.to_string(),
+                    (n, class_line(mean, n)),
+                    style,
+                )))
+                .map_err(draw_err)?;
+        }
     }
-    Ok(svg)
+    Ok(())
+}
+
+/// The class fit of `classify` (waviness 2) as a dashed line over its band.
+fn draw_class_fit(
+    chart: &mut Chart<'_, '_>,
+    f: &crate::road::classify::Classification,
+    (x0, x1): (f64, f64),
+) -> Result<(), ExportError> {
+    let fc = colour(1);
+    let a = f.fit_min_cycle_m.max(x0);
+    let b = f.fit_max_cycle_m.min(x1);
+    if b <= a {
+        return Ok(());
+    }
+    chart
+        .draw_series(DashedLineSeries::new(
+            [(a, class_line(f.gd_n0, a)), (b, class_line(f.gd_n0, b))],
+            8,
+            5,
+            fc.stroke_width(2),
+        ))
+        .map_err(draw_err)?
+        .label(format!(
+            "fit, w = 2: Gd(n0) = {} m³, class {}",
+            short(f.gd_n0),
+            f.class
+        ))
+        .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 24, y)], fc.stroke_width(2)));
+    Ok(())
 }
 
 // ---------------------------------------------------------------- history
@@ -659,6 +1080,29 @@ pub fn decimate_min_max(t: &[f64], y: &[f64], max_points: usize) -> Vec<(f64, f6
     out
 }
 
+/// The finite range of the series' values, widened when it has no height,
+/// padded by 6 % each side.
+fn value_range(series: &[&TimeSeries]) -> Result<(f64, f64), ExportError> {
+    let finite = series
+        .iter()
+        .flat_map(|s| &s.values)
+        .copied()
+        .filter(|v| v.is_finite());
+    let (mut y0, mut y1) = finite.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| {
+        (a.min(v), b.max(v))
+    });
+    if !(y0.is_finite() && y1.is_finite()) {
+        return Err(no_data("no finite value in the time window"));
+    }
+    if y1 <= y0 {
+        let d = y0.abs().max(1e-12) * 0.5;
+        y0 -= d;
+        y1 += d;
+    }
+    let pad = (y1 - y0) * 0.06;
+    Ok((y0 - pad, y1 + pad))
+}
+
 /// The series against time, one line each, on one pair of axes. The
 /// vertical axis names the shared unit, or says "value" when the columns'
 /// units differ. Long windows are decimated per series
@@ -677,23 +1121,8 @@ pub fn history_chart(
     if t1.partial_cmp(&t0) != Some(std::cmp::Ordering::Greater) {
         return Err(no_data("the time window has no length"));
     }
-    let finite = series
-        .iter()
-        .flat_map(|s| &s.values)
-        .copied()
-        .filter(|v| v.is_finite());
-    let (mut y0, mut y1) = finite.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| {
-        (a.min(v), b.max(v))
-    });
-    if !(y0.is_finite() && y1.is_finite()) {
-        return Err(no_data("no finite value in the time window"));
-    }
-    if y1 <= y0 {
-        let d = y0.abs().max(1e-12) * 0.5;
-        y0 -= d;
-        y1 += d;
-    }
-    let pad = (y1 - y0) * 0.06;
+    let all: Vec<&TimeSeries> = series.iter().collect();
+    let (y0, y1) = value_range(&all)?;
     let units: Vec<Option<&str>> = series.iter().map(|s| unit_of(&s.column)).collect();
     let y_desc = match units[0] {
         Some(u) if units.iter().all(|x| *x == Some(u)) => {
@@ -705,26 +1134,12 @@ pub fn history_chart(
         }
         _ => "value (units in the legend)".to_string(),
     };
-
-    let mut svg = String::new();
-    {
-        let root = SVGBackend::with_string(&mut svg, SIZE_PX).into_drawing_area();
-        root.fill(&WHITE).map_err(draw_err)?;
-        let mut chart = ChartBuilder::on(&root)
-            .caption(title, (FONT, 22))
-            .margin(16)
-            .x_label_area_size(48)
-            .y_label_area_size(80)
-            .build_cartesian_2d(t0..t1, (y0 - pad)..(y1 + pad))
-            .map_err(draw_err)?;
-        chart
-            .configure_mesh()
-            .x_desc("time (s)")
-            .y_desc(y_desc)
-            .label_style((FONT, 14))
-            .axis_desc_style((FONT, 16))
-            .draw()
-            .map_err(draw_err)?;
+    let axes = Axes::new(
+        Axis::linear("time (s)", t0, t1),
+        Axis::linear(y_desc, y0, y1),
+    )
+    .legend(SeriesLabelPosition::UpperRight);
+    Frame::new(title).draw(axes, |chart, _| {
         for (i, s) in series.iter().enumerate() {
             let c = colour(i);
             let pts: Vec<(f64, f64)> = decimate_min_max(time_s, &s.values, MAX_HISTORY_POINTS)
@@ -735,26 +1150,96 @@ pub fn history_chart(
                 .draw_series(LineSeries::new(pts, c.stroke_width(1)))
                 .map_err(draw_err)?
                 .label(axis_label(&s.column))
-                .legend(move |(x, y)| {
-                    PathElement::new(vec![(x, y), (x + 24, y)], c.stroke_width(3))
-                });
+                .legend(legend_line(c));
         }
-        chart
-            .configure_series_labels()
-            .position(SeriesLabelPosition::UpperRight)
-            .label_font((FONT, 14))
-            .background_style(WHITE.mix(0.85))
-            .border_style(BLACK)
-            .draw()
-            .map_err(draw_err)?;
-        root.present().map_err(draw_err)?;
-    }
-    Ok(svg)
+        Ok(())
+    })
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// Every `<text>` of an SVG, in document order (roxmltree is a
+    /// dev-dependency, so a plain scan is used here).
+    fn texts(svg: &str) -> Vec<String> {
+        svg.split("<text")
+            .skip(1)
+            .filter_map(|t| {
+                let body = &t[t.find('>')? + 1..];
+                Some(body[..body.find("</text>")?].trim().to_string())
+            })
+            .collect()
+    }
+
+    #[test]
+    fn a_log_axis_puts_each_decade_the_same_distance_apart() {
+        // log10 mapping: 1, 10, 100 are evenly spaced (definition of a log axis).
+        let s = Scale::Log { lo: 1.0, hi: 100.0 };
+        let (a, b, c) = (
+            s.map(&1.0, (0, 200)),
+            s.map(&10.0, (0, 200)),
+            s.map(&100.0, (0, 200)),
+        );
+        assert_eq!((a, b, c), (0, 100, 200));
+        let bold = s.key_points(plotters::coord::ranged1d::BoldPoints(10));
+        assert_eq!(bold, vec![1.0, 10.0, 100.0]);
+        // Less than two decades: 1-2-5 steps (common practice for log scales).
+        let narrow =
+            Scale::Log { lo: 0.3, hi: 4.0 }.key_points(plotters::coord::ranged1d::BoldPoints(10));
+        assert_eq!(narrow, vec![0.5, 1.0, 2.0]);
+        assert!(Axis::log("x", 0.0, 1.0).check().is_err());
+        assert!(Axis::linear("x", 1.0, 1.0).check().is_err());
+    }
+
+    #[test]
+    fn the_frame_draws_title_axis_labels_footnote_and_every_panel() {
+        let panels = [
+            Axes::new(
+                Axis::linear("t (s)", 0.0, 1.0),
+                Axis::linear("a (m/s²)", -1.0, 1.0),
+            ),
+            Axes::new(
+                Axis::linear("t (s)", 0.0, 1.0),
+                Axis::log("b (m)", 1e-3, 1.0),
+            )
+            .legend(SeriesLabelPosition::UpperRight),
+        ];
+        let mut seen = Vec::new();
+        let svg = Frame::new("a title")
+            .footnote(&"word ".repeat(60))
+            .draw_stacked(&panels, |i, chart, _| {
+                seen.push(i);
+                chart
+                    .draw_series(LineSeries::new([(0.0, 0.01), (1.0, 0.5)], colour(i)))
+                    .map_err(draw_err)?
+                    .label(format!("series {i}"))
+                    .legend(legend_line(colour(i)));
+                Ok(())
+            })
+            .unwrap();
+        assert_eq!(seen, [0, 1]);
+        let t = texts(&svg);
+        assert!(t.iter().any(|x| x == "a title"));
+        assert!(t.iter().any(|x| x == "a (m/s²)") && t.iter().any(|x| x == "b (m)"));
+        // The shared time label only under the lowest panel.
+        assert_eq!(t.iter().filter(|x| *x == "t (s)").count(), 1);
+        // The footnote wrapped into lines of at most FOOTNOTE_CHARS.
+        let foot: Vec<&String> = t.iter().filter(|x| x.starts_with("word")).collect();
+        assert_eq!(foot.len(), 3, "{foot:?}");
+        assert!(foot.iter().all(|l| l.len() <= FOOTNOTE_CHARS));
+        // The legend of the second panel only: the first has none.
+        assert!(t.iter().any(|x| x == "series 1") && !t.iter().any(|x| x == "series 0"));
+    }
+
+    #[test]
+    fn wrapping_keeps_every_word_in_order() {
+        let text = "These are estimates from a model, not measurements.";
+        let lines = wrap(text, 20);
+        assert!(lines.iter().all(|l| l.chars().count() <= 20), "{lines:?}");
+        assert_eq!(lines.join(" "), text);
+        assert_eq!(wrap("", 10), Vec::<String>::new());
+    }
 
     #[test]
     fn units_come_from_the_column_suffix() {
