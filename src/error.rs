@@ -38,6 +38,33 @@ pub enum Error {
     },
 }
 
+/// Exit status for an input file that could not be read: 2 when the path
+/// itself is the problem (missing, a directory, not text), 1 for trouble of
+/// the system (permissions, a failing disk).
+pub fn read_failure_status(e: &std::io::Error) -> u8 {
+    use std::io::ErrorKind::{InvalidData, IsADirectory, NotADirectory, NotFound};
+    match e.kind() {
+        NotFound | InvalidData | IsADirectory | NotADirectory => 2,
+        _ => 1,
+    }
+}
+
+/// A CSV reader's complaint in words (never the library's debug text).
+pub(crate) fn csv_message(kind: &csv::ErrorKind) -> String {
+    match kind {
+        csv::ErrorKind::Utf8 { err, .. } => format!(
+            "field {} is not UTF-8 text (invalid byte after {} valid bytes); save the file as UTF-8",
+            err.field() + 1,
+            err.valid_up_to()
+        ),
+        csv::ErrorKind::UnequalLengths {
+            expected_len, len, ..
+        } => format!("{len} fields where the header has {expected_len}"),
+        csv::ErrorKind::Io(e) => format!("cannot read: {e}"),
+        _ => "malformed CSV".to_string(),
+    }
+}
+
 impl Error {
     /// Exit status for the command line: 2 for bad input, 1 otherwise.
     pub fn exit_status(&self) -> u8 {
@@ -45,7 +72,7 @@ impl Error {
             Error::Vehicle(e) => e.exit_status(),
             Error::Profile(e) => e.exit_status(),
             Error::Solve(e) => e.exit_status(),
-            Error::Export(_) => 1,
+            Error::Export(e) => e.exit_status(),
             Error::Comfort(e) => e.exit_status(),
             Error::Usage(_) => 2,
             Error::CasesFailed { .. } => 1,

@@ -25,7 +25,10 @@ fn main() -> ExitCode {
     match cli::run(args) {
         Ok(()) => ExitCode::SUCCESS,
         Err(e) => {
-            eprintln!("roughride: error: {e}");
+            // Not eprintln!: a stderr that cannot be written must not turn
+            // the error into a panic (exit 101).
+            use std::io::Write as _;
+            let _ = writeln!(std::io::stderr(), "roughride: error: {e}");
             ExitCode::from(e.exit_status())
         }
     }

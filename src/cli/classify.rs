@@ -51,6 +51,10 @@ struct Output<'a> {
 
 /// Reads, classifies and prints.
 pub fn run(args: Args) -> Result<(), roughride::Error> {
+    report::FilePlan::new()
+        .input("FILE", &args.file)
+        .output("-o", args.output.as_deref())
+        .check()?;
     let (profile, warnings) = road::read_profile_csv(&args.file)?;
     for w in &warnings {
         eprintln!("roughride: warning: {w}");
@@ -91,23 +95,24 @@ pub fn run(args: Args) -> Result<(), roughride::Error> {
             classification: &c,
             segments: segments.as_deref(),
         };
-        print!("{}", report::json_line(&out, "classification")?);
+        report::print_stdout(&report::json_line(&out, "classification")?)?;
         return Ok(());
     }
-    print!("{}", summary_table(&args, &c).render());
-    println!();
-    print!("{}", bands_table(&c).render());
+    let mut text = summary_table(&args, &c).render();
+    text.push('\n');
+    text.push_str(&bands_table(&c).render());
     if let Some(segs) = segments.as_deref() {
-        println!();
+        text.push('\n');
         match args.output.as_deref() {
-            Some(path) => println!(
-                "IRI of {} segments written to {}",
+            Some(path) => text.push_str(&format!(
+                "IRI of {} segments written to {}\n",
                 segs.len(),
                 path.display()
-            ),
-            None => print!("{}", segments_table(segs).render()),
+            )),
+            None => text.push_str(&segments_table(segs).render()),
         }
     }
+    report::print_stdout(&text)?;
     Ok(())
 }
 

@@ -87,12 +87,13 @@ pub fn run(args: Args) -> Result<(), roughride::Error> {
             guidance: &g,
             caution: comfort::HEALTH_CAUTION,
         };
-        print!("{}", report::json_line(&out, "comfort evaluation")?);
+        report::print_stdout(&report::json_line(&out, "comfort evaluation")?)?;
         return Ok(());
     }
-    print!("{}", measures_table(&args, rec.sample_rate_hz, &m).render());
-    println!();
-    print!("{}", guidance_table(&g).render());
+    let mut text = measures_table(&args, rec.sample_rate_hz, &m).render();
+    text.push('\n');
+    text.push_str(&guidance_table(&g).render());
+    report::print_stdout(&text)?;
     Ok(())
 }
 

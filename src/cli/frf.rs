@@ -171,6 +171,10 @@ fn channels_json(r: &FrequencyResponse, per: &str) -> Vec<ChannelJson> {
 
 /// Computes the responses and writes them.
 pub fn run(args: Args) -> Result<(), roughride::Error> {
+    report::FilePlan::new()
+        .input("--vehicle", &args.vehicle)
+        .output("-o", args.output.as_deref())
+        .check()?;
     let v = read_vehicle(&args.vehicle)?;
     let freqs = &args.freqs.0;
     let road = response::road_frf(&v, args.speed, freqs)?;
@@ -214,13 +218,10 @@ pub fn run(args: Args) -> Result<(), roughride::Error> {
             }),
             conventions: CONVENTIONS,
         };
-        print!("{}", report::json_line(&out, "frequency response")?);
+        report::print_stdout(&report::json_line(&out, "frequency response")?)?;
         return Ok(());
     }
-    print!(
-        "{}",
-        peaks_table(&args, &road, &weighted, force.as_ref()).render()
-    );
+    report::print_stdout(&peaks_table(&args, &road, &weighted, force.as_ref()).render())?;
     Ok(())
 }
 

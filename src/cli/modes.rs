@@ -40,14 +40,13 @@ pub fn run(args: Args) -> Result<(), roughride::Error> {
             vehicle_file: args.vehicle.display().to_string(),
             analysis: &a,
         };
-        print!("{}", report::json_line(&out, "modes")?);
+        report::print_stdout(&report::json_line(&out, "modes")?)?;
         return Ok(());
     }
-    print!("{}", modes_table(&a).render());
-    println!();
-    print!("{}", shapes_table(&a).render());
-    println!();
-    print!("{}", ride_table(&a).render());
+    let text = [modes_table(&a), shapes_table(&a), ride_table(&a)]
+        .map(|t| t.render())
+        .join("\n");
+    report::print_stdout(&text)?;
     Ok(())
 }
 

@@ -8,7 +8,7 @@ use clap::{Args as ClapArgs, Subcommand};
 
 use roughride::Error;
 use roughride::report::plot::{self, ComfortPoint, TimeSeries};
-use roughride::report::write_to;
+use roughride::report::{FilePlan, write_to};
 use roughride::road::read_profile_csv;
 
 /// Draw an SVG picture: comfort against speed from a sweep, a histogram or a
@@ -107,6 +107,16 @@ pub struct HistoryArgs {
 }
 
 pub fn run(a: Args) -> Result<(), Error> {
+    let (file, out) = match &a.picture {
+        Picture::Comfort(c) => (&c.file, &c.out),
+        Picture::Histogram(h) => (&h.file, &h.out),
+        Picture::Psd(p) => (&p.file, &p.out),
+        Picture::History(h) => (&h.file, &h.out),
+    };
+    FilePlan::new()
+        .input("FILE", file)
+        .output("-o", out.output.as_deref())
+        .check()?;
     let (svg, out) = match a.picture {
         Picture::Comfort(c) => {
             let points = read_sweep(&c.file, &c.column)?;

@@ -63,6 +63,9 @@ fn parse_obstacle(s: &str) -> Result<Obstacle, String> {
 
 /// Builds the road, lays the obstacles and writes the CSV.
 pub fn run(args: Args) -> Result<(), roughride::Error> {
+    report::FilePlan::new()
+        .output("-o", args.output.as_deref())
+        .check()?;
     let spec = (!args.flat).then(|| {
         let class = args.class.unwrap_or(RoadClass::C);
         let mut spec = RoadSpec::from_class(class, args.length, args.spacing, args.seed);
@@ -103,10 +106,7 @@ pub fn run(args: Args) -> Result<(), roughride::Error> {
     })
     .map_err(roughride::Error::from)?;
     if let Some(p) = path {
-        print!(
-            "{}",
-            summary(&profile, spec.as_ref(), &args.obstacle, p).render()
-        );
+        report::print_stdout(&summary(&profile, spec.as_ref(), &args.obstacle, p).render())?;
     }
     Ok(())
 }

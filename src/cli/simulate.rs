@@ -11,7 +11,9 @@ use roughride::Error;
 use roughride::batch::values::parse_speed_m_s;
 use roughride::comfort::HEALTH_CAUTION;
 use roughride::pipeline::{self, RunOptions, RunSummary};
-use roughride::report::{AtomicFile, Table, io_error, json_line, sig, write_atomic};
+use roughride::report::{
+    AtomicFile, FilePlan, Table, io_error, json_line, print_stdout, sig, write_atomic,
+};
 use roughride::road::iso8608::{RoadClass, RoadSpec, generate};
 use roughride::road::obstacle::flat;
 use roughride::road::{Profile, read_profile_csv};
@@ -214,6 +216,15 @@ fn check_road(vehicle: &Vehicle, profile: &Profile, what: &RoadInfo) -> Result<(
 }
 
 pub fn run(a: Args) -> Result<(), Error> {
+    let mut files = FilePlan::new()
+        .input("--vehicle", &a.vehicle)
+        .output("--history", a.history.as_deref())
+        .output("--travel-histogram", a.travel_histogram.as_deref())
+        .output("--rainflow", a.rainflow.as_deref());
+    if let Some(p) = &a.profile {
+        files = files.input("--profile", p);
+    }
+    files.check()?;
     let vehicle = read_vehicle(&a.vehicle)?;
     let (profile, road, spec, warnings) = load_road(&a)?;
     for w in &warnings {
@@ -293,9 +304,9 @@ pub fn run(a: Args) -> Result<(), Error> {
         caution: HEALTH_CAUTION,
     };
     if a.json {
-        print!("{}", json_line(&out, "simulation summary")?);
+        print_stdout(&json_line(&out, "simulation summary")?)?;
     } else {
-        print!("{}", render(&out));
+        print_stdout(&render(&out))?;
     }
     Ok(())
 }

@@ -16,7 +16,7 @@ use roughride::batch::{
 };
 use roughride::comfort::HEALTH_CAUTION;
 use roughride::pipeline::RunOptions;
-use roughride::report::write_to;
+use roughride::report::{FilePlan, write_to};
 use roughride::road::iso8608::RoadClass;
 use roughride::road::read_profile_csv;
 use roughride::vehicle::read_vehicle;
@@ -144,6 +144,11 @@ fn build_grid(a: &Args) -> Result<Grid, Error> {
 }
 
 pub fn run(a: Args) -> Result<(), Error> {
+    FilePlan::new()
+        .inputs("--vehicle", &a.vehicle)
+        .inputs("--profile", &a.profile)
+        .output("-o", a.output.as_deref())
+        .check()?;
     let grid = build_grid(&a)?;
     let jobs = match a.jobs {
         Some(0) => return Err(Error::Usage("--jobs must be at least 1".into())),
@@ -171,27 +176,43 @@ pub fn run(a: Args) -> Result<(), Error> {
     };
     let mut report = None;
     // The file is committed when every case has been tried, failed cases
-    // included (their rows are missing and listed below); it is discarded
-    // when the sweep itself stops (write error, interruption).
-    write_to(a.output.as_deref(), |out| {
-        report = Some(write_sweep(&grid, a.shard, &runner, spec, out, |_, _| {
-            progress.inc(1)
-        })?);
-        Ok::<(), Error>(())
-    })?;
+    // included (their rows are missing and listed below). It is discarded,
+    // leaving any previous file as it was, when the sweep itself stops
+    // (write error, interruption) or when no case completed.
+    let written = write_to(a.output.as_deref(), |out| {
+        let r = write_sweep(&grid, a.shard, &runner, spec, out, |_, _| progress.inc(1))?;
+        let nothing = r.rows == 0 && !r.failures.is_empty();
+        let failed = cases_failed(&r);
+        report = Some(r);
+        match failed {
+            Some(e) if nothing => Err(e),
+            _ => Ok::<(), Error>(()),
+        }
+    });
     progress.finish_and_clear();
-    let Some(report) = report else { return Ok(()) };
+    let Some(report) = report else { return written };
     eprintln!("roughride: note: {HEALTH_CAUTION}");
-    if report.failures.is_empty() {
-        return Ok(());
-    }
     for f in &report.failures {
         eprintln!("roughride: failed: {}: {}", f.description, f.error);
     }
+    if report.rows == 0 && !report.failures.is_empty() {
+        if let Some(path) = &a.output {
+            eprintln!(
+                "roughride: note: no case completed, so {} was not written (a previous file is kept)",
+                path.display()
+            );
+        }
+    }
+    written?;
     // Exit status 1 for failed cases (interface.md: 1 for anything but bad input).
-    Err(Error::CasesFailed {
-        failed: report.failures.len(),
-        total: report.bounds.1 - report.bounds.0,
+    cases_failed(&report).map_or(Ok(()), Err)
+}
+
+/// The error for a sweep in which some cases failed, if any did.
+fn cases_failed(r: &roughride::batch::SweepReport) -> Option<Error> {
+    (!r.failures.is_empty()).then(|| Error::CasesFailed {
+        failed: r.failures.len(),
+        total: r.bounds.1 - r.bounds.0,
     })
 }
 

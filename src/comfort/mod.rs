@@ -52,7 +52,7 @@ impl ComfortError {
     /// Exit status for the command line: 2 for bad input, 1 for I/O trouble.
     pub fn exit_status(&self) -> u8 {
         match self {
-            ComfortError::Read { source, .. } if source.kind() != std::io::ErrorKind::NotFound => 1,
+            ComfortError::Read { source, .. } => crate::error::read_failure_status(source),
             _ => 2,
         }
     }

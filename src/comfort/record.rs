@@ -166,7 +166,7 @@ fn csv_error(path: PathBuf, line: u64, e: csv::Error) -> ComfortError {
         kind => ComfortError::BadRow {
             path,
             line,
-            message: format!("malformed CSV: {kind:?}"),
+            message: crate::error::csv_message(&kind),
         },
     }
 }

@@ -261,7 +261,7 @@ fn csv_error(path: PathBuf, line: u64, e: csv::Error) -> ProfileError {
         kind => ProfileError::BadRow {
             path,
             line,
-            message: format!("malformed CSV: {kind:?}"),
+            message: crate::error::csv_message(&kind),
         },
     }
 }

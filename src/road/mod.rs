@@ -197,12 +197,7 @@ impl ProfileError {
     /// Exit status for the command line: 2 for bad input, 1 for I/O trouble.
     pub fn exit_status(&self) -> u8 {
         match self {
-            ProfileError::Read { source, .. }
-                if source.kind() != std::io::ErrorKind::NotFound
-                    && source.kind() != std::io::ErrorKind::InvalidData =>
-            {
-                1
-            }
+            ProfileError::Read { source, .. } => crate::error::read_failure_status(source),
             _ => 2,
         }
     }

@@ -45,7 +45,7 @@ impl VehicleError {
     /// Exit status for the command line: 2 for bad input, 1 for I/O trouble.
     pub fn exit_status(&self) -> u8 {
         match self {
-            VehicleError::Read { source, .. } if source.kind() != std::io::ErrorKind::NotFound => 1,
+            VehicleError::Read { source, .. } => crate::error::read_failure_status(source),
             _ => 2,
         }
     }
@@ -92,11 +92,36 @@ struct RawSeat {
     name: Option<String>,
 }
 
+/// Largest vehicle file read, bytes: a real one is well under 10 kB, and
+/// the cap keeps `--vehicle /dev/zero` from reading forever.
+pub const MAX_VEHICLE_FILE_BYTES: u64 = 1 << 20;
+
 /// Reads and validates a vehicle file.
 pub fn read_vehicle(path: &Path) -> Result<Vehicle, VehicleError> {
-    let text = std::fs::read_to_string(path).map_err(|source| VehicleError::Read {
+    use std::io::Read;
+    let read_error = |source| VehicleError::Read {
         path: path.to_path_buf(),
         source,
+    };
+    let mut bytes = Vec::new();
+    std::fs::File::open(path)
+        .and_then(|f| f.take(MAX_VEHICLE_FILE_BYTES + 1).read_to_end(&mut bytes))
+        .map_err(read_error)?;
+    let syntax = |message: String| VehicleError::Syntax {
+        path: path.to_path_buf(),
+        message,
+    };
+    if bytes.len() as u64 > MAX_VEHICLE_FILE_BYTES {
+        return Err(syntax(format!(
+            "larger than {} KiB: not a vehicle file",
+            MAX_VEHICLE_FILE_BYTES >> 10
+        )));
+    }
+    let text = String::from_utf8(bytes).map_err(|e| {
+        syntax(format!(
+            "not a text file: the byte after the first {} is not UTF-8",
+            e.utf8_error().valid_up_to()
+        ))
     })?;
     parse_vehicle(&text, path)
 }
