@@ -212,9 +212,11 @@ fn profile_to_an_unwritable_place_fails_and_leaves_no_file() {
             "-o",
             target.to_str().unwrap(),
         ],
-        1,
+        // A missing directory is a wrong path the user gave: refused before
+        // the road is generated, as bad input.
+        2,
     );
-    assert!(e.contains("road.csv"), "{e}");
+    assert!(e.contains("road.csv") && e.contains("does not exist"), "{e}");
     assert!(!target.exists());
 }
 
