@@ -437,3 +437,38 @@ fn comfort_on_the_written_history_gives_the_seat_values_of_the_run() {
         assert!((a - b).abs() <= 1e-12 * a.abs(), "{key}: {a} vs {b}");
     }
 }
+
+#[test]
+fn the_exact_solver_counts_tyre_tension_under_its_name_and_the_former_alias() {
+    let run = |solver: &str| {
+        json_of(&[
+            "simulate",
+            "--vehicle",
+            demo(CAR).to_str().unwrap(),
+            "--profile",
+            demo(ROAD).to_str().unwrap(),
+            "--speed",
+            "72kmh",
+            "--solver",
+            solver,
+        ])
+    };
+    let exact = run("exact");
+    let tension = &exact["solver"]["tyre_tension_samples"];
+    // The former name stays for one release with the same counts.
+    assert_eq!(tension, &exact["solver"]["bonded_pull_samples"]);
+    // The physical model (adaptive, with lift-off) has the rear tyre off the
+    // ground on this road; the linear model then has that tyre in tension
+    // (its dynamic load below minus the static load), the front never.
+    let adaptive = run("adaptive");
+    let off = adaptive["axles"]["rear"]["time_off_ground_fraction"]
+        .as_f64()
+        .unwrap();
+    assert!(off > 0.0, "the rear lifts in the physical model");
+    assert!(tension[1].as_u64().unwrap() > 0, "{tension}");
+    assert_eq!(
+        adaptive["axles"]["front"]["time_off_ground_fraction"].as_f64(),
+        Some(0.0)
+    );
+    assert_eq!(tension[0].as_u64(), Some(0));
+}

@@ -12,7 +12,7 @@ use roughride::batch::values::parse_speed_m_s;
 use roughride::comfort::HEALTH_CAUTION;
 use roughride::pipeline::{self, RunOptions, RunSummary};
 use roughride::report::{
-    AtomicFile, FilePlan, Table, io_error, json_line, print_stdout, sig, write_atomic,
+    AtomicFile, FilePlan, Table, fmt_cycles, io_error, json_line, print_stdout, sig, write_atomic,
 };
 use roughride::road::iso8608::{RoadClass, RoadSpec, generate};
 use roughride::road::obstacle::flat;
@@ -291,7 +291,7 @@ pub fn run(a: Args) -> Result<(), Error> {
     {
         if pulls > 0 {
             eprintln!(
-                "roughride: warning: the exact solver keeps tyres bonded to the road; the {axle} tyre pulled on the road in {pulls} samples, where a real tyre would have lifted off (use --solver auto or adaptive for that)"
+                "roughride: warning: the exact solver keeps tyres bonded to the road; the {axle} tyre was in tension (pulling the wheel onto the road) in {pulls} samples, where a real tyre would have lifted off (use --solver auto or adaptive for that; JSON solver.tyre_tension_samples)"
             );
         }
     }
@@ -311,16 +311,36 @@ pub fn run(a: Args) -> Result<(), Error> {
     Ok(())
 }
 
+/// The human report: one table per section, in the order a reader wants them.
 fn render(o: &Output<'_>) -> String {
     let s = o.summary;
-    let road = match &o.road {
+    let mut out = render_heading(s, &o.road);
+    let mut tables = vec![
+        seats_table(s),
+        axles_table(s),
+        durability_table(s),
+        body_table(s),
+    ];
+    tables.extend(o.predicted.as_ref().map(|p| prediction_table(p, s)));
+    tables.extend(o.harmonic_force.as_ref().map(harmonic_table));
+    for t in &tables {
+        out.push_str(&t.render());
+        out.push('\n');
+    }
+    out.push_str(&guidance_table(s).render());
+    out
+}
+
+/// What ran over what: vehicle, speed, road, length, solver and samples.
+fn render_heading(s: &RunSummary, road: &RoadInfo) -> String {
+    let road = match road {
         RoadInfo::File { path, .. } => path.clone(),
         RoadInfo::Generated { class, seed, .. } => {
             format!("ISO 8608 class {class} road, seed {seed}")
         }
         RoadInfo::Flat { .. } => "a flat road".to_string(),
     };
-    let mut out = format!(
+    format!(
         "{} at {} m/s ({} km/h) over {}\n  {:.1} m in {} s, {} solver, {} samples at {} Hz\n\n",
         s.vehicle,
         sig(s.speed_m_s, 4),
@@ -334,7 +354,11 @@ fn render(o: &Output<'_>) -> String {
         },
         s.solver.samples,
         sig(s.solver.output_rate_hz, 4),
-    );
+    )
+}
+
+/// ISO 2631-1 measures per seat.
+fn seats_table(s: &RunSummary) -> Table {
     let weighting = s
         .seats
         .first()
@@ -364,8 +388,11 @@ fn render(o: &Output<'_>) -> String {
             sig(m.crest_factor, 3),
         ]);
     }
-    out.push_str(&seats.render());
-    out.push('\n');
+    seats
+}
+
+/// Travel and road contact per axle.
+fn axles_table(s: &RunSummary) -> Table {
     let mut axles = Table::new("Axles: dynamic travel (compression +) and road contact")
         .with_header([
             "axle",
@@ -387,8 +414,12 @@ fn render(o: &Output<'_>) -> String {
             sig(a.time_off_ground_fraction * 100.0, 3),
         ]);
     }
-    out.push_str(&axles.render());
-    out.push('\n');
+    axles
+}
+
+/// Travel percentiles, time past the stops, rainflow cycles and the
+/// damage-equivalent force ranges per axle.
+fn durability_table(s: &RunSummary) -> Table {
     let mut dur = Table::new("Durability: travel percentiles and rainflow (ASTM E1049-85)")
         .with_header([
             "axle",
@@ -415,7 +446,7 @@ fn render(o: &Output<'_>) -> String {
             p(99.0),
             pct(d.time_past_bump_fraction),
             pct(d.time_past_rebound_fraction),
-            sig(d.travel_cycles, 4),
+            fmt_cycles(d.travel_cycles),
         ]);
     }
     for e in &s.axles.front.durability.damage_equivalent {
@@ -433,8 +464,11 @@ fn render(o: &Output<'_>) -> String {
             rear.map_or("-".to_string(), |r| sig(r.force_range_n, 3))
         ));
     }
-    out.push_str(&dur.render());
-    out.push('\n');
+    dur
+}
+
+/// Body heave and pitch r.m.s.
+fn body_table(s: &RunSummary) -> Table {
     let mut body = Table::new("Body").with_header(["quantity", "rms"]);
     body.row([
         "heave acceleration m/s²".to_string(),
@@ -446,64 +480,69 @@ fn render(o: &Output<'_>) -> String {
     ]);
     body.row(["heave mm".to_string(), sig(s.body.heave_rms * 1e3, 3)]);
     body.row(["pitch mrad".to_string(), sig(s.body.pitch_rms * 1e3, 3)]);
-    out.push_str(&body.render());
-    out.push('\n');
-    if let Some(p) = &o.predicted {
-        let mut t = Table::new(format!(
-            "Spectral prediction (road PSD × |H|², {} to {} Hz) beside the time-domain run",
-            sig(p.band_hz[0], 3),
-            sig(p.band_hz[1], 3)
-        ))
-        .with_header(["quantity", "predicted", "simulated", "difference %"]);
-        let mut row = |name: String, pred: f64, sim: f64| {
-            let diff = if pred != 0.0 {
-                100.0 * (sim - pred) / pred
-            } else {
-                0.0
-            };
-            t.row([name, sig(pred, 3), sig(sim, 3), sig(diff, 2)]);
+    body
+}
+
+/// The spectral prediction beside the time-domain values.
+fn prediction_table(p: &PredictedRms, s: &RunSummary) -> Table {
+    let mut t = Table::new(format!(
+        "Spectral prediction (road PSD × |H|², {} to {} Hz) beside the time-domain run",
+        sig(p.band_hz[0], 3),
+        sig(p.band_hz[1], 3)
+    ))
+    .with_header(["quantity", "predicted", "simulated", "difference %"]);
+    let mut row = |name: String, pred: f64, sim: f64| {
+        let diff = if pred != 0.0 {
+            100.0 * (sim - pred) / pred
+        } else {
+            0.0
         };
-        for (ps, ss) in p.seats.iter().zip(&s.seats) {
-            row(format!("{} aw m/s²", ss.name), ps.aw, ss.measures.aw);
-        }
-        for (name, pa, sa) in [
-            ("front", &p.axles.front, &s.axles.front),
-            ("rear", &p.axles.rear, &s.axles.rear),
-        ] {
-            row(
-                format!("{name} travel rms mm"),
-                pa.travel_rms * 1e3,
-                sa.travel_rms * 1e3,
-            );
-            row(
-                format!("{name} tyre load rms N"),
-                pa.tyre_load_rms,
-                sa.tyre_load_rms,
-            );
-        }
-        t.note("a large difference means the run is too short for stable statistics, or a tyre left the road (the prediction is linear)");
-        out.push_str(&t.render());
-        out.push('\n');
+        t.row([name, sig(pred, 3), sig(sim, 3), sig(diff, 2)]);
+    };
+    for (ps, ss) in p.seats.iter().zip(&s.seats) {
+        row(format!("{} aw m/s²", ss.name), ps.aw, ss.measures.aw);
     }
-    if let Some(h) = &o.harmonic_force {
-        let mut t = Table::new(format!(
-            "Harmonic body force {} N at {} Hz, x = {} m: steady-state amplitudes (frequency domain)",
-            sig(h.amplitude_n, 3),
-            sig(h.frequency_hz, 3),
-            sig(h.x_m, 3)
-        ))
-        .with_header(["quantity", "amplitude"]);
-        t.row(["heave mm".to_string(), sig(h.heave_m * 1e3, 3)]);
-        t.row(["pitch mrad".to_string(), sig(h.pitch_rad * 1e3, 3)]);
-        for seat in &h.seats {
-            t.row([
-                format!("{} acceleration m/s²", seat.name),
-                sig(seat.accel_amplitude_m_s2, 3),
-            ]);
-        }
-        out.push_str(&t.render());
-        out.push('\n');
+    for (name, pa, sa) in [
+        ("front", &p.axles.front, &s.axles.front),
+        ("rear", &p.axles.rear, &s.axles.rear),
+    ] {
+        row(
+            format!("{name} travel rms mm"),
+            pa.travel_rms * 1e3,
+            sa.travel_rms * 1e3,
+        );
+        row(
+            format!("{name} tyre load rms N"),
+            pa.tyre_load_rms,
+            sa.tyre_load_rms,
+        );
     }
+    t.note("a large difference means the run is too short for stable statistics, or a tyre left the road (the prediction is linear)");
+    t
+}
+
+/// Steady-state amplitudes of the harmonic body force.
+fn harmonic_table(h: &HarmonicAmplitudes) -> Table {
+    let mut t = Table::new(format!(
+        "Harmonic body force {} N at {} Hz, x = {} m: steady-state amplitudes (frequency domain)",
+        sig(h.amplitude_n, 3),
+        sig(h.frequency_hz, 3),
+        sig(h.x_m, 3)
+    ))
+    .with_header(["quantity", "amplitude"]);
+    t.row(["heave mm".to_string(), sig(h.heave_m * 1e3, 3)]);
+    t.row(["pitch mrad".to_string(), sig(h.pitch_rad * 1e3, 3)]);
+    for seat in &h.seats {
+        t.row([
+            format!("{} acceleration m/s²", seat.name),
+            sig(seat.accel_amplitude_m_s2, 3),
+        ]);
+    }
+    t
+}
+
+/// Comfort reaction and health guidance per seat, with the caution.
+fn guidance_table(s: &RunSummary) -> Table {
     let exposure_h = s
         .seats
         .first()
@@ -530,6 +569,5 @@ fn render(o: &Output<'_>) -> String {
         ]);
     }
     guide.note(HEALTH_CAUTION);
-    out.push_str(&guide.render());
-    out
+    guide
 }

@@ -50,17 +50,46 @@ pub fn read_record_from(
     path: &Path,
     column: &str,
 ) -> Result<Record, ComfortError> {
-    let bad = |line: u64, message: String| ComfortError::BadRow {
-        path: path.to_path_buf(),
-        line,
-        message,
-    };
     let mut rdr = csv::ReaderBuilder::new()
         .has_headers(true)
         .trim(csv::Trim::All)
         .comment(Some(b'#'))
         .flexible(true)
         .from_reader(reader);
+    let (it, ia) = column_indices(&mut rdr, path, column)?;
+    let rows = read_rows(&mut rdr, path, (it, ia), column)?;
+    let n = rows.times.len();
+    if n < 2 {
+        return Err(ComfortError::Unusable(format!(
+            "{}: a record needs at least two data rows, found {n}",
+            path.display()
+        )));
+    }
+    check_uniform(&rows, path)?;
+    let times = &rows.times;
+    Ok(Record {
+        start_s: times[0],
+        // The mean step over the record: jitter averages out.
+        sample_rate_hz: (n - 1) as f64 / (times[n - 1] - times[0]),
+        accel_m_s2: rows.accel,
+    })
+}
+
+fn bad_row(path: &Path, line: u64, message: String) -> ComfortError {
+    ComfortError::BadRow {
+        path: path.to_path_buf(),
+        line,
+        message,
+    }
+}
+
+/// Positions of `time_s` and `column` in the header (a UTF-8 byte-order
+/// mark on the first name is ignored).
+fn column_indices<R: Read>(
+    rdr: &mut csv::Reader<R>,
+    path: &Path,
+    column: &str,
+) -> Result<(usize, usize), ComfortError> {
     let headers = rdr
         .headers()
         .map_err(|e| csv_error(path.to_path_buf(), 1, e))?
@@ -72,7 +101,8 @@ pub fn read_record_from(
         .collect();
     let find = |name: &str| {
         names.iter().position(|h| *h == name).ok_or_else(|| {
-            bad(
+            bad_row(
+                path,
                 header_line,
                 format!(
                     "no column `{name}` in the header (columns: {})",
@@ -81,11 +111,28 @@ pub fn read_record_from(
             )
         })
     };
-    let (it, ia) = (find("time_s")?, find(column)?);
+    Ok((find("time_s")?, find(column)?))
+}
 
-    let mut times: Vec<f64> = Vec::new();
-    let mut lines: Vec<u64> = Vec::new();
-    let mut accel: Vec<f64> = Vec::new();
+/// The data rows: times (strictly increasing), their file lines, and the
+/// accelerations.
+struct Rows {
+    times: Vec<f64>,
+    lines: Vec<u64>,
+    accel: Vec<f64>,
+}
+
+fn read_rows<R: Read>(
+    rdr: &mut csv::Reader<R>,
+    path: &Path,
+    (it, ia): (usize, usize),
+    column: &str,
+) -> Result<Rows, ComfortError> {
+    let mut rows = Rows {
+        times: Vec::new(),
+        lines: Vec::new(),
+        accel: Vec::new(),
+    };
     let mut rec = csv::StringRecord::new();
     loop {
         match rdr.read_record(&mut rec) {
@@ -97,52 +144,63 @@ pub fn read_record_from(
             }
         }
         let line = rec.position().map(|q| q.line()).unwrap_or(0);
-        let field = |i: usize, name: &str| -> Result<f64, ComfortError> {
-            let s = rec
-                .get(i)
-                .ok_or_else(|| bad(line, format!("column `{name}`: value missing")))?;
-            let v: f64 = s
-                .parse()
-                .map_err(|_| bad(line, format!("column `{name}`: not a number: {s:?}")))?;
-            if !v.is_finite() {
-                return Err(bad(
-                    line,
-                    format!("column `{name}`: must be finite, got {s}"),
-                ));
-            }
-            Ok(v)
-        };
-        let t = field(it, "time_s")?;
-        let a = field(ia, column)?;
-        if let Some(&prev) = times.last() {
+        let t = finite_field(&rec, it, "time_s", path, line)?;
+        let a = finite_field(&rec, ia, column, path, line)?;
+        if let Some(&prev) = rows.times.last() {
             if t <= prev {
-                return Err(bad(
+                return Err(bad_row(
+                    path,
                     line,
                     format!("column `time_s`: must increase strictly: {t} follows {prev}"),
                 ));
             }
         }
-        times.push(t);
-        lines.push(line);
-        accel.push(a);
+        rows.times.push(t);
+        rows.lines.push(line);
+        rows.accel.push(a);
     }
-    let n = times.len();
-    if n < 2 {
-        return Err(ComfortError::Unusable(format!(
-            "{}: a record needs at least two data rows, found {n}",
-            path.display()
-        )));
+    Ok(rows)
+}
+
+/// Field `i` (named `name`) of a row as a finite number.
+fn finite_field(
+    rec: &csv::StringRecord,
+    i: usize,
+    name: &str,
+    path: &Path,
+    line: u64,
+) -> Result<f64, ComfortError> {
+    let s = rec
+        .get(i)
+        .ok_or_else(|| bad_row(path, line, format!("column `{name}`: value missing")))?;
+    let v: f64 = s
+        .parse()
+        .map_err(|_| bad_row(path, line, format!("column `{name}`: not a number: {s:?}")))?;
+    if !v.is_finite() {
+        return Err(bad_row(
+            path,
+            line,
+            format!("column `{name}`: must be finite, got {s}"),
+        ));
     }
-    // The median step is the nominal one, so a single gap is reported where
-    // it is rather than skewing every other step.
+    Ok(v)
+}
+
+/// Refuses a step that differs from the nominal (median) step by more than
+/// [`JITTER_TOLERANCE`], naming its line. The median is the nominal step so
+/// that a single gap is reported where it is rather than skewing every
+/// other step.
+fn check_uniform(rows: &Rows, path: &Path) -> Result<(), ComfortError> {
+    let times = &rows.times;
     let mut steps: Vec<f64> = times.windows(2).map(|w| w[1] - w[0]).collect();
     steps.sort_by(f64::total_cmp);
     let step = steps[steps.len() / 2];
     for (i, w) in times.windows(2).enumerate() {
         let d = w[1] - w[0];
         if (d - step).abs() > JITTER_TOLERANCE * step {
-            return Err(bad(
-                lines[i + 1],
+            return Err(bad_row(
+                path,
+                rows.lines[i + 1],
                 format!(
                     "column `time_s`: step {d} s after {} s differs from the nominal {step} s by more \
                      than {}% (sampling must be uniform; split or resample the record)",
@@ -152,12 +210,7 @@ pub fn read_record_from(
             ));
         }
     }
-    Ok(Record {
-        start_s: times[0],
-        // The mean step over the record: jitter averages out.
-        sample_rate_hz: (n - 1) as f64 / (times[n - 1] - times[0]),
-        accel_m_s2: accel,
-    })
+    Ok(())
 }
 
 fn csv_error(path: PathBuf, line: u64, e: csv::Error) -> ComfortError {

@@ -70,7 +70,7 @@ pub fn print_stdout(text: &str) -> Result<(), ExportError> {
 }
 
 /// Serialises `value` as one JSON object on one line followed by a newline
-/// (the contract's `--json` output).
+/// (the documented `--json` output).
 pub fn json_line<T: serde::Serialize>(value: &T, what: &str) -> Result<String, ExportError> {
     serde_json::to_string(value)
         .map(|s| s + "\n")
@@ -98,10 +98,29 @@ pub fn fmt_micro(x: f64) -> String {
     s.trim_end_matches('0').trim_end_matches('.').to_string()
 }
 
+/// A rainflow cycle count (a multiple of ½: half cycles count ½) with one
+/// decimal, always: `587.0`, `1146.5`, so every table prints counts alike.
+pub fn fmt_cycles(n: f64) -> String {
+    format!("{n:.1}")
+}
+
 /// Wraps an I/O error while writing `path` (use inside `fill` closures).
 pub fn io_error(path: &Path, source: io::Error) -> ExportError {
     ExportError::Io {
         path: path.to_path_buf(),
         source,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn cycle_counts_print_with_one_decimal_whole_or_half() {
+        assert_eq!(fmt_cycles(587.0), "587.0");
+        assert_eq!(fmt_cycles(1146.0), "1146.0");
+        assert_eq!(fmt_cycles(12454.5), "12454.5");
+        assert_eq!(fmt_cycles(0.5), "0.5");
     }
 }

@@ -340,8 +340,11 @@ impl Sample {
     }
 }
 
-/// What a run did.
+/// What a run did. In JSON the tyre-tension counts are
+/// `tyre_tension_samples`, and also, for one release, under their former
+/// name `bonded_pull_samples` (see [`RunInfoJson`]).
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
+#[serde(into = "RunInfoJson")]
 pub struct RunInfo {
     /// The solver whose samples were delivered.
     pub solver: SolverKind,
@@ -359,6 +362,48 @@ pub struct RunInfo {
     /// (front, rear): non-zero only for `--solver exact`, whose linear model
     /// keeps the tyre bonded; the physical model would have lifted it.
     pub bonded_pull_samples: [u64; 2],
+}
+
+/// [`RunInfo`] as written to JSON.
+#[derive(serde::Serialize)]
+pub struct RunInfoJson {
+    solver: SolverKind,
+    samples: usize,
+    output_rate_hz: f64,
+    steps_accepted: u64,
+    steps_rejected: u64,
+    fallback: Option<String>,
+    /// Samples (front, rear) in which the linear tyre was in tension,
+    /// pulling the wheel down onto the road, where a real tyre would have
+    /// lifted off (non-zero only with `--solver exact`).
+    tyre_tension_samples: [u64; 2],
+    /// The same counts under their former name, kept for one release.
+    bonded_pull_samples: [u64; 2],
+}
+
+impl From<RunInfo> for RunInfoJson {
+    fn from(r: RunInfo) -> Self {
+        // Destructured in full so a new field cannot be left out of the JSON.
+        let RunInfo {
+            solver,
+            samples,
+            output_rate_hz,
+            steps_accepted,
+            steps_rejected,
+            fallback,
+            bonded_pull_samples,
+        } = r;
+        RunInfoJson {
+            solver,
+            samples,
+            output_rate_hz,
+            steps_accepted,
+            steps_rejected,
+            fallback,
+            tyre_tension_samples: bonded_pull_samples,
+            bonded_pull_samples,
+        }
+    }
 }
 
 /// A run could not be completed.

@@ -500,7 +500,7 @@ pub fn modes(v: &Vehicle) -> ModalAnalysis {
     let dofs = v.dof_names();
     let (w2, phi) = undamped(v);
 
-    // Damped roots and their eigenvectors.
+    // Damped roots and their eigenvectors, matched to the undamped shapes.
     let roots = damped_eigenvalues(v);
     let complex: Vec<usize> = (0..roots.len()).filter(|&i| roots[i].im > 0.0).collect();
     let real: Vec<usize> = (0..roots.len()).filter(|&i| roots[i].im == 0.0).collect();
@@ -513,91 +513,128 @@ pub fn modes(v: &Vehicle) -> ModalAnalysis {
         .map(|u| vectors.iter().map(|d| mac(&mass, u, d)).collect())
         .collect();
     let assignment = best_assignment(n, &complex, &real, &score);
+    let energy = energy_fractions(&mass, &shapes);
+    let kinds = labels(&energy, &dofs);
 
-    let energy: Vec<Vec<f64>> = shapes
+    let out = (0..n)
+        .map(|i| {
+            let u = &shapes[i];
+            let slot = slot_of(assignment.as_deref(), i, &complex, &roots);
+            let root = matched_root(slot, &roots, &score[i]);
+            let node = if kinds[i] == "bounce" || kinds[i] == "pitch" {
+                node_of(v, u[0], u[1])
+            } else {
+                None
+            };
+            Mode {
+                kind: kinds[i],
+                undamped_frequency_hz: w2[i].max(0.0).sqrt() / (2.0 * std::f64::consts::PI),
+                damped_frequency_hz: root.damped_hz,
+                damping_ratio: root.zeta,
+                eigenvalue: root.eigenvalue,
+                real_roots: root.real_roots,
+                overdamped: root.real_roots.is_some(),
+                shape_correlation: root.correlation,
+                shape: shape_components(u, &energy[i], &dofs),
+                node,
+            }
+        })
+        .collect();
+    analysis(v, dofs, out)
+}
+
+/// Each mode's kinetic energy per coordinate, `mⱼ uⱼ²`, as fractions of its total.
+fn energy_fractions(mass: &[f64], shapes: &[Vec<f64>]) -> Vec<Vec<f64>> {
+    shapes
         .iter()
         .map(|u| {
-            let e: Vec<f64> = (0..n).map(|j| mass[j] * u[j] * u[j]).collect();
+            let e: Vec<f64> = mass.iter().zip(u).map(|(m, x)| m * x * x).collect();
             let total: f64 = e.iter().sum();
             e.iter().map(|x| x / total).collect()
         })
-        .collect();
-    let kinds = labels(&energy, &dofs);
+        .collect()
+}
 
-    let mut out = Vec::with_capacity(n);
-    for i in 0..n {
-        let u = &shapes[i];
-        let dominant = (0..n)
-            .max_by(|&a, &b| energy[i][a].total_cmp(&energy[i][b]))
-            .unwrap_or(0);
-        let scale = 1.0 / u[dominant];
-        let shape = (0..n)
-            .map(|j| ShapeComponent {
-                dof: dofs[j],
-                unit: if dofs[j] == "pitch" { "rad" } else { "m" },
-                value: u[j] * scale,
-                energy_fraction: energy[i][j],
-            })
-            .collect();
-        // Matched damped root; if no assignment exists (root count
-        // inconsistent, which a correct solver never gives), the i-th pair
-        // in frequency order stands in.
-        let slot = match &assignment {
-            Some(a) => a[i],
-            None => {
-                let mut sorted = complex.clone();
-                sorted.sort_by(|&a, &b| roots[a].norm().total_cmp(&roots[b].norm()));
-                Slot::Pair(sorted.get(i).copied().unwrap_or(0))
-            }
-        };
-        let (damped_hz, zeta, eigenvalue, real_roots, correlation) = match slot {
-            Slot::Pair(c) => {
-                let l = roots[c];
-                (
-                    l.im.abs() / (2.0 * std::f64::consts::PI),
-                    -l.re / l.norm(),
-                    EigenvalueJson {
-                        re: l.re,
-                        im: l.im.abs(),
-                    },
-                    None,
-                    score[i][c],
-                )
-            }
-            Slot::Real(a, b) => {
-                let (l1, l2) = (roots[a].re, roots[b].re);
-                let (hi, lo) = if l1 >= l2 { (l1, l2) } else { (l2, l1) };
-                (
-                    0.0,
-                    -(l1 + l2) / (2.0 * (l1 * l2).abs().sqrt()),
-                    EigenvalueJson { re: hi, im: 0.0 },
-                    Some([hi, lo]),
-                    0.5 * (score[i][a] + score[i][b]),
-                )
-            }
-        };
-        let node = if kinds[i] == "bounce" || kinds[i] == "pitch" {
-            node_of(v, u[0], u[1])
-        } else {
-            None
-        };
-        out.push(Mode {
-            kind: kinds[i],
-            undamped_frequency_hz: w2[i].max(0.0).sqrt() / (2.0 * std::f64::consts::PI),
-            damped_frequency_hz: damped_hz,
-            damping_ratio: zeta,
-            eigenvalue,
-            real_roots,
-            overdamped: real_roots.is_some(),
-            shape_correlation: correlation,
-            shape,
-            node,
-        });
+/// The shape scaled to +1 in the coordinate holding the most kinetic
+/// energy (coordinates of different units, m and rad, are compared by
+/// energy, not by size).
+fn shape_components(u: &[f64], energy: &[f64], dofs: &[&'static str]) -> Vec<ShapeComponent> {
+    let dominant = (0..u.len())
+        .max_by(|&a, &b| energy[a].total_cmp(&energy[b]))
+        .unwrap_or(0);
+    let scale = 1.0 / u[dominant];
+    (0..u.len())
+        .map(|j| ShapeComponent {
+            dof: dofs[j],
+            unit: if dofs[j] == "pitch" { "rad" } else { "m" },
+            value: u[j] * scale,
+            energy_fraction: energy[j],
+        })
+        .collect()
+}
+
+/// The damped root matched to mode `i`; if no assignment exists (root
+/// count inconsistent, which a correct solver never gives), the i-th pair
+/// in frequency order stands in.
+fn slot_of(assignment: Option<&[Slot]>, i: usize, complex: &[usize], roots: &[C64]) -> Slot {
+    match assignment {
+        Some(a) => a[i],
+        None => {
+            let mut sorted = complex.to_vec();
+            sorted.sort_by(|&a, &b| roots[a].norm().total_cmp(&roots[b].norm()));
+            Slot::Pair(sorted.get(i).copied().unwrap_or(0))
+        }
     }
+}
 
+/// What a mode takes from its damped root(s).
+struct MatchedRoot {
+    damped_hz: f64,
+    zeta: f64,
+    eigenvalue: EigenvalueJson,
+    real_roots: Option<[f64; 2]>,
+    correlation: f64,
+}
+
+/// Damped frequency, damping ratio and root of a conjugate pair (ζ =
+/// −Re λ/|λ|) or of two real roots (ζ = −(λ₁+λ₂)/(2√(λ₁λ₂)), from
+/// λ² + 2ζω λ + ω² = 0).
+fn matched_root(slot: Slot, roots: &[C64], score: &[f64]) -> MatchedRoot {
+    match slot {
+        Slot::Pair(c) => {
+            let l = roots[c];
+            MatchedRoot {
+                damped_hz: l.im.abs() / (2.0 * std::f64::consts::PI),
+                zeta: -l.re / l.norm(),
+                eigenvalue: EigenvalueJson {
+                    re: l.re,
+                    im: l.im.abs(),
+                },
+                real_roots: None,
+                correlation: score[c],
+            }
+        }
+        Slot::Real(a, b) => {
+            let (l1, l2) = (roots[a].re, roots[b].re);
+            let (hi, lo) = if l1 >= l2 { (l1, l2) } else { (l2, l1) };
+            MatchedRoot {
+                damped_hz: 0.0,
+                zeta: -(l1 + l2) / (2.0 * (l1 * l2).abs().sqrt()),
+                eigenvalue: EigenvalueJson { re: hi, im: 0.0 },
+                real_roots: Some([hi, lo]),
+                correlation: 0.5 * (score[a] + score[b]),
+            }
+        }
+    }
+}
+
+/// The modes with the vehicle-level figures: ride frequencies, pitch/bounce
+/// ratio, dynamic index and the guidance.
+fn analysis(v: &Vehicle, dofs: Vec<&'static str>, modes: Vec<Mode>) -> ModalAnalysis {
     let ride = ride_frequencies(v);
     let freq_of = |k: &str| {
-        out.iter()
+        modes
+            .iter()
             .find(|m| m.kind == k)
             .map_or(f64::NAN, |m| m.undamped_frequency_hz)
     };
@@ -608,7 +645,7 @@ pub fn modes(v: &Vehicle) -> ModalAnalysis {
     ModalAnalysis {
         vehicle: v.name.clone(),
         dofs,
-        modes: out,
+        modes,
         ride_frequencies: ride,
         pitch_to_bounce_ratio: pitch_to_bounce,
         dynamic_index,
