@@ -34,10 +34,8 @@ fn grid(length_m: f64, speeds: Vec<f64>, seeds: u64) -> Grid {
     let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("profiles/vehicles/demo_hatchback.toml");
     let vehicle = read_vehicle(&path).expect("demo vehicle");
     Grid {
-        vehicles: vec![SweepVehicle {
-            file: "demo_hatchback.toml".into(),
-            vehicle,
-        }],
+        vehicles: vec![SweepVehicle::new("demo_hatchback.toml", vehicle)],
+        varied_keys: Vec::new(),
         roads: vec![
             RoadSource::Class(RoadClass::A),
             RoadSource::Class(RoadClass::B),

@@ -12,6 +12,7 @@
 //! | [`stats`] | durability statistics: distributions, histograms, level crossings, rainflow |
 //! | [`pipeline`] | one simulation run end to end: road → solver → evaluators → summary |
 //! | [`batch`] | sweeps of speed × road class × seed, sharding, parallel execution |
+//! | [`design`] | design studies: vehicle-file variants (`--vary`), trade-offs and the Pareto set, tuning |
 //! | [`report`] | tables, JSON, CSV and SVG output; atomic file writes |
 //!
 //! # Conventions
@@ -27,6 +28,7 @@
 
 pub mod batch;
 pub mod comfort;
+pub mod design;
 pub mod error;
 pub mod pipeline;
 pub mod report;

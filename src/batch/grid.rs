@@ -1,6 +1,10 @@
 //! The explicit list of cases a sweep runs: vehicle × road × speed × seed,
 //! nested in that order (seed varies fastest), numbered from 0.
 //!
+//! With `--vary`, each vehicle file contributes one vehicle per combination
+//! of the varied values (the first `--vary` slowest, the last fastest), so the
+//! order is vehicle file × variant × road × speed × seed.
+//!
 //! A road is an ISO 8608 class, generated per case from
 //! `RoadSpec::from_class(class, length, spacing, seed)` exactly as
 //! `roughride simulate --class C --seed N` does, or a profile file read once.
@@ -19,7 +23,7 @@ use crate::vehicle::Vehicle;
 /// cases of even a short road would take days on one machine).
 pub const MAX_CASES: usize = 10_000_000;
 
-/// One vehicle of a sweep.
+/// One vehicle of a sweep: a vehicle file, or one variant of it.
 #[derive(Debug, Clone)]
 pub struct SweepVehicle {
     /// The vehicle file as given on the command line (names the vehicle in
@@ -27,6 +31,20 @@ pub struct SweepVehicle {
     pub file: String,
     /// The parsed vehicle.
     pub vehicle: Vehicle,
+    /// The values of the grid's [`Grid::varied_keys`] for this variant (empty
+    /// when nothing is varied).
+    pub varied: Vec<f64>,
+}
+
+impl SweepVehicle {
+    /// A vehicle file as it is (no varied keys).
+    pub fn new(file: impl Into<String>, vehicle: Vehicle) -> Self {
+        SweepVehicle {
+            file: file.into(),
+            vehicle,
+            varied: Vec::new(),
+        }
+    }
 }
 
 /// Where a sweep's road comes from.
@@ -88,8 +106,10 @@ pub struct Case {
 /// A sweep's full grid.
 #[derive(Debug, Clone)]
 pub struct Grid {
-    /// The vehicles, in command-line order.
+    /// The vehicles, in command-line order (each file's variants together).
     pub vehicles: Vec<SweepVehicle>,
+    /// The varied vehicle-file keys (`front.damping`), one column each.
+    pub varied_keys: Vec<String>,
     /// The roads: classes in the order given, then files in the order given.
     pub roads: Vec<RoadSource>,
     /// Speeds, m/s, in the order given.
@@ -118,6 +138,19 @@ impl Grid {
         }
         if self.seeds == 0 {
             return usage("sweep: --seeds must be at least 1".into());
+        }
+        if let Some(v) = self
+            .vehicles
+            .iter()
+            .find(|v| v.varied.len() != self.varied_keys.len())
+        {
+            // Our own invariant: every variant carries a value per varied key.
+            panic!(
+                "sweep: {} carries {} varied values for {} keys",
+                v.file,
+                v.varied.len(),
+                self.varied_keys.len()
+            );
         }
         let any_class = self.roads.iter().any(|r| r.class().is_some());
         if any_class {
@@ -243,9 +276,16 @@ impl Grid {
             RoadSource::Class(c) => format!("class {c} seed {}", case.seed.unwrap_or(0)),
             RoadSource::File { label, .. } => format!("profile {label}"),
         };
+        let v = &self.vehicles[case.vehicle];
+        let varied: String = self
+            .varied_keys
+            .iter()
+            .zip(&v.varied)
+            .map(|(k, x)| format!(" {k}={x}"))
+            .collect();
         format!(
-            "case {}: vehicle {}, {road}, speed {} m/s",
-            case.index, self.vehicles[case.vehicle].file, case.speed_m_s
+            "case {}: vehicle {}{varied}, {road}, speed {} m/s",
+            case.index, v.file, case.speed_m_s
         )
     }
 }
@@ -267,11 +307,9 @@ mod tests {
     fn grid(roads: Vec<RoadSource>, speeds: Vec<f64>, seeds: u64, vehicles: usize) -> Grid {
         Grid {
             vehicles: (0..vehicles)
-                .map(|i| SweepVehicle {
-                    file: format!("v{i}.toml"),
-                    vehicle: car(),
-                })
+                .map(|i| SweepVehicle::new(format!("v{i}.toml"), car()))
                 .collect(),
+            varied_keys: Vec::new(),
             roads,
             speeds_m_s: speeds,
             seeds,

@@ -84,7 +84,7 @@ pub fn write_sweep(
     let bounds = shard.bounds(total_cases);
     let cases = grid.cases(bounds.0, bounds.1);
     let seats = row::max_seats(grid);
-    let columns = row::columns(seats);
+    let columns = row::columns(seats, &grid.varied_keys);
     if spec.header && spec.format == Format::Csv {
         out.write_all(row::csv_header(&columns).as_bytes())
             .map_err(|e| io_error(spec.target, e))?;

@@ -2,7 +2,9 @@
 //! (JSON Lines), with the same keys in the same order.
 //!
 //! # Columns
-//! `case,vehicle,road,class,speed_m_s,seed,seat_aw`, then per seat `i`
+//! `case,vehicle`, one column per varied key named as the key
+//! (`front.damping`, in `--vary` order; none without `--vary`), then
+//! `road,class,speed_m_s,seed,seat_aw`, then per seat `i`
 //! (1-based, in vehicle-file order) `seat{i}_aw,seat{i}_vdv,seat{i}_mtvv,
 //! seat{i}_crest_factor`, then per axle (`front`, `rear`)
 //! `travel_rms_{axle}_m,travel_min_{axle}_m,travel_max_{axle}_m`, the
@@ -46,20 +48,16 @@ pub enum Cell {
     Empty,
 }
 
-/// The column names of a sweep whose vehicles have at most `seats` seats.
-pub fn columns(seats: usize) -> Vec<String> {
-    let mut c: Vec<String> = [
-        "case",
-        "vehicle",
-        "road",
-        "class",
-        "speed_m_s",
-        "seed",
-        "seat_aw",
-    ]
-    .iter()
-    .map(|s| s.to_string())
-    .collect();
+/// The column names of a sweep whose vehicles have at most `seats` seats
+/// and whose variants vary `varied` (one column each, after `vehicle`).
+pub fn columns(seats: usize, varied: &[String]) -> Vec<String> {
+    let mut c: Vec<String> = ["case", "vehicle"].iter().map(|s| s.to_string()).collect();
+    c.extend(varied.iter().cloned());
+    c.extend(
+        ["road", "class", "speed_m_s", "seed", "seat_aw"]
+            .iter()
+            .map(|s| s.to_string()),
+    );
     for i in 1..=seats {
         for m in ["aw", "vdv", "mtvv", "crest_factor"] {
             c.push(format!("seat{i}_{m}"));
@@ -102,9 +100,13 @@ pub fn max_seats(grid: &Grid) -> usize {
 /// The cells of one case's row, in [`columns`] order.
 pub fn cells(grid: &Grid, case: &Case, s: &RunSummary, seats: usize) -> Vec<Cell> {
     let road = &grid.roads[case.road];
+    let vehicle = &grid.vehicles[case.vehicle];
     let mut r = vec![
         Cell::Int(case.index as u64),
-        Cell::Text(grid.vehicles[case.vehicle].file.clone()),
+        Cell::Text(vehicle.file.clone()),
+    ];
+    r.extend(vehicle.varied.iter().map(|x| Cell::Num(*x)));
+    r.extend([
         Cell::Text(road.label()),
         road.class()
             .map_or(Cell::Empty, |c| Cell::Text(c.to_string())),
@@ -113,7 +115,7 @@ pub fn cells(grid: &Grid, case: &Case, s: &RunSummary, seats: usize) -> Vec<Cell
         s.seats
             .first()
             .map_or(Cell::Empty, |x| Cell::Num(x.measures.aw)),
-    ];
+    ]);
     for i in 0..seats {
         match s.seats.get(i) {
             Some(x) => {
@@ -310,7 +312,7 @@ mod tests {
     #[test]
     fn the_header_holds_the_contract_columns() {
         // shared/interface.md: the header includes class,speed_m_s,seed,seat_aw.
-        let c = columns(2);
+        let c = columns(2, &[]);
         for key in [
             "class",
             "speed_m_s",

@@ -306,10 +306,8 @@ mod tests {
         .unwrap();
         let vehicle = parse_vehicle(&text, std::path::Path::new("demo_hatchback.toml")).unwrap();
         Grid {
-            vehicles: vec![SweepVehicle {
-                file: "car.toml".into(),
-                vehicle,
-            }],
+            vehicles: vec![SweepVehicle::new("car.toml", vehicle)],
+            varied_keys: Vec::new(),
             roads: vec![
                 RoadSource::Class(RoadClass::B),
                 RoadSource::Class(RoadClass::D),

@@ -67,27 +67,37 @@ pub fn parse_speed_list_m_s(text: &str) -> Result<Vec<f64>, ValueError> {
         let end = parse_speed_m_s(parts[1]).map_err(|e| err("speed range", text, e.why))?;
         let step = parse_speed_m_s(parts[2])
             .map_err(|_| err("speed range", text, "the step must be a positive speed"))?;
-        if end < start {
-            return Err(err("speed range", text, "the end is below the start"));
-        }
-        // Count in floating point first: a tiny step must be refused, not
-        // saturate or wrap the integer conversion.
-        let intervals = ((end - start) / step * (1.0 + 1e-9) + 1e-9).floor();
-        if intervals.is_nan() || intervals + 1.0 > MAX_RANGE_VALUES as f64 {
-            return Err(err(
-                "speed range",
-                text,
-                format!(
-                    "expands to {:.3e} values; at most {MAX_RANGE_VALUES}",
-                    intervals + 1.0
-                ),
-            ));
-        }
-        let count = intervals as usize + 1;
-        Ok((0..count).map(|i| start + i as f64 * step).collect())
+        expand_range(start, end, step).map_err(|why| err("speed range", text, why))
     } else {
         t.split(',').map(parse_speed_m_s).collect()
     }
+}
+
+/// The values `start + i·step` (never by repeated addition, so they do not
+/// drift) from `start` up to `end` inclusive, the end included when it lies
+/// on the grid within rounding. `step` must be positive; at most
+/// [`MAX_RANGE_VALUES`] values. The error says what was wrong.
+pub fn expand_range(start: f64, end: f64, step: f64) -> Result<Vec<f64>, String> {
+    if !(start.is_finite() && end.is_finite()) {
+        return Err("the start and end must be finite".into());
+    }
+    if !(step.is_finite() && step > 0.0) {
+        return Err("the step must be positive".into());
+    }
+    if end < start {
+        return Err("the end is below the start".into());
+    }
+    // Count in floating point first: a tiny step must be refused, not
+    // saturate or wrap the integer conversion.
+    let intervals = ((end - start) / step * (1.0 + 1e-9) + 1e-9).floor();
+    if intervals.is_nan() || intervals + 1.0 > MAX_RANGE_VALUES as f64 {
+        return Err(format!(
+            "expands to {:.3e} values; at most {MAX_RANGE_VALUES}",
+            intervals + 1.0
+        ));
+    }
+    let count = intervals as usize + 1;
+    Ok((0..count).map(|i| start + i as f64 * step).collect())
 }
 
 /// Parses a duration: `8h`, `30min`, `90s` or a bare number of seconds.

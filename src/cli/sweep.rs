@@ -15,6 +15,7 @@ use roughride::batch::{
     Format, Grid, OutputSpec, RoadGeometry, RoadSource, Runner, SweepVehicle, write_sweep,
 };
 use roughride::comfort::HEALTH_CAUTION;
+use roughride::design::vary::{Variation, VehicleDocument, expand};
 use roughride::pipeline::RunOptions;
 use roughride::report::{FilePlan, write_to};
 use roughride::road::iso8608::RoadClass;
@@ -24,8 +25,8 @@ use roughride::vehicle::read_vehicle;
 /// Run a grid of cases (vehicle × road × speed × seed) in parallel and print
 /// one CSV row per case, in a fixed order whatever --jobs.
 ///
-/// Rows are nested vehicle, road (classes, then profile files), speed, seed
-/// (seed fastest). Generated roads use seeds 1..=N: the row for class C,
+/// Rows are nested vehicle, variant (--vary), road (classes, then profile
+/// files), speed, seed (seed fastest). Generated roads use seeds 1..=N: the row for class C,
 /// seed 2 at 20 m/s equals `roughride simulate --class C --seed 2 --speed
 /// 20` with the same --length and --spacing. A profile file gives one row
 /// per speed, with `class` and `seed` empty and `road` = the file as given.
@@ -37,12 +38,24 @@ use roughride::vehicle::read_vehicle;
 #[derive(Debug, ClapArgs)]
 #[command(after_help = "Examples:\n  \
 roughride sweep --vehicle profiles/vehicles/demo_hatchback.toml --classes A,B,C,D --speeds 10:40:5 --seeds 3 --length 1000 -o grid.csv\n  \
+roughride sweep --vehicle car.toml --classes B,C,D --speeds 15,25 --length 500 --vary rear.damping=*0.7:*1.3:*0.1 --vary rear.spring_rate=26000,30000,34000\n  \
 roughride sweep --vehicle car.toml --profile lane1.csv --profile lane2.csv --speeds 36kmh:108kmh:18kmh --json\n  \
 roughride sweep --vehicle car.toml --classes B,C,D --speeds 10:40:2 --seeds 20 --length 2000 --shard $SLURM_ARRAY_TASK_ID/16 -o part-$SLURM_ARRAY_TASK_ID.csv")]
 pub struct Args {
     /// Vehicle file (TOML); repeat for several vehicles.
     #[arg(long, value_name = "FILE", required = true)]
     pub vehicle: Vec<PathBuf>,
+    /// Vary a vehicle-file key over values, making one vehicle variant per
+    /// value; repeat for a grid of every combination (the first --vary
+    /// slowest). KEY: body.mass, body.pitch_inertia, front.KEY or rear.KEY
+    /// (spring_rate, damping, damping_bump, damping_rebound, cg_distance,
+    /// unsprung_mass, tyre_rate, tyre_damping, bump_clearance,
+    /// rebound_clearance, stop_rate), seat.NAME.x or seat.N.x. VALUES as for
+    /// --speeds, in the file's SI units: start:end:step or a comma list; *F
+    /// is F times the file's value (*0.8:*1.2:*0.1 is 80 % to 120 % in 10 %
+    /// steps). Each row gets a column named KEY after `vehicle`.
+    #[arg(long, value_name = "KEY=VALUES")]
+    pub vary: Vec<String>,
     /// ISO 8608 road classes to generate, comma-separated (e.g. A,B,C).
     #[arg(long, value_name = "A,B,…", value_delimiter = ',', value_parser = parse_class,
           required_unless_present = "profile", requires = "length")]
@@ -103,16 +116,27 @@ fn parse_shard(s: &str) -> Result<Shard, String> {
 /// Reads the vehicles and roads the arguments name (all input is checked
 /// here, before any case runs).
 fn build_grid(a: &Args) -> Result<Grid, Error> {
-    let vehicles = a
-        .vehicle
+    let variations = a
+        .vary
         .iter()
-        .map(|p| {
-            Ok(SweepVehicle {
-                file: p.display().to_string(),
-                vehicle: read_vehicle(p)?,
-            })
-        })
+        .map(|v| Variation::parse(v))
         .collect::<Result<Vec<_>, Error>>()?;
+    let mut vehicles = Vec::new();
+    for p in &a.vehicle {
+        let file = p.display().to_string();
+        if variations.is_empty() {
+            vehicles.push(SweepVehicle::new(file, read_vehicle(p)?));
+            continue;
+        }
+        let doc = VehicleDocument::read(p)?;
+        for variant in expand(&doc, &variations)? {
+            vehicles.push(SweepVehicle {
+                file: file.clone(),
+                vehicle: variant.vehicle,
+                varied: variant.values,
+            });
+        }
+    }
     let mut roads: Vec<RoadSource> = a.classes.iter().map(|c| RoadSource::Class(*c)).collect();
     for p in &a.profile {
         let (profile, warnings) = read_profile_csv(p)?;
@@ -131,6 +155,7 @@ fn build_grid(a: &Args) -> Result<Grid, Error> {
     };
     let grid = Grid {
         vehicles,
+        varied_keys: variations.iter().map(|v| v.key.to_string()).collect(),
         roads,
         speeds_m_s: a.speeds.0.clone(),
         seeds: a.seeds,
