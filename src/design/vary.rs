@@ -27,7 +27,7 @@ use std::path::{Path, PathBuf};
 use toml_edit::{DocumentMut, Item, Value};
 
 use crate::batch::values::expand_range;
-use crate::vehicle::{Vehicle, VehicleError, parse_vehicle};
+use crate::vehicle::{Vehicle, VehicleError, parse_vehicle, read_vehicle};
 
 /// The numeric keys of `[body]`.
 pub const BODY_KEYS: [&str; 2] = ["mass", "pitch_inertia"];
@@ -338,6 +338,9 @@ pub struct Edited {
 impl VehicleDocument {
     /// Reads and validates a vehicle file.
     pub fn read(path: &Path) -> Result<VehicleDocument, crate::Error> {
+        // The vehicle file's own reader first (size and encoding checks,
+        // its messages); the text is then known to be small UTF-8.
+        read_vehicle(path)?;
         let text = std::fs::read_to_string(path).map_err(|source| VehicleError::Read {
             path: path.to_path_buf(),
             source,
