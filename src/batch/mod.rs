@@ -18,6 +18,7 @@
 //!   header only in shard 1, concatenate to the unsharded output.
 
 pub mod grid;
+pub mod ordered;
 pub mod row;
 pub mod run;
 pub mod values;

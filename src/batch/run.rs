@@ -1,24 +1,19 @@
 //! Running a list of cases on a pool of threads and handing the results
 //! back strictly in case order, with bounded memory.
 //!
-//! Workers (a rayon pool of `jobs` threads) claim cases in order from a
-//! shared counter and run each through [`crate::pipeline::simulate`], the
-//! same function `roughride simulate` calls, so a case's result does not
-//! depend on the thread that ran it or on what ran before. The calling
-//! thread reorders the results and hands each to the caller's `emit` in case
-//! order as soon as all earlier cases are done, so rows stream out of long
-//! sweeps. A worker waits before starting a case more than
-//! [`Runner::window`] cases ahead of the last one emitted, which bounds the
-//! results held for reordering.
+//! Each case runs through [`crate::pipeline::simulate`], the same function
+//! `roughride simulate` calls, so a case's result does not depend on the
+//! thread that ran it or on what ran before. The threads, the reordering
+//! into case order and the bound on results held ahead ([`Runner::window`])
+//! are [`super::ordered::Pool`]'s.
 //!
 //! Generated roads are built once per (class, seed) and shared by every
 //! speed and vehicle, through a cache bounded in bytes; an evicted road is
 //! simply generated again (synthesis is deterministic, so it is the same
 //! road).
 
-use std::collections::{BTreeMap, HashMap, VecDeque};
-use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
-use std::sync::{Arc, Condvar, Mutex, MutexGuard, OnceLock};
+use std::collections::{HashMap, VecDeque};
+use std::sync::{Arc, Mutex, MutexGuard, OnceLock};
 
 use crate::pipeline::{self, RunOptions, RunSummary};
 use crate::road::iso8608::{RoadSpec, generate};
@@ -26,6 +21,7 @@ use crate::road::{Profile, ProfileError};
 use crate::solve::{self, Excitation};
 
 use super::grid::{Case, Grid, RoadSource};
+use super::ordered::Pool;
 
 /// Default byte budget of the road cache (256 MiB: 3 million samples).
 pub const DEFAULT_ROAD_CACHE_BYTES: usize = 256 << 20;
@@ -100,107 +96,17 @@ impl Runner {
         cases: &[Case],
         mut emit: impl FnMut(&Case, Result<RunSummary, crate::Error>) -> Result<(), crate::Error>,
     ) -> Result<(), crate::Error> {
-        if cases.is_empty() {
-            return Ok(());
-        }
-        let pool = rayon::ThreadPoolBuilder::new()
-            .num_threads(self.jobs)
-            .thread_name(|i| format!("roughride-sweep-{i}"))
-            .build()
-            .map_err(|e| {
-                crate::Error::Usage(format!(
-                    "--jobs {}: cannot start the threads: {e}",
-                    self.jobs
-                ))
-            })?;
         let cache = RoadCache::new(self.road_cache_bytes);
-        let next = AtomicUsize::new(0);
-        let stop = AtomicBool::new(false);
-        let emitted = Mutex::new(0usize);
-        let advanced = Condvar::new();
-        let window = self.window.max(1);
-        let (tx, rx) = std::sync::mpsc::channel::<(usize, Result<RunSummary, crate::Error>)>();
-
-        pool.in_place_scope(|scope| {
-            for _ in 0..self.jobs {
-                let tx = tx.clone();
-                let (next, stop, emitted, advanced, cache) =
-                    (&next, &stop, &emitted, &advanced, &cache);
-                scope.spawn(move |_| {
-                    loop {
-                        if stop.load(Ordering::Relaxed) || crate::solve::cancel_requested() {
-                            break;
-                        }
-                        let i = next.fetch_add(1, Ordering::Relaxed);
-                        if i >= cases.len() {
-                            break;
-                        }
-                        {
-                            // The worker holding the oldest unemitted case
-                            // never waits (i == emitted < emitted + window).
-                            // Cancellation does not notify, hence the timeout.
-                            let mut done = lock(emitted);
-                            while i >= *done + window
-                                && !stop.load(Ordering::Relaxed)
-                                && !crate::solve::cancel_requested()
-                            {
-                                done = advanced
-                                    .wait_timeout(done, std::time::Duration::from_millis(100))
-                                    .unwrap_or_else(|p| p.into_inner())
-                                    .0;
-                            }
-                        }
-                        if stop.load(Ordering::Relaxed) || crate::solve::cancel_requested() {
-                            break;
-                        }
-                        let result = self.run_case(grid, &cases[i], cache);
-                        if tx.send((i, result)).is_err() {
-                            break;
-                        }
-                    }
-                });
-            }
-            drop(tx);
-            let outcome = self.collect(rx, cases, &mut emit, &emitted, &advanced);
-            if outcome.is_err() {
-                // Set under the lock so no worker misses the wake-up.
-                let guard = lock(&emitted);
-                stop.store(true, Ordering::Relaxed);
-                drop(guard);
-                advanced.notify_all();
-            }
-            outcome
-        })
-    }
-
-    /// The reordering loop on the calling thread.
-    fn collect(
-        &self,
-        rx: std::sync::mpsc::Receiver<(usize, Result<RunSummary, crate::Error>)>,
-        cases: &[Case],
-        emit: &mut impl FnMut(&Case, Result<RunSummary, crate::Error>) -> Result<(), crate::Error>,
-        emitted: &Mutex<usize>,
-        advanced: &Condvar,
-    ) -> Result<(), crate::Error> {
-        let mut pending: BTreeMap<usize, Result<RunSummary, crate::Error>> = BTreeMap::new();
-        let mut next_out = 0usize;
-        for (i, result) in rx.iter() {
-            pending.insert(i, result);
-            while let Some(result) = pending.remove(&next_out) {
-                if result.is_err() && crate::solve::cancel_requested() {
-                    return result.map(|_| ());
-                }
-                emit(&cases[next_out], result)?;
-                next_out += 1;
-                *lock(emitted) = next_out;
-                advanced.notify_all();
-            }
-        }
-        if next_out < cases.len() {
-            // Workers stopped early without an error: only cancellation does that.
-            return Err(crate::solve::SolveError::Interrupted.into());
-        }
-        Ok(())
+        let pool = Pool {
+            jobs: self.jobs,
+            window: self.window,
+        };
+        pool.run(
+            "roughride-sweep",
+            cases.len(),
+            |i| self.run_case(grid, &cases[i], &cache),
+            |i, result| emit(&cases[i], result),
+        )
     }
 
     /// One case through the pipeline.
