@@ -320,6 +320,11 @@ impl Durability {
         )
     }
 
+    /// The durability evaluator of axle `i` (0 front, 1 rear), finished.
+    pub fn axle(&self, i: usize) -> &AxleDurability {
+        &self.axles[i]
+    }
+
     /// Writes both axles' rainflow range–mean tables (travel and force) as one CSV.
     pub fn write_rainflow(&self, out: &mut dyn Write) -> std::io::Result<()> {
         write_rainflow_header(out)?;
@@ -513,7 +518,11 @@ impl SampleSink for Evaluators<'_> {
             self.travel[i].push(s.elements.travel_m[i]);
             self.suspension[i].push(s.elements.suspension_n[i]);
             self.contact[i].push(s.elements.contact_n[i]);
-            self.durability[i].push(s.elements.travel_m[i], s.elements.suspension_n[i]);
+            self.durability[i].push(
+                s.elements.travel_m[i],
+                s.elements.suspension_n[i],
+                s.elements.contact_n[i],
+            );
             if !s.elements.in_contact[i] {
                 self.off_ground[i] += 1;
             }

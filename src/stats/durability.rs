@@ -2,6 +2,9 @@
 //! sample: travel distribution and percentiles, time past the stop
 //! clearances, level crossings of travel, and rainflow counts (ASTM
 //! E1049-85) of travel and suspension force with damage-equivalent ranges.
+//! With [`DurabilitySettings::load_spectra`] the tyre load is counted too,
+//! and every quantity gets its level-crossing spectrum (what a lifetime
+//! load spectrum is built from).
 //! Memory is bounded by the bin counts and the rainflow residue.
 
 use std::io::{self, Write};
@@ -11,7 +14,8 @@ use serde::Serialize;
 use crate::report::fmt_grid;
 
 use super::{
-    Cycle, DamageEquivalent, Histogram, LevelCrossings, Rainflow, RangeMeanTable, StatsError,
+    Cycle, DamageEquivalent, Histogram, LevelCrossings, LevelSpectrum, Rainflow, RangeMeanTable,
+    ResidueMethod, StatsError,
 };
 
 /// Travel range covered by the histograms, m (±): wider than any road
@@ -27,6 +31,58 @@ pub const CROSSING_LEVELS_M: [f64; 11] = [
 /// Percentiles reported, %.
 pub const PERCENTILES: [f64; 5] = [1.0, 5.0, 50.0, 95.0, 99.0];
 
+/// A load quantity of one axle, as counted.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
+pub enum Quantity {
+    /// Dynamic suspension travel (compression +), m.
+    Travel,
+    /// Dynamic suspension force (compression +), N.
+    SuspensionForce,
+    /// Dynamic tyre (road contact) load (compression +), N.
+    TyreLoad,
+}
+
+impl Quantity {
+    /// Every quantity, in output order.
+    pub const ALL: [Quantity; 3] = [
+        Quantity::Travel,
+        Quantity::SuspensionForce,
+        Quantity::TyreLoad,
+    ];
+
+    /// The name with its unit, as in the `quantity` column of the rainflow
+    /// CSV (`travel_m`, `suspension_force_n`, `tyre_load_n`).
+    pub fn column(self) -> &'static str {
+        match self {
+            Quantity::Travel => "travel_m",
+            Quantity::SuspensionForce => "suspension_force_n",
+            Quantity::TyreLoad => "tyre_load_n",
+        }
+    }
+
+    /// The short JSON key (`travel`, `force`, `tyre_load`).
+    pub fn key(self) -> &'static str {
+        match self {
+            Quantity::Travel => "travel",
+            Quantity::SuspensionForce => "force",
+            Quantity::TyreLoad => "tyre_load",
+        }
+    }
+
+    /// The SI unit.
+    pub fn unit(self) -> &'static str {
+        match self {
+            Quantity::Travel => "m",
+            Quantity::SuspensionForce | Quantity::TyreLoad => "N",
+        }
+    }
+
+    /// The quantity whose [`Quantity::column`] is `name`.
+    pub fn from_column(name: &str) -> Option<Quantity> {
+        Quantity::ALL.into_iter().find(|q| q.column() == name)
+    }
+}
+
 /// Settings of the durability evaluation.
 #[derive(Debug, Clone, PartialEq)]
 pub struct DurabilitySettings {
@@ -36,8 +92,15 @@ pub struct DurabilitySettings {
     pub rainflow_travel_bin_m: f64,
     /// Range bin width of the force rainflow table, N (mean bins the same).
     pub rainflow_force_bin_n: f64,
+    /// Range bin width of the tyre-load rainflow table, N (mean bins the same).
+    pub rainflow_tyre_bin_n: f64,
     /// S–N (Basquin) exponents for the damage-equivalent ranges.
     pub sn_exponents: Vec<f64>,
+    /// How the rainflow residue is closed.
+    pub residue: ResidueMethod,
+    /// Also count the tyre load, and the level-crossing spectrum of every
+    /// quantity on the levels of its rainflow bins.
+    pub load_spectra: bool,
 }
 
 impl Default for DurabilitySettings {
@@ -46,9 +109,81 @@ impl Default for DurabilitySettings {
             travel_bin_m: 0.002,
             rainflow_travel_bin_m: 0.002,
             rainflow_force_bin_n: 100.0,
+            rainflow_tyre_bin_n: 100.0,
             // m = 3 (welded steel) and 5 (e.g. rubber mounts, forgings):
             // common practice, from memory.
             sn_exponents: vec![3.0, 5.0],
+            residue: ResidueMethod::HalfCycles,
+            load_spectra: false,
+        }
+    }
+}
+
+impl DurabilitySettings {
+    /// The rainflow bin width of `q` (range and mean), in its unit.
+    pub fn bin(&self, q: Quantity) -> f64 {
+        match q {
+            Quantity::Travel => self.rainflow_travel_bin_m,
+            Quantity::SuspensionForce => self.rainflow_force_bin_n,
+            Quantity::TyreLoad => self.rainflow_tyre_bin_n,
+        }
+    }
+}
+
+/// Rainflow (and optionally level-crossing) counting of one quantity.
+#[derive(Debug, Clone)]
+struct Channel {
+    rainflow: Rainflow,
+    table: RangeMeanTable,
+    damage: Vec<DamageEquivalent>,
+    levels: Option<LevelSpectrum>,
+}
+
+impl Channel {
+    fn new(settings: &DurabilitySettings, q: Quantity) -> Result<Self, StatsError> {
+        let bin = settings.bin(q);
+        Ok(Channel {
+            rainflow: Rainflow::with_residue(settings.residue),
+            table: RangeMeanTable::new(bin, bin)?,
+            damage: settings
+                .sn_exponents
+                .iter()
+                .map(|m| DamageEquivalent::new(*m))
+                .collect::<Result<_, _>>()?,
+            levels: if settings.load_spectra {
+                Some(LevelSpectrum::new(bin)?)
+            } else {
+                None
+            },
+        })
+    }
+
+    #[inline]
+    fn push(&mut self, x: f64) {
+        if let Some(l) = &mut self.levels {
+            l.push(x);
+        }
+        let (table, damage) = (&mut self.table, &mut self.damage);
+        self.rainflow.push(x, &mut |c: Cycle| {
+            table.add(&c);
+            damage.iter_mut().for_each(|d| d.add(&c));
+        });
+    }
+
+    /// Closes the residue.
+    fn finish(&mut self) {
+        let (table, damage) = (&mut self.table, &mut self.damage);
+        std::mem::take(&mut self.rainflow).finish(&mut |c: Cycle| {
+            table.add(&c);
+            damage.iter_mut().for_each(|d| d.add(&c));
+        });
+    }
+
+    fn counts(&self) -> LoadCounts {
+        LoadCounts {
+            table: self.table.clone(),
+            damage_sums: self.damage.iter().map(DamageEquivalent::sum).collect(),
+            upcrossings: self.levels.as_ref().map_or_else(Vec::new, |l| l.counts()),
         }
     }
 }
@@ -62,12 +197,24 @@ pub struct AxleDurability {
     crossings: LevelCrossings,
     past_bump: u64,
     past_rebound: u64,
-    travel_rf: Rainflow,
-    force_rf: Rainflow,
-    travel_table: RangeMeanTable,
-    force_table: RangeMeanTable,
-    travel_deq: Vec<DamageEquivalent>,
-    force_deq: Vec<DamageEquivalent>,
+    travel: Channel,
+    force: Channel,
+    tyre: Option<Channel>,
+}
+
+/// The counts of one quantity of a finished run: what a lifetime load
+/// spectrum is built from.
+#[derive(Debug, Clone)]
+pub struct LoadCounts {
+    /// Rainflow range–mean table (half cycles count ½), on the bins of
+    /// [`DurabilitySettings::bin`].
+    pub table: RangeMeanTable,
+    /// `Σ nᵢ·Sᵢ^m` of the exact (unbinned) ranges, one per S–N exponent of
+    /// the settings, in their order.
+    pub damage_sums: Vec<f64>,
+    /// `(k, up-crossings of the level k·bin)`, ascending (empty unless
+    /// [`DurabilitySettings::load_spectra`]).
+    pub upcrossings: Vec<(i64, u64)>,
 }
 
 /// One damage-equivalent entry.
@@ -80,6 +227,9 @@ pub struct DamageEquivalentRange {
     pub travel_range_m: f64,
     /// The same for the suspension force, N.
     pub force_range_n: f64,
+    /// The same for the tyre load, N (only when the tyre load is counted).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub tyre_load_range_n: Option<f64>,
 }
 
 /// The results of one axle.
@@ -97,6 +247,9 @@ pub struct DurabilitySummary {
     pub travel_cycles: f64,
     /// Rainflow cycles of suspension force.
     pub force_cycles: f64,
+    /// Rainflow cycles of tyre load (only when the tyre load is counted).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub tyre_load_cycles: Option<f64>,
     /// Damage-equivalent ranges per S–N exponent.
     pub damage_equivalent: Vec<DamageEquivalentRange>,
 }
@@ -107,13 +260,6 @@ impl AxleDurability {
         settings: &DurabilitySettings,
         clearances_m: (Option<f64>, Option<f64>),
     ) -> Result<Self, StatsError> {
-        let deq = |_: ()| -> Result<Vec<DamageEquivalent>, StatsError> {
-            settings
-                .sn_exponents
-                .iter()
-                .map(|m| DamageEquivalent::new(*m))
-                .collect()
-        };
         Ok(AxleDurability {
             clearances_m,
             fine: Histogram::new(-TRAVEL_SPAN_M, TRAVEL_SPAN_M, PERCENTILE_BIN_M)?,
@@ -121,24 +267,20 @@ impl AxleDurability {
             crossings: LevelCrossings::new(CROSSING_LEVELS_M.to_vec()),
             past_bump: 0,
             past_rebound: 0,
-            travel_rf: Rainflow::new(),
-            force_rf: Rainflow::new(),
-            travel_table: RangeMeanTable::new(
-                settings.rainflow_travel_bin_m,
-                settings.rainflow_travel_bin_m,
-            )?,
-            force_table: RangeMeanTable::new(
-                settings.rainflow_force_bin_n,
-                settings.rainflow_force_bin_n,
-            )?,
-            travel_deq: deq(())?,
-            force_deq: deq(())?,
+            travel: Channel::new(settings, Quantity::Travel)?,
+            force: Channel::new(settings, Quantity::SuspensionForce)?,
+            tyre: if settings.load_spectra {
+                Some(Channel::new(settings, Quantity::TyreLoad)?)
+            } else {
+                None
+            },
         })
     }
 
-    /// Adds one sample: travel (compression +), m; suspension force (compression +), N.
+    /// Adds one sample: travel (compression +), m; suspension force and
+    /// tyre load (compression +), N.
     #[inline]
-    pub fn push(&mut self, travel_m: f64, force_n: f64) {
+    pub fn push(&mut self, travel_m: f64, force_n: f64, tyre_load_n: f64) {
         self.fine.push(travel_m);
         self.coarse.push(travel_m);
         self.crossings.push(travel_m);
@@ -148,31 +290,23 @@ impl AxleDurability {
         if self.clearances_m.1.is_some_and(|c| travel_m < -c) {
             self.past_rebound += 1;
         }
-        let (table, deq) = (&mut self.travel_table, &mut self.travel_deq);
-        self.travel_rf.push(travel_m, &mut |c: Cycle| {
-            table.add(&c);
-            deq.iter_mut().for_each(|d| d.add(&c));
-        });
-        let (table, deq) = (&mut self.force_table, &mut self.force_deq);
-        self.force_rf.push(force_n, &mut |c: Cycle| {
-            table.add(&c);
-            deq.iter_mut().for_each(|d| d.add(&c));
-        });
+        self.travel.push(travel_m);
+        self.force.push(force_n);
+        if let Some(t) = &mut self.tyre {
+            t.push(tyre_load_n);
+        }
     }
 
-    /// Closes the rainflow residues (as half cycles) and returns the results.
+    /// Closes the rainflow residues (by the settings' method) and returns
+    /// the results.
     pub fn finish(&mut self) -> DurabilitySummary {
-        let (table, deq) = (&mut self.travel_table, &mut self.travel_deq);
-        std::mem::take(&mut self.travel_rf).finish(&mut |c: Cycle| {
-            table.add(&c);
-            deq.iter_mut().for_each(|d| d.add(&c));
-        });
-        let (table, deq) = (&mut self.force_table, &mut self.force_deq);
-        std::mem::take(&mut self.force_rf).finish(&mut |c: Cycle| {
-            table.add(&c);
-            deq.iter_mut().for_each(|d| d.add(&c));
-        });
+        self.travel.finish();
+        self.force.finish();
+        if let Some(t) = &mut self.tyre {
+            t.finish();
+        }
         let n = self.fine.total().max(1) as f64;
+        let per_cycle = |d: &DamageEquivalent| d.range(d.cycles().max(f64::MIN_POSITIVE));
         DurabilitySummary {
             travel_percentiles_m: PERCENTILES
                 .iter()
@@ -187,19 +321,33 @@ impl AxleDurability {
                 .copied()
                 .zip(self.crossings.counts().iter().copied())
                 .collect(),
-            travel_cycles: self.travel_table.total(),
-            force_cycles: self.force_table.total(),
-            damage_equivalent: self
-                .travel_deq
-                .iter()
-                .zip(&self.force_deq)
-                .map(|(t, f)| DamageEquivalentRange {
-                    sn_exponent: t.exponent(),
-                    travel_range_m: t.range(t.cycles().max(f64::MIN_POSITIVE)),
-                    force_range_n: f.range(f.cycles().max(f64::MIN_POSITIVE)),
+            travel_cycles: self.travel.table.total(),
+            force_cycles: self.force.table.total(),
+            tyre_load_cycles: self.tyre.as_ref().map(|t| t.table.total()),
+            damage_equivalent: (0..self.travel.damage.len())
+                .map(|i| DamageEquivalentRange {
+                    sn_exponent: self.travel.damage[i].exponent(),
+                    travel_range_m: per_cycle(&self.travel.damage[i]),
+                    force_range_n: per_cycle(&self.force.damage[i]),
+                    tyre_load_range_n: self.tyre.as_ref().map(|t| per_cycle(&t.damage[i])),
                 })
                 .collect(),
         }
+    }
+
+    /// The counts of `q` (after [`AxleDurability::finish`]); `None` for the
+    /// tyre load unless [`DurabilitySettings::load_spectra`] is set.
+    pub fn load_counts(&self, q: Quantity) -> Option<LoadCounts> {
+        match q {
+            Quantity::Travel => Some(self.travel.counts()),
+            Quantity::SuspensionForce => Some(self.force.counts()),
+            Quantity::TyreLoad => self.tyre.as_ref().map(Channel::counts),
+        }
+    }
+
+    /// Samples past the bump and rebound clearances.
+    pub fn samples_past_stops(&self) -> (u64, u64) {
+        (self.past_bump, self.past_rebound)
     }
 
     /// The travel histogram at the settings' bin width.
@@ -207,22 +355,39 @@ impl AxleDurability {
         &self.coarse
     }
 
-    /// Writes both rainflow range–mean tables of this axle as CSV rows
+    /// Writes the rainflow range–mean tables of this axle as CSV rows
     /// `axle,quantity,range_lower,range_upper,mean_lower,mean_upper,cycles`
-    /// (header written by [`write_rainflow_header`]).
+    /// (header written by [`write_rainflow_header`]): travel and suspension
+    /// force, and the tyre load when it is counted.
     pub fn write_rainflow_rows(&self, axle: &str, out: &mut dyn Write) -> io::Result<()> {
-        for (quantity, table) in [
-            ("travel_m", &self.travel_table),
-            ("suspension_force_n", &self.force_table),
-        ] {
-            let mut buf = Vec::new();
-            table.write_csv(&mut buf, "range", "mean")?;
-            for line in String::from_utf8_lossy(&buf).lines().skip(1) {
-                writeln!(out, "{axle},{quantity},{line}")?;
-            }
+        for q in Quantity::ALL {
+            let table = match q {
+                Quantity::Travel => &self.travel.table,
+                Quantity::SuspensionForce => &self.force.table,
+                Quantity::TyreLoad => match &self.tyre {
+                    Some(t) => &t.table,
+                    None => continue,
+                },
+            };
+            write_table_rows(table, axle, q.column(), out)?;
         }
         Ok(())
     }
+}
+
+/// Writes one range–mean table as rows of the rainflow CSV (no header).
+pub fn write_table_rows(
+    table: &RangeMeanTable,
+    axle: &str,
+    quantity: &str,
+    out: &mut dyn Write,
+) -> io::Result<()> {
+    let mut buf = Vec::new();
+    table.write_csv(&mut buf, "range", "mean")?;
+    for line in String::from_utf8_lossy(&buf).lines().skip(1) {
+        writeln!(out, "{axle},{quantity},{line}")?;
+    }
+    Ok(())
 }
 
 /// Header of the rainflow CSV.
@@ -299,7 +464,7 @@ mod tests {
             let x = 0.03 * (2.0 * std::f64::consts::PI * 1.3 * t).sin()
                 + 0.012 * (2.0 * std::f64::consts::PI * 7.1 * t).sin();
             values.push(x);
-            d.push(x, 30_000.0 * x);
+            d.push(x, 30_000.0 * x, 0.0);
         }
         let s = d.finish();
         let mut sorted = values.clone();
@@ -337,7 +502,7 @@ mod tests {
         for _ in 0..5000 {
             s = s.wrapping_mul(6364136223846793005).wrapping_add(1);
             let x = ((s >> 11) as f64 / (1u64 << 53) as f64 - 0.5) * 0.05;
-            d.push(x, 25_000.0 * x);
+            d.push(x, 25_000.0 * x, 0.0);
         }
         let r = d.finish();
         assert_eq!(r.travel_cycles, r.force_cycles);

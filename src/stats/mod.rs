@@ -13,9 +13,11 @@ pub mod durability;
 mod histogram;
 pub mod rainflow;
 
-pub use crossings::LevelCrossings;
+pub use crossings::{LevelCrossings, LevelSpectrum};
 pub use histogram::{Histogram, percentile_sorted};
-pub use rainflow::{Cycle, DamageEquivalent, Rainflow, RangeMeanTable, damage_equivalent_range};
+pub use rainflow::{
+    Cycle, DamageEquivalent, Rainflow, RangeMeanTable, ResidueMethod, damage_equivalent_range,
+};
 
 use thiserror::Error;
 

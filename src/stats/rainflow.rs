@@ -10,6 +10,22 @@
 //! at the last sample of a flat top. One deliberate difference: a series of
 //! exactly two samples gives one half cycle here, none in that package.
 //!
+//! # The residue
+//! What is left on the stack at the end (the residue: ranges growing then
+//! shrinking) is closed in one of two ways ([`ResidueMethod`]):
+//! - **half cycles** (the default): each range of the residue counts ½,
+//!   as ASTM E1049-85 5.4.4 prescribes for a history counted once;
+//! - **repeated**: the history is a block that repeats, so the residue
+//!   joins the next repetition and closes into full cycles. The closing
+//!   cycles are those of the residue counted by the rule of ASTM E1049-85
+//!   5.4.5 for repeating histories (rearranged to start and end at its
+//!   point of largest magnitude, every counted range a full cycle; clause
+//!   number from memory). The half cycles the starting-point rule of 5.4.4
+//!   would have counted along the way are held back as part of the
+//!   residue instead, so the count is the steady-state count of one
+//!   repetition: the closed cycles plus the residue's closing cycles
+//!   (common practice, "residue method").
+//!
 //! Memory: the residue stack. Between closed cycles it holds a sequence of
 //! reversals with growing then shrinking ranges; for stationary loading it
 //! stays at a few tens of points whatever the record length (it grows only
@@ -46,6 +62,41 @@ fn cycle(a: (u64, f64), b: (u64, f64), count: f64) -> Cycle {
     }
 }
 
+/// How the residue left at the end of a history is counted (see the
+/// module documentation).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum ResidueMethod {
+    /// Each residue range is half a cycle (ASTM E1049-85 5.4.4).
+    #[default]
+    HalfCycles,
+    /// The history repeats: the residue closes into full cycles (ASTM
+    /// E1049-85 5.4.5 applied to the residue).
+    Repeated,
+}
+
+impl ResidueMethod {
+    /// The name used on the command line and in JSON (`half`, `repeat`).
+    pub fn name(self) -> &'static str {
+        match self {
+            ResidueMethod::HalfCycles => "half",
+            ResidueMethod::Repeated => "repeat",
+        }
+    }
+}
+
+impl std::str::FromStr for ResidueMethod {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Self, String> {
+        match s.trim() {
+            "half" => Ok(ResidueMethod::HalfCycles),
+            "repeat" => Ok(ResidueMethod::Repeated),
+            other => Err(format!(
+                "invalid residue method {other:?}: expected half (ASTM E1049-85 half cycles) or repeat (the history repeats: close the residue)"
+            )),
+        }
+    }
+}
+
 /// Streaming rainflow counter.
 #[derive(Debug, Clone, Default)]
 pub struct Rainflow {
@@ -55,12 +106,24 @@ pub struct Rainflow {
     d_last: f64,
     last: f64,
     stack: Vec<(u64, f64)>,
+    method: ResidueMethod,
+    /// Starting points held back instead of counted as half cycles
+    /// ([`ResidueMethod::Repeated`] only): the head of the residue.
+    held: Vec<(u64, f64)>,
 }
 
 impl Rainflow {
-    /// An empty counter.
+    /// An empty counter that closes the residue as half cycles.
     pub fn new() -> Self {
         Self::default()
+    }
+
+    /// An empty counter that closes the residue by `method`.
+    pub fn with_residue(method: ResidueMethod) -> Self {
+        Rainflow {
+            method,
+            ..Self::default()
+        }
     }
 
     /// Adds one sample; closed cycles go to `sink`. NaN samples are skipped.
@@ -109,8 +172,12 @@ impl Rainflow {
                 break;
             }
             if k == 3 {
-                // Y holds the starting point: half a cycle, drop the start.
-                sink(cycle(self.stack[0], self.stack[1], 0.5));
+                // Y holds the starting point: half a cycle, drop the start
+                // (held as the residue's head when the history repeats).
+                match self.method {
+                    ResidueMethod::HalfCycles => sink(cycle(self.stack[0], self.stack[1], 0.5)),
+                    ResidueMethod::Repeated => self.held.push(self.stack[0]),
+                }
                 self.stack.remove(0);
             } else {
                 sink(cycle(self.stack[k - 3], self.stack[k - 2], 1.0));
@@ -120,20 +187,92 @@ impl Rainflow {
     }
 
     /// Ends the series: the last sample is a reversal, and the residue is
-    /// counted as half cycles.
+    /// counted by the counter's [`ResidueMethod`].
     pub fn finish(mut self, sink: &mut impl FnMut(Cycle)) {
         if self.n >= 2 {
             self.reversal((self.n - 1, self.last), sink);
         }
-        for w in self.stack.windows(2) {
-            sink(cycle(w[0], w[1], 0.5));
+        match self.method {
+            ResidueMethod::HalfCycles => {
+                for w in self.stack.windows(2) {
+                    sink(cycle(w[0], w[1], 0.5));
+                }
+            }
+            ResidueMethod::Repeated => {
+                let mut residue = std::mem::take(&mut self.held);
+                residue.extend_from_slice(&self.stack);
+                close_repeated(&residue, sink);
+            }
         }
     }
 
     /// Reversals currently held in the residue.
     pub fn residue_len(&self) -> usize {
-        self.stack.len()
+        self.stack.len() + self.held.len()
     }
+}
+
+/// The full cycles that close a residue when the history repeats: ASTM
+/// E1049-85 5.4.5 (repeating histories) on the residue as a closed loop.
+/// The loop's turning points are rearranged to start at the point of
+/// largest magnitude and end with it again, then counted by the
+/// three-point rule with every counted range a full cycle.
+fn close_repeated(residue: &[(u64, f64)], sink: &mut impl FnMut(Cycle)) {
+    let loop_points = cyclic_turning_points(residue);
+    let Some(start) = (0..loop_points.len()).max_by(|&a, &b| {
+        // The first of equal magnitudes, for a deterministic start.
+        loop_points[a]
+            .1
+            .abs()
+            .total_cmp(&loop_points[b].1.abs())
+            .then(b.cmp(&a))
+    }) else {
+        return;
+    };
+    let n = loop_points.len();
+    let mut stack: Vec<(u64, f64)> = Vec::with_capacity(n + 1);
+    for k in 0..=n {
+        stack.push(loop_points[(start + k) % n]);
+        while stack.len() >= 3 {
+            let k = stack.len();
+            let (x1, x2, x3) = (stack[k - 3].1, stack[k - 2].1, stack[k - 1].1);
+            if (x3 - x2).abs() < (x2 - x1).abs() {
+                break;
+            }
+            sink(cycle(stack[k - 3], stack[k - 2], 1.0));
+            stack.drain(k - 3..k - 1);
+        }
+    }
+}
+
+/// The turning points of `points` read as a closed loop (the last point
+/// followed by the first): equal neighbours merged, points on a flank
+/// dropped. Fewer than two distinct values give no turning point.
+fn cyclic_turning_points(points: &[(u64, f64)]) -> Vec<(u64, f64)> {
+    let mut distinct: Vec<(u64, f64)> = Vec::with_capacity(points.len());
+    for &p in points {
+        if distinct.last().is_none_or(|q| q.1 != p.1) {
+            distinct.push(p);
+        }
+    }
+    while distinct.len() > 1 && distinct[0].1 == distinct[distinct.len() - 1].1 {
+        distinct.pop();
+    }
+    let n = distinct.len();
+    if n < 2 {
+        return Vec::new();
+    }
+    (0..n)
+        .filter(|&i| {
+            let (prev, here, next) = (
+                distinct[(i + n - 1) % n].1,
+                distinct[i].1,
+                distinct[(i + 1) % n].1,
+            );
+            (here - prev) * (next - here) < 0.0
+        })
+        .map(|i| distinct[i])
+        .collect()
 }
 
 /// All cycles of a series (convenience for short series and tests).
@@ -189,6 +328,12 @@ impl DamageEquivalent {
         self.cycles
     }
 
+    /// The Palmgren–Miner sum `Σ nᵢ·Sᵢ^m` so far (damage up to the constant
+    /// of the S–N curve).
+    pub fn sum(&self) -> f64 {
+        self.sum
+    }
+
     /// The range that, applied `n_eq` times, does the same damage.
     pub fn range(&self, n_eq: f64) -> f64 {
         (self.sum / n_eq).powf(1.0 / self.m)
@@ -238,9 +383,26 @@ impl RangeMeanTable {
         *self.cells.entry(key).or_insert(0.0) += c.count;
     }
 
+    /// Adds `count` cycles to the cell with range index `range_k` and mean
+    /// index `mean_k` (bins `[k·w, (k+1)·w)`).
+    pub fn add_to_cell(&mut self, range_k: i64, mean_k: i64, count: f64) {
+        *self.cells.entry((range_k, mean_k)).or_insert(0.0) += count;
+    }
+
     /// Total cycles in the table.
     pub fn total(&self) -> f64 {
         self.cells.values().sum()
+    }
+
+    /// The bin widths (range, mean).
+    pub fn bins(&self) -> (f64, f64) {
+        (self.range_bin, self.mean_bin)
+    }
+
+    /// The occupied cells `((range index, mean index), cycles)`, ascending
+    /// by range then mean.
+    pub fn cells(&self) -> impl Iterator<Item = ((i64, i64), f64)> + '_ {
+        self.cells.iter().map(|(k, n)| (*k, *n))
     }
 
     /// Writes `range_lower,range_upper,mean_lower,mean_upper,cycles` rows,
@@ -413,5 +575,85 @@ mod tests {
             .sum();
         assert_eq!(sum, 4.0);
         assert!(RangeMeanTable::new(0.0, 1.0).is_err());
+    }
+
+    /// All cycles of a series counted with `method`.
+    fn count_with(series: &[f64], method: ResidueMethod) -> Vec<Cycle> {
+        let mut out = Vec::new();
+        let mut rf = Rainflow::with_residue(method);
+        let mut sink = |c: Cycle| out.push(c);
+        for &x in series {
+            rf.push(x, &mut sink);
+        }
+        rf.finish(&mut sink);
+        out
+    }
+
+    #[test]
+    fn a_repeated_block_closes_its_residue_by_hand() {
+        // The ASTM E1049-85 Fig. 6 history −2, 1, −3, 5, −1, 3, −4, 4, −2
+        // taken as a block that repeats. Its last point (−2) joins the next
+        // block's first (−2), so the loop's turning points are
+        // −2, 1, −3, 5, −1, 3, −4, 4. Worked by hand with E1049-85 5.4.5
+        // (repeating histories): start at the largest magnitude, 5, and end
+        // there: 5, −1, 3, −4, 4, −2, 1, −3, 5.
+        //   5, −1, 3:      X = 4 < Y = 6
+        //   −1, 3, −4:     X = 7 ≥ Y = 4   → count −1..3: range 4, mean 1
+        //   5, −4, 4:      X = 8 < Y = 9
+        //   4, −2, 1:      X = 3 < Y = 6
+        //   −2, 1, −3:     X = 4 ≥ Y = 3   → count −2..1: range 3, mean −0.5
+        //   −4, 4, −3:     X = 7 < Y = 8
+        //   4, −3, 5:      X = 8 ≥ Y = 7   → count 4..−3: range 7, mean 0.5
+        //   5, −4, 5:      X = 9 ≥ Y = 9   → count 5..−4: range 9, mean 0.5
+        // One repetition: four full cycles, ranges 3, 4, 7, 9 (against the
+        // single-pass count ½·3 + 1½·4 + ½·6 + 1·8 + ½·9 of Fig. 6: the same
+        // 4 cycles, but the residue's 6, 8 and 9 halves pair into 7 and 9).
+        let block = [-2.0, 1.0, -3.0, 5.0, -1.0, 3.0, -4.0, 4.0, -2.0];
+        let cycles = count_with(&block, ResidueMethod::Repeated);
+        assert!(cycles.iter().all(|c| c.count == 1.0), "{cycles:?}");
+        let mut got: Vec<(f64, f64)> = cycles.iter().map(|c| (c.range, c.mean)).collect();
+        got.sort_by(|a, b| a.0.total_cmp(&b.0));
+        assert_eq!(got, vec![(3.0, -0.5), (4.0, 1.0), (7.0, 0.5), (9.0, 0.5)]);
+        // Half cycles (the default) keep the Fig. 6 count.
+        assert_eq!(
+            by_range(&count_with(&block, ResidueMethod::HalfCycles)),
+            vec![(3.0, 0.5), (4.0, 1.5), (6.0, 0.5), (8.0, 1.0), (9.0, 0.5)]
+        );
+    }
+
+    #[test]
+    fn the_closed_residue_is_what_each_further_repetition_adds() {
+        // Independent of the closing rule: count the block repeated 2 and 3
+        // times in one pass (ASTM E1049-85 5.4.4, half cycles); the third
+        // block adds exactly one repetition's cycles, which the repeated
+        // count of a single block must equal range for range.
+        let mut rng = ChaCha8Rng::seed_from_u64(77);
+        for case in 0..40 {
+            let n = 5 + case * 7;
+            let block: Vec<f64> = (0..n)
+                .map(|_| {
+                    if case % 2 == 0 {
+                        rng.random_range(-10.0..10.0)
+                    } else {
+                        rng.random_range(-3i32..=3) as f64
+                    }
+                })
+                .collect();
+            let twice: Vec<f64> = block.iter().chain(&block).copied().collect();
+            let thrice: Vec<f64> = twice.iter().chain(&block).copied().collect();
+            let mut added: BTreeMap<u64, f64> = BTreeMap::new();
+            for c in count_cycles(&thrice) {
+                *added.entry(c.range.to_bits()).or_insert(0.0) += c.count;
+            }
+            for c in count_cycles(&twice) {
+                *added.entry(c.range.to_bits()).or_insert(0.0) -= c.count;
+            }
+            added.retain(|_, n| *n != 0.0);
+            let mut ours: BTreeMap<u64, f64> = BTreeMap::new();
+            for c in count_with(&block, ResidueMethod::Repeated) {
+                *ours.entry(c.range.to_bits()).or_insert(0.0) += c.count;
+            }
+            assert_eq!(ours, added, "case {case}: block {block:?}");
+        }
     }
 }
