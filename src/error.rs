@@ -24,6 +24,9 @@ pub enum Error {
     /// A measured acceleration record or its evaluation was refused.
     #[error(transparent)]
     Comfort(#[from] crate::comfort::ComfortError),
+    /// A usage file, a partial result or a case of a lifetime run was refused.
+    #[error(transparent)]
+    Lifetime(#[from] crate::lifetime::LifetimeError),
     /// A command-line value was malformed (option name and value in the text).
     #[error("{0}")]
     Usage(String),
@@ -74,6 +77,7 @@ impl Error {
             Error::Solve(e) => e.exit_status(),
             Error::Export(e) => e.exit_status(),
             Error::Comfort(e) => e.exit_status(),
+            Error::Lifetime(e) => e.exit_status(),
             Error::Usage(_) => 2,
             Error::CasesFailed { .. } => 1,
         }

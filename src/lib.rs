@@ -13,6 +13,7 @@
 //! | [`pipeline`] | one simulation run end to end: road → solver → evaluators → summary |
 //! | [`batch`] | sweeps of speed × road class × seed, sharding, parallel execution |
 //! | [`design`] | design studies: vehicle-file variants (`--vary`), trade-offs and the Pareto set, tuning |
+//! | [`lifetime`] | lifetime load spectra: a usage file of road, speed and load parts, counts scaled to the life |
 //! | [`report`] | tables, JSON, CSV and SVG output; atomic file writes |
 //!
 //! # Conventions
@@ -30,6 +31,7 @@ pub mod batch;
 pub mod comfort;
 pub mod design;
 pub mod error;
+pub mod lifetime;
 pub mod pipeline;
 pub mod report;
 pub mod road;

@@ -9,6 +9,7 @@ use clap::{Parser, Subcommand};
 mod classify;
 mod comfort;
 mod frf;
+mod lifetime;
 mod modes;
 mod options;
 mod plot;
@@ -53,6 +54,8 @@ pub enum Command {
     Classify(classify::Args),
     /// ISO 2631-1 comfort and health evaluation of a measured acceleration record.
     Comfort(comfort::Args),
+    /// A vehicle's life from a usage file: load spectra, damage shares per part, time past the stops.
+    Lifetime(lifetime::Args),
     /// Natural frequencies, damping ratios, mode shapes and nodes; ride frequencies and flat-ride guidance.
     Modes(modes::Args),
     /// Frequency response to road elevation (and a body force): magnitude and phase per output, as CSV.
@@ -71,6 +74,7 @@ pub fn run(cli: Cli) -> Result<(), roughride::Error> {
         Command::Classify(args) => classify::run(args),
         Command::Comfort(a) => comfort::run(a),
         Command::Sweep(a) => sweep::run(a),
+        Command::Lifetime(a) => lifetime::run(a),
         Command::Plot(a) => plot::run(a),
     }
 }

@@ -243,7 +243,7 @@ fn cases_failed(r: &roughride::batch::SweepReport) -> Option<Error> {
 
 /// A progress bar on stderr when stderr is a terminal, hidden otherwise
 /// (so logs of scripts and job arrays stay clean).
-fn progress_bar(len: u64) -> indicatif::ProgressBar {
+pub(super) fn progress_bar(len: u64) -> indicatif::ProgressBar {
     if !std::io::stderr().is_terminal() {
         return indicatif::ProgressBar::hidden();
     }

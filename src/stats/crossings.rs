@@ -187,7 +187,9 @@ mod tests {
         let mut x = 0.0;
         let mut series = Vec::new();
         for _ in 0..5000 {
-            s = s.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+            s = s
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
             x += ((s >> 33) % 9) as f64 * 0.125 - 0.5;
             series.push(x);
         }
