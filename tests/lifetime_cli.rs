@@ -585,6 +585,18 @@ fn bad_usage_files_exit_2_naming_the_file_and_key_and_write_nothing() {
         err.contains("`target_km`") && err.contains("line 1"),
         "{err}"
     );
+    // An output onto an input (here the usage file itself) is refused before running.
+    let before = read(&target);
+    let (_, err, code) = run(&[
+        "lifetime",
+        "--usage",
+        target.to_str().unwrap(),
+        "--matrix",
+        target.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("--matrix"), "{err}");
+    assert_eq!(read(&target), before);
     let names: Vec<_> = std::fs::read_dir(dir.path())
         .unwrap()
         .map(|e| e.unwrap().file_name())

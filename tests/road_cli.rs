@@ -216,7 +216,10 @@ fn profile_to_an_unwritable_place_fails_and_leaves_no_file() {
         // the road is generated, as bad input.
         2,
     );
-    assert!(e.contains("road.csv") && e.contains("does not exist"), "{e}");
+    assert!(
+        e.contains("road.csv") && e.contains("does not exist"),
+        "{e}"
+    );
     assert!(!target.exists());
 }
 

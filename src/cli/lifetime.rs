@@ -15,8 +15,8 @@ use roughride::batch::ordered::Pool;
 use roughride::batch::values::{Shard, parse_duration_s};
 use roughride::lifetime::partial::{self, PartialWriter};
 use roughride::lifetime::spectra::{LifeReport, ReportSettings, TimeReport};
-use roughride::lifetime::{LifeTotals, Settings, cases, read_usage, run_cases};
-use roughride::report::{Table, io_error, json_line, sig, write_atomic};
+use roughride::lifetime::{CaseResult, LifeTotals, Settings, Usage, cases, read_usage, run_cases};
+use roughride::report::{FilePlan, Table, io_error, json_line, print_stdout, sig, write_atomic};
 use roughride::stats::ResidueMethod;
 
 /// Combine road classes, speeds and distance shares into one load spectrum
@@ -130,7 +130,10 @@ struct ShardOutput {
 }
 
 pub fn run(a: Args) -> Result<(), Error> {
+    check_outputs(&a, &[])?;
     let usage = read_usage(&a.usage)?;
+    // The files the usage file names are inputs too.
+    check_outputs(&a, &usage.inputs)?;
     for w in &usage.warnings {
         eprintln!("roughride: warning: {w}");
     }
@@ -148,53 +151,9 @@ pub fn run(a: Args) -> Result<(), Error> {
         a.residue,
     );
     roughride::lifetime::cases::preflight(&usage, &settings)?;
-    let all = cases(&usage);
-    let sharded = a.shard != Shard::ALL;
-    if sharded && a.partial.is_none() {
-        return Err(Error::Usage(
-            "--shard needs --partial FILE: a shard writes its partial result, and --combine sums the shards' files".into(),
-        ));
-    }
-    let mut totals = LifeTotals::new(&usage, &settings);
-    if a.combine.is_empty() {
-        let bounds = a.shard.bounds(all.len());
-        let jobs = match a.jobs {
-            Some(0) => return Err(Error::Usage("--jobs must be at least 1".into())),
-            Some(n) => n,
-            None => std::thread::available_parallelism().map_or(1, |n| n.get()),
-        };
-        let pool = Pool::new(jobs);
-        let progress = super::sweep::progress_bar((bounds.1 - bounds.0) as u64);
-        let mut add = |r: &roughride::lifetime::CaseResult| {
-            if !sharded {
-                totals.add(&usage, &all[r.index], r);
-            }
-            progress.inc(1);
-        };
-        match &a.partial {
-            Some(path) => write_atomic(path, |w| {
-                let mut out = PartialWriter::start(w, path, &usage, &settings, all.len(), bounds)?;
-                run_cases(&usage, &settings, bounds, &pool, |r| {
-                    out.case(&r)?;
-                    add(&r);
-                    Ok(())
-                })
-            })?,
-            None => run_cases(&usage, &settings, bounds, &pool, |r| {
-                add(&r);
-                Ok(())
-            })?,
-        }
-        progress.finish_and_clear();
-        if sharded {
-            return print_shard(&a, bounds, all.len());
-        }
-    } else {
-        partial::combine(&a.combine, &usage, &settings, all.len(), |r| {
-            totals.add(&usage, &all[r.index], &r);
-            Ok(())
-        })?;
-    }
+    let Some(totals) = run_or_combine(&a, &usage, &settings)? else {
+        return Ok(());
+    };
     let report = totals.report(
         &usage,
         &settings,
@@ -209,18 +168,87 @@ pub fn run(a: Args) -> Result<(), Error> {
         eprintln!("roughride: note: {w}");
     }
     if a.json {
-        print!("{}", json_line(&report, "lifetime summary")?);
+        print_stdout(&json_line(&report, "lifetime summary")?)?;
     } else {
-        print!("{}", render(&report));
+        print_stdout(&render(&report))?;
     }
     Ok(())
 }
 
-fn write_files(
+/// Refuses outputs that are one of the inputs (the usage file, the
+/// partial files to combine, `more`) or each other.
+fn check_outputs(a: &Args, more: &[PathBuf]) -> Result<(), Error> {
+    FilePlan::new()
+        .input("--usage", &a.usage)
+        .inputs("--combine", &a.combine)
+        .inputs("a file the usage file names", more)
+        .output("--matrix", a.matrix.as_deref())
+        .output("--exceedance", a.exceedance.as_deref())
+        .output("--crossings", a.crossings.as_deref())
+        .output("--partial", a.partial.as_deref())
+        .check()?;
+    Ok(())
+}
+
+/// Runs the cases (all, or a shard's) or combines partial files; the
+/// life's totals, or `None` for a shard (whose result is its partial file).
+fn run_or_combine(
     a: &Args,
-    totals: &LifeTotals,
-    usage: &roughride::lifetime::Usage,
-) -> Result<(), Error> {
+    usage: &Usage,
+    settings: &Settings,
+) -> Result<Option<LifeTotals>, Error> {
+    let all = cases(usage);
+    let mut totals = LifeTotals::new(usage, settings);
+    if !a.combine.is_empty() {
+        partial::combine(&a.combine, usage, settings, all.len(), |r| {
+            totals.add(usage, &all[r.index], &r);
+            Ok(())
+        })?;
+        return Ok(Some(totals));
+    }
+    let sharded = a.shard != Shard::ALL;
+    if sharded && a.partial.is_none() {
+        return Err(Error::Usage(
+            "--shard needs --partial FILE: a shard writes its partial result, and --combine sums the shards' files".into(),
+        ));
+    }
+    let bounds = a.shard.bounds(all.len());
+    let jobs = match a.jobs {
+        Some(0) => return Err(Error::Usage("--jobs must be at least 1".into())),
+        Some(n) => n,
+        None => std::thread::available_parallelism().map_or(1, |n| n.get()),
+    };
+    let pool = Pool::new(jobs);
+    let progress = super::sweep::progress_bar((bounds.1 - bounds.0) as u64);
+    let mut add = |r: &CaseResult| {
+        if !sharded {
+            totals.add(usage, &all[r.index], r);
+        }
+        progress.inc(1);
+    };
+    match &a.partial {
+        Some(path) => write_atomic(path, |w| {
+            let mut out = PartialWriter::start(w, path, usage, settings, all.len(), bounds)?;
+            run_cases(usage, settings, bounds, &pool, |r| {
+                out.case(&r)?;
+                add(&r);
+                Ok(())
+            })
+        })?,
+        None => run_cases(usage, settings, bounds, &pool, |r| {
+            add(&r);
+            Ok(())
+        })?,
+    }
+    progress.finish_and_clear();
+    if sharded {
+        print_shard(a, bounds, all.len())?;
+        return Ok(None);
+    }
+    Ok(Some(totals))
+}
+
+fn write_files(a: &Args, totals: &LifeTotals, usage: &Usage) -> Result<(), Error> {
     if let Some(path) = &a.matrix {
         write_atomic(path, |w| {
             totals.write_matrix(w).map_err(|e| io_error(path, e))
@@ -253,12 +281,12 @@ fn print_shard(a: &Args, bounds: (usize, usize), total: usize) -> Result<(), Err
         cases_total: total,
     };
     if a.json {
-        print!("{}", json_line(&out, "shard summary")?);
+        print_stdout(&json_line(&out, "shard summary")?)?;
     } else {
-        println!(
-            "shard {}: runs {}..{} of {} written to {} (combine every shard's file with --combine)",
+        print_stdout(&format!(
+            "shard {}: runs {}..{} of {} written to {} (combine every shard's file with --combine)\n",
             out.shard, bounds.0, bounds.1, total, out.partial
-        );
+        ))?;
     }
     Ok(())
 }

@@ -553,36 +553,7 @@ impl LifeTotals {
         let part = &usage.parts[p];
         let sums = &self.parts[p];
         let km = usage.target_km * part.share;
-        let axle = |a: usize| {
-            let load = |q: usize| {
-                let mine = &sums.counts.loads[a][q];
-                let all = &self.total.loads[a][q];
-                PartLoadReport {
-                    cycles: mine.matrix.total(),
-                    damage_equivalent_range: ByExponent(equivalent_ranges(
-                        &mine.damage,
-                        settings,
-                        rs,
-                    )),
-                    damage_share: ByExponent(
-                        rs.exponent_names
-                            .iter()
-                            .zip(mine.damage.iter().zip(&all.damage))
-                            .map(|(k, (d, t))| (k.clone(), if *t > 0.0 { d / t } else { 0.0 }))
-                            .collect(),
-                    ),
-                }
-            };
-            let t = &sums.counts.times[a];
-            PartAxleReport {
-                travel: load(0),
-                force: load(1),
-                tyre_load: load(2),
-                time_past_bump: t.bump_s.map(|s| time(s, km)),
-                time_past_rebound: t.rebound_s.map(|s| time(s, km)),
-                time_off_ground: time(t.off_ground_s, km),
-            }
-        };
+        let axle = |a: usize| self.part_axle(p, a, km, settings, rs);
         let vehicle = &usage.vehicles[part.vehicle];
         PartReport {
             name: part.name.clone(),
@@ -612,6 +583,42 @@ impl LifeTotals {
                 .zip(&sums.seats)
                 .map(|(seat, s)| seat_report(&seat.name, s, rs.exposure_s))
                 .collect(),
+        }
+    }
+
+    /// Axle `a` on part `p` (`km` of the life).
+    fn part_axle(
+        &self,
+        p: usize,
+        a: usize,
+        km: f64,
+        settings: &Settings,
+        rs: &ReportSettings,
+    ) -> PartAxleReport {
+        let counts = &self.parts[p].counts;
+        let load = |q: usize| {
+            let mine = &counts.loads[a][q];
+            let all = &self.total.loads[a][q];
+            PartLoadReport {
+                cycles: mine.matrix.total(),
+                damage_equivalent_range: ByExponent(equivalent_ranges(&mine.damage, settings, rs)),
+                damage_share: ByExponent(
+                    rs.exponent_names
+                        .iter()
+                        .zip(mine.damage.iter().zip(&all.damage))
+                        .map(|(k, (d, t))| (k.clone(), if *t > 0.0 { d / t } else { 0.0 }))
+                        .collect(),
+                ),
+            }
+        };
+        let t = &counts.times[a];
+        PartAxleReport {
+            travel: load(0),
+            force: load(1),
+            tyre_load: load(2),
+            time_past_bump: t.bump_s.map(|s| time(s, km)),
+            time_past_rebound: t.rebound_s.map(|s| time(s, km)),
+            time_off_ground: time(t.off_ground_s, km),
         }
     }
 

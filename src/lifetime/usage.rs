@@ -54,6 +54,9 @@ pub struct Usage {
     pub vehicles: Vec<UsageVehicle>,
     /// Warnings from reading the inputs (e.g. a profile's).
     pub warnings: Vec<String>,
+    /// Every file read besides the usage file (vehicles, profiles), as
+    /// resolved from the usage file's folder.
+    pub inputs: Vec<PathBuf>,
     /// FNV-1a hash of the usage file, the vehicle files and the profiles'
     /// values: partial results of other inputs are refused.
     pub fingerprint: u64,
@@ -233,6 +236,7 @@ pub fn parse_usage(text: &str, path: &Path) -> Result<Usage, LifetimeError> {
         vehicles: Vec::new(),
         vehicle_texts: Vec::new(),
         warnings: Vec::new(),
+        inputs: Vec::new(),
         hash: Fnv1a::new(),
     };
     reader.hash.bytes(text.as_bytes());
@@ -266,6 +270,7 @@ pub fn parse_usage(text: &str, path: &Path) -> Result<Usage, LifetimeError> {
         fingerprint: reader.hash.finish(),
         vehicles: reader.vehicles,
         warnings: reader.warnings,
+        inputs: reader.inputs,
     })
 }
 
@@ -276,6 +281,7 @@ struct Reader<'a> {
     vehicles: Vec<UsageVehicle>,
     vehicle_texts: Vec<String>,
     warnings: Vec<String>,
+    inputs: Vec<PathBuf>,
     hash: Fnv1a,
 }
 
@@ -343,24 +349,7 @@ impl Reader<'_> {
             || format!("part {}", i + 1),
             |n| n.get_ref().trim().to_string(),
         );
-        let share = match (&part.share, &part.km) {
-            (Some(s), None) => self.positive(s, &key("share"), "a fraction of target_km")?,
-            (None, Some(km)) => self.positive(km, &key("km"), "a distance in km")? / target_km,
-            (Some(_), Some(km)) => {
-                return Err(self.invalid(
-                    Some(km.span()),
-                    &key("km"),
-                    "is given beside share: give one of them",
-                ));
-            }
-            (None, None) => {
-                return Err(self.invalid(
-                    span,
-                    &key("share"),
-                    "is missing: give share (a fraction of target_km) or km",
-                ));
-            }
-        };
+        let share = self.share(i, part, span.clone(), target_km)?;
         let speeds = self.speeds(i, part, span.clone(), normalise)?;
         let road = self.road(i, part, span.clone())?;
         let vehicle = match part.vehicle.as_ref().or(raw.vehicle.as_ref()) {
@@ -391,6 +380,31 @@ impl Reader<'_> {
         Ok(part)
     }
 
+    /// `share`, or `km` as a share of `target_km`.
+    fn share(
+        &self,
+        i: usize,
+        part: &RawPart,
+        span: Option<std::ops::Range<usize>>,
+        target_km: f64,
+    ) -> Result<f64, LifetimeError> {
+        let key = |k: &str| format!("part[{i}].{k}");
+        match (&part.share, &part.km) {
+            (Some(s), None) => self.positive(s, &key("share"), "a fraction of target_km"),
+            (None, Some(km)) => Ok(self.positive(km, &key("km"), "a distance in km")? / target_km),
+            (Some(_), Some(km)) => Err(self.invalid(
+                Some(km.span()),
+                &key("km"),
+                "is given beside share: give one of them",
+            )),
+            (None, None) => Err(self.invalid(
+                span,
+                &key("share"),
+                "is missing: give share (a fraction of target_km) or km",
+            )),
+        }
+    }
+
     fn speeds(
         &self,
         i: usize,
@@ -398,60 +412,17 @@ impl Reader<'_> {
         span: Option<std::ops::Range<usize>>,
         normalise: bool,
     ) -> Result<Vec<PartSpeed>, LifetimeError> {
-        let parse = |s: &RawSpeed, key: String, at: std::ops::Range<usize>| {
-            let text = match s {
-                RawSpeed::Text(t) => t.clone(),
-                RawSpeed::Number(x) => format!("{x}"),
-            };
-            parse_speed_m_s(&text)
-                .map(|speed_m_s| (text, speed_m_s))
-                .map_err(|e| self.invalid(Some(at), &key, e.to_string()))
-        };
         match (&part.speed, &part.speeds) {
             (Some(s), None) => {
-                let (text, speed_m_s) = parse(s.get_ref(), format!("part[{i}].speed"), s.span())?;
+                let (text, speed_m_s) =
+                    self.speed(s.get_ref(), &format!("part[{i}].speed"), s.span())?;
                 Ok(vec![PartSpeed {
                     text,
                     speed_m_s,
                     share: 1.0,
                 }])
             }
-            (None, Some(list)) => {
-                let key = format!("part[{i}].speeds");
-                if list.get_ref().is_empty() {
-                    return Err(self.invalid(Some(list.span()), &key, "is empty"));
-                }
-                let mut out = Vec::new();
-                for (j, s) in list.get_ref().iter().enumerate() {
-                    let (text, speed_m_s) = parse(&s.speed, format!("{key}[{j}].speed"), list.span())?;
-                    if !(s.share.is_finite() && s.share > 0.0) {
-                        return Err(self.invalid(
-                            Some(list.span()),
-                            &format!("{key}[{j}].share"),
-                            format!("must be positive and finite, got {}", s.share),
-                        ));
-                    }
-                    out.push(PartSpeed {
-                        text,
-                        speed_m_s,
-                        share: s.share,
-                    });
-                }
-                let sum: f64 = out.iter().map(|s| s.share).sum();
-                if normalise {
-                    out.iter_mut().for_each(|s| s.share /= sum);
-                } else if (sum - 1.0).abs() > SHARE_TOLERANCE {
-                    return Err(self.invalid(
-                        Some(list.span()),
-                        &format!("{key}[].share"),
-                        format!(
-                            "adds up to {sum} ({}), not 1: correct the shares, or set normalise = true at the top of the file",
-                            out.iter().map(|s| format!("{} {}", s.text, s.share)).collect::<Vec<_>>().join(" + ")
-                        ),
-                    ));
-                }
-                Ok(out)
-            }
+            (None, Some(list)) => self.speed_list(i, list, normalise),
             (Some(_), Some(list)) => Err(self.invalid(
                 Some(list.span()),
                 &format!("part[{i}].speeds"),
@@ -465,6 +436,71 @@ impl Reader<'_> {
         }
     }
 
+    /// A speed as `--speed` takes it (a bare number is m/s).
+    fn speed(
+        &self,
+        s: &RawSpeed,
+        key: &str,
+        at: std::ops::Range<usize>,
+    ) -> Result<(String, f64), LifetimeError> {
+        let text = match s {
+            RawSpeed::Text(t) => t.clone(),
+            RawSpeed::Number(x) => format!("{x}"),
+        };
+        parse_speed_m_s(&text)
+            .map(|speed_m_s| (text, speed_m_s))
+            .map_err(|e| self.invalid(Some(at), key, e.to_string()))
+    }
+
+    /// `speeds = [{ speed, share }, …]`: shares positive, adding up to 1
+    /// (or scaled to 1 with `normalise`).
+    fn speed_list(
+        &self,
+        i: usize,
+        list: &Spanned<Vec<RawSpeedShare>>,
+        normalise: bool,
+    ) -> Result<Vec<PartSpeed>, LifetimeError> {
+        let key = format!("part[{i}].speeds");
+        if list.get_ref().is_empty() {
+            return Err(self.invalid(Some(list.span()), &key, "is empty"));
+        }
+        let mut out = Vec::new();
+        for (j, s) in list.get_ref().iter().enumerate() {
+            let (text, speed_m_s) =
+                self.speed(&s.speed, &format!("{key}[{j}].speed"), list.span())?;
+            if !(s.share.is_finite() && s.share > 0.0) {
+                return Err(self.invalid(
+                    Some(list.span()),
+                    &format!("{key}[{j}].share"),
+                    format!("must be positive and finite, got {}", s.share),
+                ));
+            }
+            out.push(PartSpeed {
+                text,
+                speed_m_s,
+                share: s.share,
+            });
+        }
+        let sum: f64 = out.iter().map(|s| s.share).sum();
+        if normalise {
+            out.iter_mut().for_each(|s| s.share /= sum);
+        } else if (sum - 1.0).abs() > SHARE_TOLERANCE {
+            let terms: Vec<String> = out
+                .iter()
+                .map(|s| format!("{} {}", s.text, s.share))
+                .collect();
+            return Err(self.invalid(
+                Some(list.span()),
+                &format!("{key}[].share"),
+                format!(
+                    "adds up to {sum} ({}), not 1: correct the shares, or set normalise = true at the top of the file",
+                    terms.join(" + ")
+                ),
+            ));
+        }
+        Ok(out)
+    }
+
     fn road(
         &mut self,
         i: usize,
@@ -474,52 +510,7 @@ impl Reader<'_> {
         let key = |k: &str| format!("part[{i}].{k}");
         match (&part.class, &part.profile) {
             (Some(c), None) => self.class_road(i, part, c),
-            (None, Some(p)) => {
-                for k in ["seeds", "first_seed", "length", "spacing"] {
-                    let given = match k {
-                        "seeds" => part.seeds.as_ref().map(Spanned::span),
-                        "first_seed" => part.first_seed.as_ref().map(Spanned::span),
-                        "length" => part.length.as_ref().map(Spanned::span),
-                        _ => part.spacing.as_ref().map(Spanned::span),
-                    };
-                    if let Some(at) = given {
-                        return Err(self.invalid(
-                            Some(at),
-                            &key(k),
-                            "belongs to a generated road (class); a profile file has its own length and spacing",
-                        ));
-                    }
-                }
-                let names = match p.get_ref() {
-                    OneOrMany::One(n) => vec![n.clone()],
-                    OneOrMany::Many(v) => v.clone(),
-                };
-                if names.is_empty() {
-                    return Err(self.invalid(Some(p.span()), &key("profile"), "is an empty list"));
-                }
-                let mut profiles = Vec::with_capacity(names.len());
-                for name in names {
-                    let (profile, warnings) =
-                        read_profile_csv(&self.resolve(&name)).map_err(|e| {
-                            LifetimeError::Input {
-                                path: self.path.to_path_buf(),
-                                line: Some(self.line_of(p.span())),
-                                key: key("profile"),
-                                source: Box::new(e.into()),
-                            }
-                        })?;
-                    self.warnings
-                        .extend(warnings.into_iter().map(|w| format!("{name}: {w}")));
-                    self.hash.f64(profile.start_m);
-                    self.hash.f64(profile.spacing_m);
-                    profile.elevation_m.iter().for_each(|z| self.hash.f64(*z));
-                    profiles.push(PartProfile {
-                        label: name,
-                        profile: Arc::new(profile),
-                    });
-                }
-                Ok(PartRoad::Profiles(profiles))
-            }
+            (None, Some(p)) => self.profile_road(i, part, p),
             (Some(_), Some(p)) => Err(self.invalid(
                 Some(p.span()),
                 &key("profile"),
@@ -529,6 +520,80 @@ impl Reader<'_> {
                 span,
                 &key("class"),
                 "is missing: give class = \"C\" with seeds and length (m), or profile = \"FILE\"",
+            )),
+        }
+    }
+
+    /// `profile = "FILE"` or a list of files, read now.
+    fn profile_road(
+        &mut self,
+        i: usize,
+        part: &RawPart,
+        p: &Spanned<OneOrMany>,
+    ) -> Result<PartRoad, LifetimeError> {
+        let key = |k: &str| format!("part[{i}].{k}");
+        let generated = [
+            ("seeds", part.seeds.as_ref().map(Spanned::span)),
+            ("first_seed", part.first_seed.as_ref().map(Spanned::span)),
+            ("length", part.length.as_ref().map(Spanned::span)),
+            ("spacing", part.spacing.as_ref().map(Spanned::span)),
+        ];
+        if let Some((k, at)) = generated.into_iter().find(|g| g.1.is_some()) {
+            return Err(self.invalid(
+                at,
+                &key(k),
+                "belongs to a generated road (class); a profile file has its own length and spacing",
+            ));
+        }
+        let names = match p.get_ref() {
+            OneOrMany::One(n) => vec![n.clone()],
+            OneOrMany::Many(v) => v.clone(),
+        };
+        if names.is_empty() {
+            return Err(self.invalid(Some(p.span()), &key("profile"), "is an empty list"));
+        }
+        let mut profiles = Vec::with_capacity(names.len());
+        for name in names {
+            let file = self.resolve(&name);
+            let (profile, warnings) =
+                read_profile_csv(&file).map_err(|e| LifetimeError::Input {
+                    path: self.path.to_path_buf(),
+                    line: Some(self.line_of(p.span())),
+                    key: key("profile"),
+                    source: Box::new(e.into()),
+                })?;
+            self.warnings
+                .extend(warnings.into_iter().map(|w| format!("{name}: {w}")));
+            self.inputs.push(file);
+            self.hash.f64(profile.start_m);
+            self.hash.f64(profile.spacing_m);
+            profile.elevation_m.iter().for_each(|z| self.hash.f64(*z));
+            profiles.push(PartProfile {
+                label: name,
+                profile: Arc::new(profile),
+            });
+        }
+        Ok(PartRoad::Profiles(profiles))
+    }
+
+    /// A whole-number key of at least `min` (`default` when absent).
+    fn count(
+        &self,
+        v: &Option<Spanned<i64>>,
+        key: &str,
+        default: i64,
+        min: i64,
+    ) -> Result<u64, LifetimeError> {
+        match v {
+            None => Ok(default as u64),
+            Some(s) if *s.get_ref() >= min => Ok(*s.get_ref() as u64),
+            Some(s) => Err(self.invalid(
+                Some(s.span()),
+                key,
+                format!(
+                    "must be a whole number of at least {min}, got {}",
+                    s.get_ref()
+                ),
             )),
         }
     }
@@ -546,20 +611,8 @@ impl Reader<'_> {
             .map_err(|e: crate::road::ProfileError| {
                 self.invalid(Some(c.span()), &key("class"), e.to_string())
             })?;
-        let count = |v: &Option<Spanned<i64>>, k: &str, default: i64, min: i64| match v {
-            None => Ok(default),
-            Some(s) if *s.get_ref() >= min => Ok(*s.get_ref()),
-            Some(s) => Err(self.invalid(
-                Some(s.span()),
-                &key(k),
-                format!(
-                    "must be a whole number of at least {min}, got {}",
-                    s.get_ref()
-                ),
-            )),
-        };
-        let seeds = count(&part.seeds, "seeds", 1, 1)? as u64;
-        let first_seed = count(&part.first_seed, "first_seed", 1, 0)? as u64;
+        let seeds = self.count(&part.seeds, &key("seeds"), 1, 1)?;
+        let first_seed = self.count(&part.first_seed, &key("first_seed"), 1, 0)?;
         let length_m = match &part.length {
             Some(l) => self.positive(l, &key("length"), "the length of each road in m")?,
             None => {
@@ -623,6 +676,7 @@ impl Reader<'_> {
         })?;
         let vehicle = parse_vehicle(&text, &file).map_err(|e| fail(e.into()))?;
         self.vehicles.push(UsageVehicle { label, vehicle });
+        self.inputs.push(file);
         self.vehicle_texts.push(text);
         Ok(self.vehicles.len() - 1)
     }
