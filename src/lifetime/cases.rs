@@ -170,8 +170,8 @@ pub struct CaseResult {
     pub solver: String,
     /// Why the exact solver handed over to the adaptive one, if it did.
     pub fallback: Option<String>,
-    /// Samples in which a bonded tyre pulled on the road (front, rear; exact solver only).
-    pub bonded_pull_samples: [u64; 2],
+    /// Samples in which the exact solver's bonded tyre was in tension (front, rear).
+    pub tyre_tension_samples: [u64; 2],
     /// Front, rear.
     pub axles: Vec<AxleCounts>,
     /// One per seat of the case's vehicle, in file order.
@@ -249,7 +249,7 @@ impl CaseResult {
                 SolverKind::Adaptive => "adaptive".into(),
             },
             fallback: summary.solver.fallback.clone(),
-            bonded_pull_samples: summary.solver.bonded_pull_samples,
+            tyre_tension_samples: summary.solver.bonded_pull_samples,
             axles,
             seats: summary
                 .seats

@@ -163,7 +163,7 @@ pub struct LifeTotals {
     cases: usize,
     simulated_m: f64,
     fallbacks: usize,
-    bonded_pulls: [u64; 2],
+    tyre_tension: [u64; 2],
 }
 
 impl LifeTotals {
@@ -184,7 +184,7 @@ impl LifeTotals {
             cases: 0,
             simulated_m: 0.0,
             fallbacks: 0,
-            bonded_pulls: [0; 2],
+            tyre_tension: [0; 2],
         }
     }
 
@@ -209,7 +209,7 @@ impl LifeTotals {
         self.cases += 1;
         self.simulated_m += r.length_m;
         self.fallbacks += usize::from(r.fallback.is_some());
-        for (b, n) in self.bonded_pulls.iter_mut().zip(r.bonded_pull_samples) {
+        for (b, n) in self.tyre_tension.iter_mut().zip(r.tyre_tension_samples) {
             *b += n;
         }
     }
@@ -630,10 +630,10 @@ impl LifeTotals {
                 self.fallbacks, self.cases
             ));
         }
-        for (axle, n) in AXLE_NAMES.iter().zip(self.bonded_pulls) {
+        for (axle, n) in AXLE_NAMES.iter().zip(self.tyre_tension) {
             if n > 0 {
                 w.push(format!(
-                    "the exact solver keeps tyres bonded to the road; the {axle} tyre pulled on the road in {n} samples, where a real tyre would have lifted off (use --solver auto or adaptive for that)"
+                    "the exact solver keeps tyres bonded to the road; the {axle} tyre was in tension (pulling the wheel onto the road) in {n} samples over the runs, where a real tyre would have lifted off (use --solver auto or adaptive for that)"
                 ));
             }
         }
