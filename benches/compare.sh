@@ -85,7 +85,8 @@ for rep in $(seq 1 "$REPS"); do
     fi
 done
 load_after=$(cut -d' ' -f1-3 /proc/loadavg 2>/dev/null || echo "?")
-cp "$WORK/roughride.json" "$OUT/roughride-$TAG.json"
+# The scratch folder is the machine's own: results name the profile as road.csv.
+sed "s#$WORK/##g" "$WORK/roughride.json" >"$OUT/roughride-$TAG.json"
 cp "$WORK/scipy.json" "$OUT/scipy-$TAG.json"
 
 python3 - "$OUT" <<EOF

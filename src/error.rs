@@ -2,7 +2,7 @@
 //! typed error with the file, line, key or value that was wrong.
 //!
 //! The binary maps [`Error::exit_status`] to the process exit code: 2 for
-//! bad input or usage, 1 for anything else (contract, `interface.md`).
+//! bad input or usage, 1 for anything else (the documented interface; README).
 
 use thiserror::Error as ThisError;
 

@@ -63,7 +63,8 @@ impl RunOptions {
     }
 }
 
-/// The result of one run (the contract's `simulate --json` object).
+/// The result of one run (the documented `simulate --json` object,
+/// `profiles/reference.md`).
 #[derive(Debug, Clone, Serialize)]
 pub struct RunSummary {
     /// Vehicle name.

@@ -1,6 +1,6 @@
 //! The bad-input table: malformed files and option values, each with the
-//! message fragment it must produce and exit status 2 (contract:
-//! shared/interface.md, "2 for bad input or usage"). No input may make the
+//! message fragment it must produce and exit status 2 (the documented
+//! interface: "2 for bad input or usage"). No input may make the
 //! tool panic, and no output file may appear.
 
 mod common;
@@ -473,4 +473,21 @@ fn every_bad_input_exits_2_with_a_message_that_names_the_problem() {
         CASES.len() + CAR_EDITS.len(),
         failures.join("\n")
     );
+}
+
+/// README.md and DEVELOPERS.md say how many malformed inputs this table
+/// holds; the number comes from here (add a case, then the two documents).
+#[test]
+fn the_documents_state_the_number_of_bad_inputs_in_this_table() {
+    let n = CASES.len() + CAR_EDITS.len();
+    for doc in ["README.md", "DEVELOPERS.md"] {
+        let text = common::read(&common::root().join(doc));
+        let pieces: Vec<&str> = text.split(" malformed inputs").collect();
+        let stated: Vec<&str> = pieces[..pieces.len() - 1]
+            .iter()
+            .filter_map(|before| before.rsplit(' ').next())
+            .filter(|w| w.parse::<usize>().is_ok())
+            .collect();
+        assert_eq!(stated, [n.to_string()], "{doc}: the bad-input count");
+    }
 }

@@ -1,5 +1,5 @@
 //! `roughride comfort` driven as a user would: records written to a scratch
-//! directory, the JSON keys of the contract (shared/interface.md), the human
+//! directory, the documented JSON keys (profiles/reference.md), the human
 //! table with its caution, and bad input (exit status 2, file/line/column in
 //! the message).
 
@@ -41,7 +41,7 @@ fn num(v: &serde_json::Value, key: &str) -> f64 {
 }
 
 #[test]
-fn a_sine_record_gives_the_contract_keys_and_the_table_3_value() {
+fn a_sine_record_gives_the_documented_keys_and_the_table_3_value() {
     let dir = tempfile::tempdir().unwrap();
     let f = record(dir.path(), "seat.csv", "az", 1000.0, 30_000, |t| {
         (2.0 * PI * 8.0 * t).sin()
@@ -55,7 +55,7 @@ fn a_sine_record_gives_the_contract_keys_and_the_table_3_value() {
         "mtvv",
         "crest_factor",
     ] {
-        assert!(!v[key].is_null(), "contract key {key} in {v}");
+        assert!(!v[key].is_null(), "documented key {key} in {v}");
     }
     assert_eq!(v["weighting"], "Wk");
     // ISO 2631-1 Table 3: Wk(8 Hz) = 1.036, so aw = 1.036/√2 for a unit sine (3 %).

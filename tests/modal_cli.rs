@@ -1,5 +1,5 @@
 //! `roughride modes` and `roughride frf` through the built binary: the
-//! contract's JSON keys, closed-form values where they exist, the CSV
+//! documented JSON keys, closed-form values where they exist, the CSV
 //! layout, and errors that name the option (exit status 2).
 
 mod common;
@@ -16,7 +16,7 @@ fn json_of(out: &[u8]) -> Value {
 }
 
 #[test]
-fn modes_json_has_the_contract_keys_in_ascending_order() {
+fn modes_json_has_the_documented_keys_in_ascending_order() {
     let out = common::roughride()
         .args(["modes", "--json", "--vehicle"])
         .arg(common::demo("vehicles/demo_hatchback.toml"))
@@ -169,4 +169,40 @@ fn frf_errors_name_the_option_and_exit_2() {
             .code(2)
             .stderr(predicate::str::contains(word));
     }
+}
+
+#[test]
+fn frf_frequencies_print_as_written() {
+    let out = common::roughride()
+        .args([
+            "frf",
+            "--vehicle",
+            common::demo("vehicles/demo_hatchback.toml")
+                .to_str()
+                .unwrap(),
+            "--speed",
+            "20",
+            "--freqs",
+            "0.5:30:0.05",
+        ])
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    let text = String::from_utf8(out).unwrap();
+    let printed: Vec<&str> = text
+        .lines()
+        .skip(1)
+        .map(|l| l.split(',').next().unwrap())
+        .collect();
+    // 0.5, 0.55, …, 30 in hundredths, written out with integer arithmetic.
+    let expected: Vec<String> = (50..=3000)
+        .step_by(5)
+        .map(|h: u32| {
+            let s = format!("{}.{:02}", h / 100, h % 100);
+            s.trim_end_matches('0').trim_end_matches('.').to_string()
+        })
+        .collect();
+    assert_eq!(printed, expected);
 }

@@ -201,6 +201,10 @@ fn energy_is_dissipated_not_created_after_a_bump() {
     // Once both axles are past the bump the road is flat and there is no
     // input: the dampers can only remove energy, so the mechanical energy
     // never rises (to solver tolerance). Stops and asymmetric dampers engaged.
+    // Source: the energy balance of a passive mechanical system, dE/dt =
+    // −Σ cᵢ vᵢ² ≤ 0 with springs and stops storing energy and dampers
+    // dissipating it (Rayleigh's dissipation function, "The Theory of
+    // Sound", 1877; from memory, as in any vibration textbook).
     let v = van();
     let road = bump_road(0.10, 1.5, 40.0);
     let speed = 8.0;

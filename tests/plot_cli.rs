@@ -288,7 +288,7 @@ fn the_psd_picture_shows_the_class_the_profile_was_made_with() {
         .find(|t| t.starts_with("fit, w = 2"))
         .expect("fit label");
     assert!(fit.ends_with("class C"), "{fit}");
-    // Class C: 128–512·10⁻⁶ m³ (ISO 8608 class table, standards.md).
+    // Class C: 128–512·10⁻⁶ m³ (ISO 8608 class table).
     let gd: f64 = fit
         .split("Gd(n0) = ")
         .nth(1)

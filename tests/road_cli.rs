@@ -420,6 +420,10 @@ fn demo_roads_are_exactly_what_their_recorded_commands_make() {
 
 #[test]
 fn demo_rural_road_is_class_c() {
+    // The file was made at the ISO 8608 class C mean, Gd(n0) = 256·10⁻⁶ m³
+    // (profiles/roads/INDEX.md holds the command; the test above regenerates
+    // it byte for byte), a factor 2 inside both class bounds (ISO 8608 class
+    // table), so the fit must land in class C.
     let f = common::demo("roads/demo_rural_c.csv");
     let v = json_of(&["classify", f.to_str().unwrap(), "--json"]);
     assert_eq!(v["class"], "C");

@@ -1,5 +1,5 @@
 //! `roughride simulate` driven as a user would: the demo files, the JSON
-//! keys of the contract (shared/interface.md), history files, and bad input.
+//! documented keys (profiles/reference.md), history files, and bad input.
 
 mod common;
 
@@ -10,7 +10,7 @@ const CAR: &str = "vehicles/demo_hatchback.toml";
 const ROAD: &str = "roads/demo_rural_c.csv";
 
 #[test]
-fn the_demo_run_prints_the_contract_keys() {
+fn the_demo_run_prints_the_documented_keys() {
     let v = json_of(&[
         "simulate",
         "--vehicle",
@@ -269,12 +269,22 @@ fn durability_files_conserve_counts_and_match_the_summary() {
     // Histograms conserve the sample count of each axle (under/overflow rows included).
     let text = common::read(&hist);
     let (mut front, mut rear) = (0u64, 0u64);
+    let mut edges: Vec<(f64, f64)> = Vec::new();
     for line in text.lines().skip(1) {
         let cells: Vec<&str> = line.split(',').collect();
+        edges.push((cells[0].parse().unwrap(), cells[1].parse().unwrap()));
         front += cells[2].parse::<u64>().unwrap();
         rear += cells[3].parse::<u64>().unwrap();
     }
     assert_eq!((front, rear), (samples, samples));
+    // Contiguous rows from -inf to inf, each of the 2 mm default width
+    // between the outer rows (profiles/reference.md, Travel histogram).
+    assert_eq!(edges[0].0, f64::NEG_INFINITY);
+    assert_eq!(edges[edges.len() - 1].1, f64::INFINITY);
+    assert!(edges.windows(2).all(|w| w[0].1 == w[1].0), "{edges:?}");
+    for (a, b) in &edges[1..edges.len() - 1] {
+        assert!((b - a - 0.002).abs() < 1e-12, "bin {a}..{b}");
+    }
     // The rainflow table holds every counted travel cycle of the summary.
     let table = common::read(&rf);
     for (axle, key) in [("front", "front"), ("rear", "rear")] {
@@ -471,4 +481,68 @@ fn the_exact_solver_counts_tyre_tension_under_its_name_and_the_former_alias() {
         Some(0.0)
     );
     assert_eq!(tension[0].as_u64(), Some(0));
+}
+
+#[test]
+fn rainflow_bin_widths_are_options_and_zero_is_refused() {
+    let dir = scratch();
+    let rf = dir.path().join("rf.csv");
+    let base = [
+        "simulate",
+        "--vehicle",
+        demo(CAR).to_str().unwrap(),
+        "--class",
+        "C",
+        "--length",
+        "200",
+        "--speed",
+        "20",
+    ]
+    .map(String::from);
+    roughride()
+        .args(&base)
+        .args([
+            "--rainflow-travel-bin",
+            "0.005",
+            "--rainflow-force-bin",
+            "250",
+        ])
+        .arg("--rainflow")
+        .arg(&rf)
+        .assert()
+        .success();
+    let table = common::read(&rf);
+    let mut widths = std::collections::BTreeSet::new();
+    for line in table.lines().skip(1) {
+        let c: Vec<&str> = line.split(',').collect();
+        let (r0, r1, m0, m1): (f64, f64, f64, f64) = (
+            c[2].parse().unwrap(),
+            c[3].parse().unwrap(),
+            c[4].parse().unwrap(),
+            c[5].parse().unwrap(),
+        );
+        let w = if c[1] == "travel_m" { 0.005 } else { 250.0 };
+        assert!(
+            (r1 - r0 - w).abs() < 1e-9 * w && (m1 - m0 - w).abs() < 1e-9 * w,
+            "{line}"
+        );
+        widths.insert(c[1].to_string());
+    }
+    assert_eq!(widths.len(), 2, "both quantities written");
+    for bad in ["--rainflow-travel-bin", "--rainflow-force-bin"] {
+        let o = roughride()
+            .args(&base)
+            .args([bad, "0"])
+            .arg("--rainflow")
+            .arg(dir.path().join("x.csv"))
+            .output()
+            .unwrap();
+        assert_eq!(
+            o.status.code(),
+            Some(2),
+            "{bad} 0: {}",
+            String::from_utf8_lossy(&o.stderr)
+        );
+        assert!(!dir.path().join("x.csv").exists());
+    }
 }

@@ -628,7 +628,7 @@ fn bad_input_stops_before_any_case_with_status_2_and_no_file() {
 }
 
 #[test]
-fn the_header_has_the_contract_columns_and_stderr_stays_clean_off_a_terminal() {
+fn the_header_has_the_documented_columns_and_stderr_stays_clean_off_a_terminal() {
     let (stdout, stderr, code) = run(&[
         "sweep",
         "--vehicle",
@@ -642,7 +642,7 @@ fn the_header_has_the_contract_columns_and_stderr_stays_clean_off_a_terminal() {
     ]);
     assert_eq!(code, 0);
     let header: Vec<&str> = stdout.lines().next().unwrap().split(',').collect();
-    // shared/interface.md: the header includes class,speed_m_s,seed,seat_aw.
+    // The documented interface: the header includes class,speed_m_s,seed,seat_aw.
     for key in ["class", "speed_m_s", "seed", "seat_aw"] {
         assert!(header.contains(&key), "{key} in {header:?}");
     }

@@ -4,7 +4,7 @@
 //! # Columns
 //! `case,vehicle`, one column per varied key named as the key
 //! (`front.damping`, in `--vary` order; none without `--vary`), then
-//! `road,class,speed_m_s,seed,seat_aw`, then per seat `i`
+//! `road,class,speed_m_s,seed,seat_aw,speed_kmh`, then per seat `i`
 //! (1-based, in vehicle-file order) `seat{i}_aw,seat{i}_vdv,seat{i}_mtvv,
 //! seat{i}_crest_factor`, then per axle (`front`, `rear`)
 //! `travel_rms_{axle}_m,travel_min_{axle}_m,travel_max_{axle}_m`, the
@@ -15,7 +15,8 @@
 //! last two empty for an axle without that stop), then `heave_accel_rms_m_s2,
 //! pitch_accel_rms_rad_s2,duration_s,length_m,solver`.
 //!
-//! `seat_aw` is the first seat's aw (the contract's key), m/s²; aw, MTVV in
+//! `seat_aw` is the first seat's aw (a documented key), m/s²; `speed_kmh`
+//! the speed in km/h (rounded to 10⁻⁹ km/h); aw, MTVV in
 //! m/s², VDV in m/s^1.75 (ISO 2631-1). `vehicle` is the vehicle file as
 //! given; `road` the class letter or the profile file as given; `class` and
 //! `seed` are empty (JSON `null`) for a profile file. A vehicle with fewer
@@ -54,7 +55,9 @@ pub fn columns(seats: usize, varied: &[String]) -> Vec<String> {
     let mut c: Vec<String> = ["case", "vehicle"].iter().map(|s| s.to_string()).collect();
     c.extend(varied.iter().cloned());
     c.extend(
-        ["road", "class", "speed_m_s", "seed", "seat_aw"]
+        // `speed_kmh` after the documented `class,speed_m_s,seed,seat_aw`,
+        // which stay together.
+        ["road", "class", "speed_m_s", "seed", "seat_aw", "speed_kmh"]
             .iter()
             .map(|s| s.to_string()),
     );
@@ -88,6 +91,12 @@ pub fn columns(seats: usize, varied: &[String]) -> Vec<String> {
     c
 }
 
+/// A speed in km/h as a reader wrote it: `v·3.6` rounded to 10⁻⁹ km/h, so
+/// that 50 km/h (13.888… m/s) prints as `50`, not `50.00000000000001`.
+pub fn speed_kmh(speed_m_s: f64) -> f64 {
+    (speed_m_s * 3.6 * 1e9).round() / 1e9
+}
+
 /// The largest seat count over the grid's vehicles.
 pub fn max_seats(grid: &Grid) -> usize {
     grid.vehicles
@@ -115,6 +124,7 @@ pub fn cells(grid: &Grid, case: &Case, s: &RunSummary, seats: usize) -> Vec<Cell
         s.seats
             .first()
             .map_or(Cell::Empty, |x| Cell::Num(x.measures.aw)),
+        Cell::Num(speed_kmh(case.speed_m_s)),
     ]);
     for i in 0..seats {
         match s.seats.get(i) {
@@ -310,9 +320,23 @@ mod tests {
     }
 
     #[test]
-    fn the_header_holds_the_contract_columns() {
-        // shared/interface.md: the header includes class,speed_m_s,seed,seat_aw.
+    fn km_per_h_prints_as_written() {
+        // 1 m/s = 3.6 km/h exactly (definition of the units).
+        assert_eq!(speed_kmh(50.0 / 3.6), 50.0);
+        assert_eq!(speed_kmh(20.0), 72.0);
+        assert_eq!(format!("{}", speed_kmh(36.0 / 3.6)), "36");
+        assert_eq!(speed_kmh(13.3), 47.88);
+    }
+
+    #[test]
+    fn the_header_holds_the_documented_columns() {
+        // The documented interface (profiles/reference.md): the header holds
+        // `class,speed_m_s,seed,seat_aw` in this order, side by side, with
+        // or without varied keys.
         let c = columns(2, &[]);
+        assert!(c.join(",").contains(",class,speed_m_s,seed,seat_aw,"));
+        let v = columns(1, &["front.damping".to_string()]);
+        assert!(v.join(",").contains(",class,speed_m_s,seed,seat_aw,"));
         for key in [
             "class",
             "speed_m_s",

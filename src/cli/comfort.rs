@@ -53,7 +53,7 @@ fn parse_duration_s(text: &str) -> Result<f64, String> {
     Ok(s)
 }
 
-/// The JSON object: the contract keys of the measures at top level, then
+/// The JSON object: the documented keys of the measures at top level, then
 /// the guidance.
 #[derive(Debug, Serialize)]
 struct Output<'a> {

@@ -101,11 +101,13 @@ fn parse_freqs(s: &str) -> Result<Frequencies, String> {
                 "{count:.0} frequencies exceed the limit of {MAX_FREQUENCIES}; use a larger step"
             ));
         }
-        Ok(Frequencies(
-            (0..count as usize)
-                .map(|i| start + i as f64 * step)
-                .collect(),
-        ))
+        Ok(Frequencies(grid(
+            parts[0],
+            parts[2],
+            start,
+            step,
+            count as usize,
+        )))
     } else {
         let v: Vec<f64> = t.split(',').map(num).collect::<Result<_, _>>()?;
         if v.len() > MAX_FREQUENCIES {
@@ -113,6 +115,38 @@ fn parse_freqs(s: &str) -> Result<Frequencies, String> {
         }
         Ok(Frequencies(v))
     }
+}
+
+/// Decimal places a number is written with: `0.05` → 2, `5e-3` → 3, `2` → 0.
+fn decimals(text: &str) -> i32 {
+    let t = text.trim();
+    let (mantissa, exponent) = match t.find(['e', 'E']) {
+        Some(i) => (&t[..i], t[i + 1..].parse::<i32>().unwrap_or(0)),
+        None => (t, 0),
+    };
+    let places = mantissa.split_once('.').map_or(0, |(_, f)| f.len() as i32);
+    (places - exponent).max(0)
+}
+
+/// `start + i·step` for `i < count`, printed as written: with `d` the
+/// decimals of start and step, each value is the integer `start·10^d +
+/// i·step·10^d` divided by `10^d`, which is the double nearest the decimal
+/// (no `0.8500000000000001`). Beyond 12 decimals, or integers too large to
+/// be exact, the plain sum is used.
+fn grid(start_text: &str, step_text: &str, start: f64, step: f64, count: usize) -> Vec<f64> {
+    let d = decimals(start_text).max(decimals(step_text));
+    let scale = 10f64.powi(d);
+    let (a, b) = ((start * scale).round(), (step * scale).round());
+    let exact = d <= 12 && a + b * count as f64 <= 2f64.powi(53);
+    (0..count)
+        .map(|i| {
+            if exact {
+                (a + b * i as f64) / scale
+            } else {
+                start + i as f64 * step
+            }
+        })
+        .collect()
 }
 
 /// One channel in the JSON output.

@@ -3,9 +3,7 @@
 
 use clap::Args;
 use roughride::comfort::Weighting;
-use roughride::solve::{
-    DEFAULT_ATOL, DEFAULT_OUTPUT_RATE_HZ, DEFAULT_RTOL, SolverChoice, SolverSettings,
-};
+use roughride::solve::{DEFAULT_OUTPUT_RATE_HZ, SolverChoice, SolverSettings};
 
 /// Solver and seat-weighting options.
 #[derive(Debug, Clone, Args)]
@@ -17,10 +15,11 @@ pub struct SolverArgs {
     #[arg(long, value_name = "HZ", default_value_t = DEFAULT_OUTPUT_RATE_HZ)]
     pub rate: f64,
     /// Relative tolerance of the adaptive solver.
-    #[arg(long, default_value_t = DEFAULT_RTOL)]
+    // Written as text so --help shows `1e-7`; a test ties it to DEFAULT_RTOL.
+    #[arg(long, default_value = "1e-7")]
     pub rtol: f64,
     /// Absolute tolerance of the adaptive solver.
-    #[arg(long, default_value_t = DEFAULT_ATOL)]
+    #[arg(long, default_value = "1e-9")]
     pub atol: f64,
     /// Frequency weighting for the seats (wk, wd, wf, wc, we, wj, none).
     #[arg(long, default_value = "wk", value_parser = parse_weighting)]
@@ -45,4 +44,24 @@ fn parse_solver(s: &str) -> Result<SolverChoice, String> {
 
 fn parse_weighting(s: &str) -> Result<Weighting, String> {
     s.parse()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use clap::Parser;
+    use roughride::solve::{DEFAULT_ATOL, DEFAULT_RTOL};
+
+    #[derive(Parser)]
+    struct Wrap {
+        #[command(flatten)]
+        run: SolverArgs,
+    }
+
+    #[test]
+    fn the_defaults_written_for_help_are_the_library_defaults() {
+        let w = Wrap::parse_from(["x"]);
+        assert_eq!(w.run.rtol, DEFAULT_RTOL);
+        assert_eq!(w.run.atol, DEFAULT_ATOL);
+    }
 }

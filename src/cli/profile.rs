@@ -1,5 +1,5 @@
 //! `roughride profile`: synthesise an ISO 8608 road (or a flat one), lay
-//! obstacles on it and write the profile CSV of the contract
+//! obstacles on it and write the profile CSV of the documented interface
 //! (`distance_m,elevation_m`) to stdout or, atomically, to `-o FILE`.
 
 use std::path::{Path, PathBuf};

@@ -85,13 +85,29 @@ pub struct Args {
     /// suspension force, per axle, as CSV to this file.
     #[arg(long, value_name = "FILE")]
     pub rainflow: Option<PathBuf>,
+    /// Range (and mean) bin width of the travel rainflow table written by
+    /// --rainflow, m.
+    #[arg(long, value_name = "M", default_value_t = 0.002, value_parser = parse_bin_width)]
+    pub rainflow_travel_bin: f64,
+    /// Range (and mean) bin width of the suspension-force rainflow table
+    /// written by --rainflow, N.
+    #[arg(long, value_name = "N", default_value_t = 100.0, value_parser = parse_bin_width)]
+    pub rainflow_force_bin: f64,
     /// S–N exponents for the damage-equivalent ranges, comma-separated.
-    #[arg(long, value_name = "M,…", value_delimiter = ',', default_values_t = [3.0, 5.0])]
+    #[arg(long, value_name = "M,…", value_delimiter = ',', default_value = "3,5")]
     pub sn_exponent: Vec<f64>,
 }
 
 fn parse_speed(s: &str) -> Result<f64, String> {
     parse_speed_m_s(s).map_err(|e| e.to_string())
+}
+
+/// A bin width: a positive, finite number (clap names the option).
+fn parse_bin_width(s: &str) -> Result<f64, String> {
+    match s.trim().parse::<f64>() {
+        Ok(w) if w.is_finite() && w > 0.0 => Ok(w),
+        _ => Err(format!("{s:?} is not a bin width: give a positive number")),
+    }
 }
 
 fn parse_force(s: &str) -> Result<HarmonicForce, String> {
@@ -239,8 +255,9 @@ pub fn run(a: Args) -> Result<(), Error> {
         exposure_s: a.exposure,
         durability: DurabilitySettings {
             travel_bin_m: a.travel_bin,
+            rainflow_travel_bin_m: a.rainflow_travel_bin,
+            rainflow_force_bin_n: a.rainflow_force_bin,
             sn_exponents: a.sn_exponent.clone(),
-            ..DurabilitySettings::default()
         },
     };
     let mut history = a.history.as_deref().map(AtomicFile::create).transpose()?;
@@ -570,4 +587,36 @@ fn guidance_table(s: &RunSummary) -> Table {
     }
     guide.note(HEALTH_CAUTION);
     guide
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use clap::Parser;
+
+    #[derive(Parser)]
+    struct Wrap {
+        #[command(flatten)]
+        a: Args,
+    }
+
+    #[test]
+    fn the_durability_defaults_are_the_library_defaults() {
+        let w = Wrap::parse_from([
+            "x",
+            "--vehicle",
+            "v.toml",
+            "--flat",
+            "--length",
+            "9",
+            "--speed",
+            "1",
+        ])
+        .a;
+        let d = DurabilitySettings::default();
+        assert_eq!(w.sn_exponent, d.sn_exponents);
+        assert_eq!(w.travel_bin, d.travel_bin_m);
+        assert_eq!(w.rainflow_travel_bin, d.rainflow_travel_bin_m);
+        assert_eq!(w.rainflow_force_bin, d.rainflow_force_bin_n);
+    }
 }

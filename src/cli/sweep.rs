@@ -229,7 +229,7 @@ pub fn run(a: Args) -> Result<(), Error> {
         }
     }
     written?;
-    // Exit status 1 for failed cases (interface.md: 1 for anything but bad input).
+    // Exit status 1 for failed cases (the documented exit statuses: 1 for anything but bad input).
     cases_failed(&report).map_or(Ok(()), Err)
 }
 

@@ -233,7 +233,7 @@ mod tests {
 
     #[test]
     fn overlapping_annex_c_bands_are_all_reported() {
-        // ISO 2631-1 Annex C (C.2.3) bands, /work/shared/standards.md.
+        // ISO 2631-1 Annex C (C.2.3) bands.
         assert_eq!(comfort_reactions(0.2), ["not uncomfortable"]);
         assert_eq!(
             comfort_reactions(0.55),

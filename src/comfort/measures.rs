@@ -6,8 +6,8 @@
 //! The running r.m.s. is the *linear* form of eq. 4, integrated over the
 //! last τ = 1 s: a ring buffer of `round(fs·1 s)` squared weighted samples
 //! (8 kB at 1000 Hz). The linear form was chosen over the exponential one
-//! because it is exactly the "1 s running r.m.s." of the command-line
-//! contract, has a closed form for bursts (used in the tests) and needs no
+//! because it is exactly the "1 s running r.m.s." of the documented
+//! interface (`profiles/reference.md`), has a closed form for bursts (used in the tests) and needs no
 //! choice of how to start the exponential integrator. Memory is that buffer
 //! plus a few sums, whatever the record length.
 
@@ -192,7 +192,7 @@ mod tests {
 
     #[test]
     fn aw_of_a_sine_is_the_table_factor_over_root_two() {
-        // ISO 2631-1 Table 3 (Wk, nominal centres; /work/shared/standards.md):
+        // ISO 2631-1 Table 3 (Wk, nominal centres):
         // a sine of amplitude 1 m/s² has aw = factor/√2; 3 % allowed (nominal vs
         // exact centre, table rounding, start-up transient).
         let table = [

@@ -115,7 +115,7 @@ impl Weighting {
     ];
 
     fn params(&self) -> Option<Params> {
-        // ISO 2631-1:1997 Table A.1 (as reproduced in /work/shared/standards.md).
+        // ISO 2631-1:1997 Table A.1.
         let p = |f1, f2, f3, f4, q4, f5, q5, f6, q6| Params {
             f1,
             f2,
@@ -420,7 +420,7 @@ mod tests {
     use super::*;
 
     /// ISO 2631-1:1997 Table 3, Wk at nominal one-third-octave centres
-    /// (factor ×1000 in the table), as listed in /work/shared/standards.md.
+    /// (factor ×1000 in the table).
     const WK_TABLE3: [(f64, f64); 9] = [
         (0.5, 0.418),
         (1.0, 0.482),
@@ -452,8 +452,8 @@ mod tests {
 
     #[test]
     fn wk_and_wd_match_iso_8041_1_annex_b_at_exact_centres() {
-        // ISO 8041-1:2017 Annex B, four figures at 10^(n/10) Hz
-        // (/work/shared/standards.md): rounding of the last figure plus 2 %.
+        // ISO 8041-1:2017 Annex B, four figures at 10^(n/10) Hz: rounding
+        // of the last figure plus 2 %.
         let f0 = |n: i32| 10f64.powf(n as f64 / 10.0);
         for (w, f, v) in [
             (Weighting::Wk, f0(0), 0.4825),
@@ -470,8 +470,9 @@ mod tests {
 
     #[test]
     fn the_upward_step_has_the_right_gain_not_the_doubled_one() {
-        // Hs gain (f5/f6)² at low frequency, 1 at high (ISO 2631-1 Annex A;
-        // the pitfall noted in /work/shared/standards.md is a factor ≈ 2).
+        // Hs gain (f5/f6)² at low frequency, 1 at high (ISO 2631-1 Annex A);
+        // an upward step built with the ratio inverted or doubled gives a
+        // gain off by a factor ≈ 2 (a slip seen in implementations; from memory).
         // Between f1 and f3 the other Wk sections are near 1, so
         // Wk(1 Hz) ≈ 0.48 rather than ≈ 0.97.
         let m = Weighting::Wk.magnitude(1.0);

@@ -1,4 +1,4 @@
-//! The profile CSV of the command-line contract: a header row, then rows
+//! The profile CSV of the documented interface (`profiles/reference.md`): a header row, then rows
 //! `distance_m,elevation_m` (other columns ignored), strictly increasing in
 //! distance. Rows that are not uniformly spaced are resampled onto a uniform
 //! grid (with a warning) unless a gap is too large to bridge honestly.
@@ -326,7 +326,7 @@ fn to_uniform(
     Ok((Profile::new(xs[0], spacing, out), vec![warning]))
 }
 
-/// Writes a profile as the contract's CSV. Distances are printed from the
+/// Writes a profile as the documented CSV. Distances are printed from the
 /// sample index so they carry no accumulated rounding.
 pub fn write_profile_csv(profile: &Profile, out: &mut dyn Write) -> std::io::Result<()> {
     writeln!(out, "distance_m,elevation_m")?;

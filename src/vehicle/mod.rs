@@ -1,4 +1,4 @@
-//! The vehicle: its description (read from the TOML file of the contract)
+//! The vehicle: its description (read from the documented TOML file)
 //! and the damped bounce–pitch model built from it.
 //!
 //! # Model

@@ -18,8 +18,8 @@
 //! NaN). Should the decomposition not converge, the roots of
 //! `det(λ²M + λC + K)` are found by the Weierstrass (Durand–Kerner)
 //! iteration instead. For a conjugate pair the damped frequency is
-//! `|Im λ|/2π` and the damping ratio `−Re λ/|λ|` (contract,
-//! `interface.md`).
+//! `|Im λ|/2π` and the damping ratio `−Re λ/|λ|` (the documented keys,
+//! `profiles/reference.md`).
 //!
 //! Damped eigenvalues are matched to undamped modes by mode shape: for each
 //! `λ` the eigenvector of `(λ²M + λC + K) φ = 0` is found by inverse
@@ -50,8 +50,9 @@
 //! `k·k_t/(k + k_t)` (just `k` without a tyre). The dynamic index
 //! `J/(m·a·b)` is 1 when the axles' motions are uncoupled (each axle is the
 //! other's centre of percussion; Gillespie 1992, ch. 5). The flat-ride
-//! guidance attributed to Olley (front ride frequency below the rear,
-//! commonly about 80 % of it; pitch and bounce close) is reported as
+//! guidance attributed to M. Olley (as presented by Gillespie 1992, ch. 5:
+//! front ride frequency below the rear, commonly about 80 % of it, from
+//! memory; pitch and bounce close) is reported as
 //! guidance, not as a verdict.
 
 use nalgebra::{Complex, DMatrix, DVector, Schur, SymmetricEigen};
@@ -69,8 +70,9 @@ const MAX_EIGEN_ITERATIONS: usize = 10_000;
 /// the guidance (common practice).
 pub const CLOSE_PITCH_BOUNCE_RATIO: f64 = 1.2;
 
-/// Front/rear ride frequency ratio often quoted for a flat ride (Olley, via
-/// later papers; see `/work/shared/standards.md`).
+/// Front/rear ride frequency ratio often quoted for a flat ride: M. Olley's
+/// rule as presented by Gillespie (1992, ch. 5) asks for a front ride rate
+/// about 30 % below the rear; the 80 % frequency ratio is from memory.
 pub const FLAT_RIDE_FRONT_TO_REAR: f64 = 0.8;
 
 /// The complete modal description of a vehicle.
@@ -666,7 +668,7 @@ fn guidance(ride: &RideFrequencies, pitch_to_bounce: f64, dynamic_index: f64) ->
         "equal to"
     };
     g.push(format!(
-        "Front ride frequency {:.2} Hz is {relation} the rear {:.2} Hz (front/rear = {:.2}). Flat-ride guidance (Olley, via later papers): front below rear, commonly about {:.0} % of it, so the rear catches up with the front's motion after a bump.",
+        "Front ride frequency {:.2} Hz is {relation} the rear {:.2} Hz (front/rear = {:.2}). Flat-ride guidance (M. Olley, as presented by Gillespie 1992, ch. 5; the percentage from memory): front below rear, commonly about {:.0} % of it, so the rear catches up with the front's motion after a bump.",
         ride.front_hz,
         ride.rear_hz,
         ride.front_to_rear,

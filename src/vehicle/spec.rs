@@ -1,4 +1,4 @@
-//! The vehicle file (TOML) of the command-line contract, parsed with serde
+//! The vehicle file (TOML) of the documented interface (`profiles/reference.md`), parsed with serde
 //! and validated into a [`Vehicle`]: every number finite and in range,
 //! every combination of keys meaningful. Errors name the file, the key
 //! (e.g. `front.tyre_rate`) and what was wrong.
@@ -321,9 +321,9 @@ mod tests {
     }
 
     #[test]
-    fn reads_the_contract_example() {
+    fn reads_the_documented_example() {
         let v = parse(CAR).unwrap();
-        assert_eq!(v.name, "contract example");
+        assert_eq!(v.name, "documented example");
         assert_eq!(v.axles[0].x_m, 1.15);
         assert_eq!(v.axles[1].x_m, -1.45);
         assert_eq!(v.axles[1].tyre.as_ref().unwrap().unsprung_mass_kg, 75.0);

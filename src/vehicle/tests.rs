@@ -3,9 +3,9 @@
 use super::*;
 use std::path::Path;
 
-/// The contract's example half car (interface.md).
+/// An example half car (invented), the shape of the examples in `profiles/reference.md`.
 pub(crate) const HALF_CAR: &str = r#"
-name = "contract example"
+name = "documented example"
 [body]
 mass = 1250.0
 pitch_inertia = 2100.0
@@ -187,6 +187,8 @@ fn the_element_model_equals_the_state_space_form_while_linear() {
 
 #[test]
 fn static_loads_balance_the_weight() {
+    // Statics, force and moment balance: the axle loads carry the weight
+    // (ΣF = 0) and their moments about the CG cancel (ΣM = 0).
     let v = half_car();
     let s = v.static_suspension_n();
     let w = 1250.0 * GRAVITY_M_S2;

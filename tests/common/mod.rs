@@ -24,7 +24,7 @@ pub fn roughride() -> assert_cmd::Command {
 }
 
 /// Runs the binary with `args` and `--json`, expects success and exactly
-/// one JSON object on stdout (the contract), and returns it.
+/// one JSON object on stdout (the documented interface), and returns it.
 pub fn json_of(args: &[&str]) -> serde_json::Value {
     let out = roughride()
         .args(args)
