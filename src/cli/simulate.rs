@@ -258,6 +258,7 @@ pub fn run(a: Args) -> Result<(), Error> {
             rainflow_travel_bin_m: a.rainflow_travel_bin,
             rainflow_force_bin_n: a.rainflow_force_bin,
             sn_exponents: a.sn_exponent.clone(),
+            ..DurabilitySettings::default()
         },
     };
     let mut history = a.history.as_deref().map(AtomicFile::create).transpose()?;
