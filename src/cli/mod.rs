@@ -15,6 +15,8 @@ mod options;
 mod plot;
 mod profile;
 mod sweep;
+mod tradeoff;
+mod tune;
 
 /// roughride: ride comfort and durability estimates for a vehicle on a road,
 /// before a prototype exists.
@@ -60,7 +62,9 @@ pub enum Command {
     Modes(modes::Args),
     /// Frequency response to road elevation (and a body force): magnitude and phase per output, as CSV.
     Frf(frf::Args),
-    /// Draw SVG pictures: comfort against speed, histograms, road PSD, time windows.
+    /// Search the values of some vehicle-file keys, within bounds, that minimise a seat's aw (or VDV) under limits.
+    Tune(tune::Args),
+    /// Draw SVG pictures: comfort against speed, histograms, road PSD, time windows, design trade-offs.
     Plot(plot::Args),
 }
 
@@ -75,6 +79,7 @@ pub fn run(cli: Cli) -> Result<(), roughride::Error> {
         Command::Comfort(a) => comfort::run(a),
         Command::Sweep(a) => sweep::run(a),
         Command::Lifetime(a) => lifetime::run(a),
+        Command::Tune(a) => tune::run(a),
         Command::Plot(a) => plot::run(a),
     }
 }

@@ -20,7 +20,8 @@ roughride plot comfort grid.csv -o aw.svg\n  \
 roughride simulate --vehicle car.toml --class C --length 500 --speed 20 --history h.csv\n  \
 roughride plot histogram h.csv --column travel_front_m -o travel.svg\n  \
 roughride plot history h.csv --columns driver_accel_m_s2 --from 10 --to 15 -o window.svg\n  \
-roughride profile --class C --length 2000 -o road.csv && roughride plot psd road.csv -o psd.svg")]
+roughride profile --class C --length 2000 -o road.csv && roughride plot psd road.csv -o psd.svg\n  \
+roughride plot tradeoff study.csv -o tradeoff.svg   (a sweep with --vary)")]
 pub struct Args {
     #[command(subcommand)]
     pub picture: Picture,
@@ -37,6 +38,8 @@ pub enum Picture {
     Psd(PsdArgs),
     /// A time window of one or more columns of a time history.
     History(HistoryArgs),
+    /// A design study's trade-off: seat aw against tyre load (DLC) and travel per variant, Pareto set labelled.
+    Tradeoff(super::tradeoff::Args),
 }
 
 /// Output options shared by every picture.
@@ -107,17 +110,19 @@ pub struct HistoryArgs {
 }
 
 pub fn run(a: Args) -> Result<(), Error> {
-    let (file, out) = match &a.picture {
-        Picture::Comfort(c) => (&c.file, &c.out),
-        Picture::Histogram(h) => (&h.file, &h.out),
-        Picture::Psd(p) => (&p.file, &p.out),
-        Picture::History(h) => (&h.file, &h.out),
+    let (file, output) = match &a.picture {
+        Picture::Comfort(c) => (&c.file, c.out.output.as_deref()),
+        Picture::Histogram(h) => (&h.file, h.out.output.as_deref()),
+        Picture::Psd(p) => (&p.file, p.out.output.as_deref()),
+        Picture::History(h) => (&h.file, h.out.output.as_deref()),
+        Picture::Tradeoff(t) => (&t.file, t.output.as_deref()),
     };
     FilePlan::new()
         .input("FILE", file)
-        .output("-o", out.output.as_deref())
+        .output("-o", output)
         .check()?;
     let (svg, out) = match a.picture {
+        Picture::Tradeoff(t) => return super::tradeoff::run(t),
         Picture::Comfort(c) => {
             let points = read_sweep(&c.file, &c.column)?;
             let title = c

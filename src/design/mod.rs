@@ -13,4 +13,6 @@
 //!   that minimise a seat's comfort measure under travel, tyre-load and
 //!   lift-off limits (`roughride tune`).
 
+pub mod tradeoff;
+pub mod tune;
 pub mod vary;

@@ -8,6 +8,7 @@ mod leftovers;
 pub mod plot;
 mod same_file;
 pub mod table;
+pub mod tradeoff;
 
 pub use files::{AtomicFile, write_atomic, write_to};
 pub use same_file::FilePlan;

@@ -392,6 +392,47 @@ impl Frame {
         Ok(svg)
     }
 
+    /// Draws `panels` side by side, equal widths, each with its own axis
+    /// labels (for planes that share nothing but the picture); `body` gets
+    /// each panel's index and chart in turn.
+    pub fn draw_side_by_side<F>(self, panels: &[Axes], mut body: F) -> Result<String, ExportError>
+    where
+        F: FnMut(usize, &mut Chart<'_, '_>, &Canvas<'_>) -> Result<(), ExportError>,
+    {
+        if panels.is_empty() {
+            return Err(no_data("no panel"));
+        }
+        for p in panels {
+            p.x.check()?;
+            p.y.check()?;
+        }
+        let mut svg = String::new();
+        {
+            let root = SVGBackend::with_string(&mut svg, self.size_px).into_drawing_area();
+            root.fill(&WHITE).map_err(draw_err)?;
+            let foot_px = match self.footnotes.len() {
+                0 => 0,
+                n => 6 + FOOTNOTE_LINE_PX * n as u32,
+            };
+            let (upper, lower) = root.split_vertically(self.size_px.1 - foot_px);
+            let titled = upper
+                .margin(16, 0, 0, 0)
+                .titled(&self.title, (FONT, 22))
+                .map_err(draw_err)?;
+            self.draw_footnotes(&lower)?;
+            let areas = titled.split_evenly((1, panels.len()));
+            for (i, (area, axes)) in areas.iter().zip(panels).enumerate() {
+                let mut chart = panel(area, axes, true)?;
+                body(i, &mut chart, &root)?;
+                if let Some(at) = &axes.legend {
+                    draw_legend(&mut chart, at.clone())?;
+                }
+            }
+            root.present().map_err(draw_err)?;
+        }
+        Ok(svg)
+    }
+
     fn draw_footnotes(&self, area: &Canvas<'_>) -> Result<(), ExportError> {
         let style = TextStyle::from((FONT, FOOTNOTE_FONT_PX).into_font())
             .color(&LABEL_GREY)
