@@ -335,6 +335,11 @@ fn read_sweep(path: &Path, column: &str) -> Result<Vec<ComfortPoint>, Error> {
         let aw = column_index(path, &headers, column)?;
         let find = |name: &str| headers.iter().position(|h| h == name);
         let (vehicle, road, class) = (find("vehicle"), find("road"), find("class"));
+        // The --vary columns (between vehicle and road) tell variants apart.
+        let varied: Vec<usize> = match (vehicle, road) {
+            (Some(v), Some(r)) => (v + 1..r).collect(),
+            _ => Vec::new(),
+        };
         if road.is_none() && class.is_none() {
             return Err(bad(
                 path,
@@ -346,8 +351,12 @@ fn read_sweep(path: &Path, column: &str) -> Result<Vec<ComfortPoint>, Error> {
             let rec = rec.map_err(|e| bad(path, e.position().map_or(0, |p| p.line()), e))?;
             let line = rec.position().map_or(0, |p| p.line());
             let cell = |i: Option<usize>| i.and_then(|i| rec.get(i)).unwrap_or("").to_string();
+            let mut name = cell(vehicle);
+            for &i in &varied {
+                name.push_str(&format!(" {}={}", &headers[i], rec.get(i).unwrap_or("")));
+            }
             rows.push((
-                cell(vehicle),
+                name,
                 cell(road),
                 cell(class),
                 parse_cell(path, line, "speed_m_s", rec.get(speed).unwrap_or(""))?,

@@ -156,7 +156,14 @@ fn json_lines_table(path: &Path, text: &str) -> Result<SweepTable, crate::Error>
         let lno = n as u64 + 1;
         let v: serde_json::Map<String, serde_json::Value> =
             serde_json::from_str(line).map_err(|e| bad(path, lno, e))?;
-        let keys: Vec<String> = v.keys().cloned().collect();
+        // The map holds its keys sorted; the line's own order is the
+        // column order (the varied keys sit between `vehicle` and `road`).
+        let mut keys: Vec<String> = v.keys().cloned().collect();
+        let at = |k: &String| {
+            let quoted = serde_json::Value::from(k.as_str()).to_string();
+            line.find(&format!("{quoted}:")).unwrap_or(usize::MAX)
+        };
+        keys.sort_by_key(at);
         match &header {
             None => header = Some(keys.clone()),
             Some(h) if *h != keys => {
@@ -164,9 +171,9 @@ fn json_lines_table(path: &Path, text: &str) -> Result<SweepTable, crate::Error>
             }
             Some(_) => {}
         }
-        let cells = v
-            .values()
-            .map(|x| match x {
+        let cells = keys
+            .iter()
+            .map(|k| match &v[k] {
                 serde_json::Value::Null => String::new(),
                 serde_json::Value::String(s) => s.clone(),
                 other => other.to_string(),

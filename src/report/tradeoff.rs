@@ -5,6 +5,7 @@
 //! of [`super::plot`]; the numbers come from [`crate::design::tradeoff`].
 
 use plotters::prelude::*;
+use plotters::style::text_anchor::{HPos, Pos, VPos};
 
 use super::ExportError;
 use super::plot::{Axes, Axis, FONT, Frame, LABEL_GREY, colour, draw_err, no_data};
@@ -169,10 +170,19 @@ fn draw_plane(
         .draw_series(front.iter().map(|p| Circle::new((p.0, p.1), 5, c.filled())))
         .map_err(draw_err)?;
     let every = front.len().div_ceil(MAX_LABELS).max(1);
-    let style = TextStyle::from((FONT, 12).into_font()).color(&BLACK);
+    // Labels right of their point, or left of it in the right third of
+    // the panel so they stay inside the picture.
+    let x_range = chart.x_range();
+    let turn = x_range.start + 0.67 * (x_range.end - x_range.start);
+    let style = |h: HPos| {
+        TextStyle::from((FONT, 12).into_font())
+            .color(&BLACK)
+            .pos(Pos::new(h, VPos::Bottom))
+    };
     chart
         .draw_series(front.iter().step_by(every).map(|p| {
-            EmptyElement::at((p.0, p.1)) + Text::new(p.2.to_string(), (7, -14), style.clone())
+            let (dx, h) = if p.0 > turn { (-7, HPos::Right) } else { (7, HPos::Left) };
+            EmptyElement::at((p.0, p.1)) + Text::new(p.2.to_string(), (dx, -4), style(h))
         }))
         .map_err(draw_err)?;
     Ok(())
