@@ -17,6 +17,10 @@ car="$here/profiles/vehicles/demo_hatchback.toml"
 "$rr" plot history "$out/history.csv" --columns driver_accel_m_s2,rear_passenger_accel_m_s2 --from 10 --to 15 -o "$out/window.svg"
 "$rr" profile --class C --length 2000 --seed 3 -o "$out/road.csv" > /dev/null
 "$rr" plot psd "$out/road.csv" -o "$out/psd.svg"
+"$rr" sweep --vehicle "$here/profiles/vehicles/demo_minibus.toml" \
+    --vary rear.damping='*0.6:*1.4:*0.2' --vary rear.spring_rate='*0.8:*1.2:*0.2' \
+    --classes B,C,D --speeds 40kmh:80kmh:20kmh --seeds 2 --length 500 -o "$out/minibus_study.csv"
+"$rr" plot tradeoff "$out/minibus_study.csv" --seat 2 --axle rear -o "$out/tradeoff.svg" > /dev/null
 
 if command -v rsvg-convert > /dev/null; then
     for svg in "$out"/*.svg; do

@@ -11,7 +11,10 @@ mod common;
 use common::{demo, json_of, python_reference, roughride, scratch};
 
 fn car() -> String {
-    demo("vehicles/demo_hatchback.toml").to_str().unwrap().to_string()
+    demo("vehicles/demo_hatchback.toml")
+        .to_str()
+        .unwrap()
+        .to_string()
 }
 
 fn run(args: &[&str]) -> (String, String, i32) {
@@ -33,11 +36,25 @@ fn ok(args: &[&str]) -> String {
 fn a_two_parameter_spectral_tune_agrees_with_scipy_optimize() {
     let car = car();
     let r = json_of(&[
-        "tune", "--vehicle", &car, "--vary", "rear.damping=100:6000", "--vary",
-        "front.damping=100:6000", "--classes", "C", "--speeds", "15,25", "--length", "200",
+        "tune",
+        "--vehicle",
+        &car,
+        "--vary",
+        "rear.damping=100:6000",
+        "--vary",
+        "front.damping=100:6000",
+        "--classes",
+        "C",
+        "--speeds",
+        "15,25",
+        "--length",
+        "200",
     ]);
     assert_eq!(r["method"], "spectral");
-    let ours = [r["best"]["rear.damping"].as_f64().unwrap(), r["best"]["front.damping"].as_f64().unwrap()];
+    let ours = [
+        r["best"]["rear.damping"].as_f64().unwrap(),
+        r["best"]["front.damping"].as_f64().unwrap(),
+    ];
     let ours_j = r["spectral"]["optimum"]["objective"].as_f64().unwrap();
     // The demo hatchback's numbers (profiles/vehicles/demo_hatchback.toml),
     // ISO 8608 class C (Gd(n0) = 256·10⁻⁶ m³) and its default band.
@@ -52,19 +69,38 @@ fn a_two_parameter_spectral_tune_agrees_with_scipy_optimize() {
         "starts": [[0.5, 0.5], [0.2, 0.8]],
         "points": [ours, [2410.0, 2930.0]],
     });
-    let Some(py) = python_reference("tune_check.py", &input) else { return };
-    let theirs: Vec<f64> = py["optimum"].as_array().unwrap().iter().map(|v| v.as_f64().unwrap()).collect();
+    let Some(py) = python_reference("tune_check.py", &input) else {
+        return;
+    };
+    let theirs: Vec<f64> = py["optimum"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|v| v.as_f64().unwrap())
+        .collect();
     let theirs_j = py["objective"].as_f64().unwrap();
     // The same objective at the same points (our prediction against numpy's
     // integral), the same optimum value, and the same place within 0.5 % of
     // each range (the objective is flat near its minimum).
     let at = py["at"].as_array().unwrap();
-    assert!((at[0].as_f64().unwrap() / ours_j - 1.0).abs() < 1e-5, "{at:?} vs {ours_j}");
+    assert!(
+        (at[0].as_f64().unwrap() / ours_j - 1.0).abs() < 1e-5,
+        "{at:?} vs {ours_j}"
+    );
     let start_j = r["spectral"]["start"]["objective"].as_f64().unwrap();
-    assert!((at[1].as_f64().unwrap() / start_j - 1.0).abs() < 1e-5, "{at:?} vs {start_j}");
-    assert!(ours_j <= theirs_j * (1.0 + 1e-6), "ours {ours_j}, scipy {theirs_j}");
+    assert!(
+        (at[1].as_f64().unwrap() / start_j - 1.0).abs() < 1e-5,
+        "{at:?} vs {start_j}"
+    );
+    assert!(
+        ours_j <= theirs_j * (1.0 + 1e-6),
+        "ours {ours_j}, scipy {theirs_j}"
+    );
     for (o, t) in ours.iter().zip(&theirs) {
-        assert!((o - t).abs() < 0.005 * 5900.0, "ours {ours:?}, scipy {theirs:?}");
+        assert!(
+            (o - t).abs() < 0.005 * 5900.0,
+            "ours {ours:?}, scipy {theirs:?}"
+        );
     }
 }
 
@@ -92,12 +128,30 @@ fn grid_means(csv_text: &str, key: &str) -> Vec<(f64, f64)> {
 }
 
 #[test]
-fn a_time_domain_tune_finds_the_best_of_an_exhaustive_sweep_grid_and_its_file_simulates_to_its_objective() {
+fn a_time_domain_tune_finds_the_best_of_an_exhaustive_sweep_grid_and_its_file_simulates_to_its_objective()
+ {
     let car = car();
     let dir = scratch();
     let tuned = dir.path().join("tuned.toml");
-    let cases = ["--classes", "C", "--seeds", "2", "--speeds", "20", "--length", "150"];
-    let mut args = vec!["tune", "--vehicle", &car, "--vary", "front.damping=300:3000", "--method", "time"];
+    let cases = [
+        "--classes",
+        "C",
+        "--seeds",
+        "2",
+        "--speeds",
+        "20",
+        "--length",
+        "150",
+    ];
+    let mut args = vec![
+        "tune",
+        "--vehicle",
+        &car,
+        "--vary",
+        "front.damping=300:3000",
+        "--method",
+        "time",
+    ];
     args.extend(cases);
     args.extend(["-o", tuned.to_str().unwrap()]);
     let r = json_of(&args);
@@ -109,11 +163,21 @@ fn a_time_domain_tune_finds_the_best_of_an_exhaustive_sweep_grid_and_its_file_si
     let j = r["objective"].as_f64().unwrap();
     // The exhaustive grid: every 25 N s/m, the same cases, by sweep.
     let step = 25.0;
-    let mut s = vec!["sweep", "--vehicle", &car, "--vary", "front.damping=300:3000:25"];
+    let mut s = vec![
+        "sweep",
+        "--vehicle",
+        &car,
+        "--vary",
+        "front.damping=300:3000:25",
+    ];
     s.extend(cases);
     let grid = grid_means(&ok(&s), "front.damping");
     assert_eq!(grid.len(), 109);
-    let (c_grid, j_grid) = grid.iter().copied().min_by(|a, b| a.1.total_cmp(&b.1)).unwrap();
+    let (c_grid, j_grid) = grid
+        .iter()
+        .copied()
+        .min_by(|a, b| a.1.total_cmp(&b.1))
+        .unwrap();
     assert!(c_grid > 300.0 && c_grid < 3000.0, "interior: {c_grid}");
     assert!((best - c_grid).abs() <= step, "tuned {best}, grid {c_grid}");
     assert!(j <= j_grid * (1.0 + 1e-9), "tuned {j}, grid {j_grid}");
@@ -124,8 +188,17 @@ fn a_time_domain_tune_finds_the_best_of_an_exhaustive_sweep_grid_and_its_file_si
     let mut sum = 0.0;
     for seed in ["1", "2"] {
         let sim = json_of(&[
-            "simulate", "--vehicle", tuned.to_str().unwrap(), "--class", "C", "--seed", seed,
-            "--length", "150", "--speed", "20",
+            "simulate",
+            "--vehicle",
+            tuned.to_str().unwrap(),
+            "--class",
+            "C",
+            "--seed",
+            seed,
+            "--length",
+            "150",
+            "--speed",
+            "20",
         ]);
         sum += sim["seats"][0]["aw"].as_f64().unwrap();
     }
@@ -133,12 +206,23 @@ fn a_time_domain_tune_finds_the_best_of_an_exhaustive_sweep_grid_and_its_file_si
     // The start objective is the file's own mean.
     let mut s = vec!["sweep", "--vehicle", &car];
     s.extend(cases);
-    let start = grid_means(&ok(&[s.as_slice(), &["--vary", "front.damping=2930"]].concat()), "front.damping");
+    let start = grid_means(
+        &ok(&[s.as_slice(), &["--vary", "front.damping=2930"]].concat()),
+        "front.damping",
+    );
     let start_j = r["start_objective"].as_f64().unwrap();
     assert!((start[0].1 / start_j - 1.0).abs() < 1e-12);
     // The history only improves, and ends at the optimum.
-    let h: Vec<f64> = r["history"].as_array().unwrap().iter().map(|e| e["objective"].as_f64().unwrap()).collect();
-    assert!(h.windows(2).all(|w| w[1] < w[0]) && *h.last().unwrap() == j, "{h:?}");
+    let h: Vec<f64> = r["history"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|e| e["objective"].as_f64().unwrap())
+        .collect();
+    assert!(
+        h.windows(2).all(|w| w[1] < w[0]) && *h.last().unwrap() == j,
+        "{h:?}"
+    );
 }
 
 #[test]
@@ -150,18 +234,35 @@ fn a_travel_limit_binds_and_is_met() {
     let car = car();
     let tune = |limit: f64| {
         json_of(&[
-            "tune", "--vehicle", &car, "--vary", "rear.damping=300:6000", "--classes", "D",
-            "--speeds", "20", "--length", "200", "--limit", &format!("travel_p99_rear_m={limit}"),
+            "tune",
+            "--vehicle",
+            &car,
+            "--vary",
+            "rear.damping=300:6000",
+            "--classes",
+            "D",
+            "--speeds",
+            "20",
+            "--length",
+            "200",
+            "--limit",
+            &format!("travel_p99_rear_m={limit}"),
         ])
     };
     let free = tune(1.0);
     let l = &free["spectral"]["optimum"]["limits"][0];
-    assert!(l["met"].as_bool().unwrap() && !l["binding"].as_bool().unwrap(), "{l}");
+    assert!(
+        l["met"].as_bool().unwrap() && !l["binding"].as_bool().unwrap(),
+        "{l}"
+    );
     let limit = 0.85 * l["value"].as_f64().unwrap();
     let r = tune(limit);
     let l = &r["spectral"]["optimum"]["limits"][0];
     assert_eq!(l["name"], "travel_p99_rear_m");
-    assert!(l["met"].as_bool().unwrap() && l["binding"].as_bool().unwrap(), "{l}");
+    assert!(
+        l["met"].as_bool().unwrap() && l["binding"].as_bool().unwrap(),
+        "{l}"
+    );
     assert_eq!(r["binding"][0], "travel_p99_rear_m");
     let (c_free, c) = (
         free["best"]["rear.damping"].as_f64().unwrap(),
@@ -179,26 +280,89 @@ fn bad_input_is_refused_with_status_2_and_no_file() {
     let dir = scratch();
     let out = dir.path().join("tuned.toml");
     let o = out.to_str().unwrap();
-    let base = ["--classes", "C", "--speeds", "20", "--length", "100", "-o", o];
+    let base = [
+        "--classes",
+        "C",
+        "--speeds",
+        "20",
+        "--length",
+        "100",
+        "-o",
+        o,
+    ];
     for (extra, fragment) in [
-        (vec!["--vary", "rear.dampng=1000:3000"], "unknown key `rear.dampng`"),
+        (
+            vec!["--vary", "rear.dampng=1000:3000"],
+            "unknown key `rear.dampng`",
+        ),
         (vec!["--vary", "rear.damping=3000:1000"], "reversed"),
         (vec!["--vary", "rear.damping=2000:2000"], "equal"),
         (vec!["--vary", "rear.damping=1000:2000:100"], "two bounds"),
-        (vec!["--vary", "rear.damping=-100:2000"], "the bound -100 is refused"),
-        (vec!["--vary", "rear.damping=1000:3000", "--limit", "travel_p99_rear_m=0.0001"], "no design within the bounds meets the limits"),
-        (vec!["--vary", "rear.damping=1000:3000", "--limit", "travel_p77_rear_m=1"], "unknown limit"),
-        (vec!["--vary", "rear.damping=1000:3000", "--limit", "time_past_bump_fraction_rear=0.1"], "no bump stop"),
-        (vec!["--vary", "rear.damping=1000:3000", "--seat", "pilot"], "no such seat"),
-        (vec!["--vary", "rear.damping=1000:3000", "--measure", "vdv", "--method", "spectral"], "VDV needs the time history"),
-        (vec!["--vary", "rear.damping=1000:3000", "--vary", "rear.damping=1:2"], "given twice"),
+        (
+            vec!["--vary", "rear.damping=-100:2000"],
+            "the bound -100 is refused",
+        ),
+        (
+            vec![
+                "--vary",
+                "rear.damping=1000:3000",
+                "--limit",
+                "travel_p99_rear_m=0.0001",
+            ],
+            "no design within the bounds meets the limits",
+        ),
+        (
+            vec![
+                "--vary",
+                "rear.damping=1000:3000",
+                "--limit",
+                "travel_p77_rear_m=1",
+            ],
+            "unknown limit",
+        ),
+        (
+            vec![
+                "--vary",
+                "rear.damping=1000:3000",
+                "--limit",
+                "time_past_bump_fraction_rear=0.1",
+            ],
+            "no bump stop",
+        ),
+        (
+            vec!["--vary", "rear.damping=1000:3000", "--seat", "pilot"],
+            "no such seat",
+        ),
+        (
+            vec![
+                "--vary",
+                "rear.damping=1000:3000",
+                "--measure",
+                "vdv",
+                "--method",
+                "spectral",
+            ],
+            "VDV needs the time history",
+        ),
+        (
+            vec![
+                "--vary",
+                "rear.damping=1000:3000",
+                "--vary",
+                "rear.damping=1:2",
+            ],
+            "given twice",
+        ),
     ] {
         let mut args = vec!["tune", "--vehicle", car.as_str()];
         args.extend(extra.iter().copied());
         args.extend(base);
         let (stdout, stderr, code) = run(&args);
         assert_eq!(code, 2, "{extra:?}: {stderr}");
-        assert!(stderr.contains(fragment), "{extra:?}: expected {fragment:?} in {stderr}");
+        assert!(
+            stderr.contains(fragment),
+            "{extra:?}: expected {fragment:?} in {stderr}"
+        );
         assert!(stdout.is_empty(), "{extra:?} printed {stdout}");
         assert!(!out.exists(), "{extra:?} left a file");
     }
@@ -211,18 +375,39 @@ fn the_tradeoff_pareto_sets_pass_a_brute_force_dominance_check_and_the_svg_parse
     let study = dir.path().join("study.csv");
     let svg = dir.path().join("t.svg");
     ok(&[
-        "sweep", "--vehicle", &car, "--vary", "rear.damping=*0.5:*1.5:*0.25", "--vary",
-        "rear.spring_rate=*0.8,*1.2", "--classes", "C,D", "--speeds", "15,25", "--length", "100",
-        "-o", study.to_str().unwrap(),
+        "sweep",
+        "--vehicle",
+        &car,
+        "--vary",
+        "rear.damping=*0.5:*1.5:*0.25",
+        "--vary",
+        "rear.spring_rate=*0.8,*1.2",
+        "--classes",
+        "C,D",
+        "--speeds",
+        "15,25",
+        "--length",
+        "100",
+        "-o",
+        study.to_str().unwrap(),
     ]);
-    let t = json_of(&["plot", "tradeoff", study.to_str().unwrap(), "-o", svg.to_str().unwrap()]);
+    let t = json_of(&[
+        "plot",
+        "tradeoff",
+        study.to_str().unwrap(),
+        "-o",
+        svg.to_str().unwrap(),
+    ]);
     let points = t["points"].as_array().unwrap();
     assert_eq!(points.len(), 10);
     for p in points {
         assert_eq!(p["rows"], 4, "2 classes × 2 speeds per variant");
     }
     let get = |p: &serde_json::Value, k: &str| p[k].as_f64().unwrap();
-    for (axis, flag) in [("dynamic_load_coefficient", "pareto_load"), ("travel", "pareto_travel")] {
+    for (axis, flag) in [
+        ("dynamic_load_coefficient", "pareto_load"),
+        ("travel", "pareto_travel"),
+    ] {
         for p in points {
             let beaten = points.iter().any(|q| {
                 get(q, axis) <= get(p, axis)
@@ -234,7 +419,66 @@ fn the_tradeoff_pareto_sets_pass_a_brute_force_dominance_check_and_the_svg_parse
     }
     let doc = std::fs::read_to_string(&svg).unwrap();
     let xml = roxmltree::Document::parse(&doc).unwrap();
-    assert!(xml.descendants().any(|n| n.text().is_some_and(|t| t.contains("Pareto set"))));
+    assert!(
+        xml.descendants()
+            .any(|n| n.text().is_some_and(|t| t.contains("Pareto set")))
+    );
     assert!(doc.contains("ISO 2631-1"), "the caution is on the picture");
     assert!(t["caution"].as_str().unwrap().contains("ISO 2631-1"));
+}
+
+#[test]
+fn an_interrupted_tune_keeps_the_old_file_and_leaves_no_partial_file() {
+    let dir = scratch();
+    let tuned = dir.path().join("tuned.toml");
+    std::fs::write(&tuned, "previous good result\n").unwrap();
+    let bin = assert_cmd::cargo::cargo_bin("roughride");
+    // A time-domain tune long enough (minutes) to be stopped midway.
+    let mut child = std::process::Command::new(bin)
+        .args([
+            "tune",
+            "--vehicle",
+            &car(),
+            "--vary",
+            "rear.damping=300:6000",
+            "--method",
+            "time",
+        ])
+        .args([
+            "--classes",
+            "C,D",
+            "--speeds",
+            "10,20,30",
+            "--length",
+            "5000",
+            "-o",
+        ])
+        .arg(&tuned)
+        .stdout(std::process::Stdio::null())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    std::thread::sleep(std::time::Duration::from_millis(1500));
+    assert!(
+        child.try_wait().unwrap().is_none(),
+        "the tune ended before it could be stopped"
+    );
+    let status = std::process::Command::new("kill")
+        .args(["-TERM", &child.id().to_string()])
+        .status()
+        .unwrap();
+    assert!(status.success());
+    let out = child.wait_with_output().unwrap();
+    assert!(
+        !out.status.success(),
+        "a stopped tune must not report success"
+    );
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert!(stderr.contains("interrupted"), "{stderr}");
+    assert_eq!(common::read(&tuned), "previous good result\n");
+    assert_eq!(
+        std::fs::read_dir(dir.path()).unwrap().count(),
+        1,
+        "a partial file was left"
+    );
 }

@@ -227,12 +227,11 @@ pub fn run(a: Args) -> Result<(), Error> {
         .iter()
         .map(|v| parse_parameter(&doc, v))
         .collect::<Result<Vec<_>, _>>()?;
-    if let Some((i, q)) = parameters
+    if let Some((_, q)) = parameters
         .iter()
         .enumerate()
         .find(|(i, q)| parameters[..*i].iter().any(|p| p.key == q.key))
     {
-        let _ = i;
         return Err(Error::Usage(format!(
             "--vary {}: `{}` is given twice",
             q.text, q.key

@@ -181,7 +181,11 @@ fn draw_plane(
     };
     chart
         .draw_series(front.iter().step_by(every).map(|p| {
-            let (dx, h) = if p.0 > turn { (-7, HPos::Right) } else { (7, HPos::Left) };
+            let (dx, h) = if p.0 > turn {
+                (-7, HPos::Right)
+            } else {
+                (7, HPos::Left)
+            };
             EmptyElement::at((p.0, p.1)) + Text::new(p.2.to_string(), (dx, -4), style(h))
         }))
         .map_err(draw_err)?;
