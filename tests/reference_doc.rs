@@ -487,20 +487,54 @@ fn every_key_of_tune_and_plot_tradeoff_is_documented() {
     // Spectral (with the `spectral` object), a limit, a seat key, -o.
     let tuned = dir.path().join("tuned.toml");
     let spectral = json_of(&[
-        "tune", "--vehicle", &car, "--vary", "rear.damping=1000:4000", "--vary",
-        "seat.driver.x=0.1:0.4", "--classes", "C", "--speeds", "20", "--length", "100",
-        "--limit", "travel_p99_rear_m=0.05", "--max-evaluations", "30", "-o",
+        "tune",
+        "--vehicle",
+        &car,
+        "--vary",
+        "rear.damping=1000:4000",
+        "--vary",
+        "seat.driver.x=0.1:0.4",
+        "--classes",
+        "C",
+        "--speeds",
+        "20",
+        "--length",
+        "100",
+        "--limit",
+        "travel_p99_rear_m=0.05",
+        "--max-evaluations",
+        "30",
+        "-o",
         tuned.to_str().unwrap(),
     ]);
     assert_documented("tune --json", &collect(spectral));
     let time = json_of(&[
-        "tune", "--vehicle", &car, "--vary", "body.mass=1000:1300", "--classes", "C",
-        "--speeds", "20", "--length", "60", "--method", "time", "--max-evaluations", "10",
+        "tune",
+        "--vehicle",
+        &car,
+        "--vary",
+        "body.mass=1000:1300",
+        "--classes",
+        "C",
+        "--speeds",
+        "20",
+        "--length",
+        "60",
+        "--method",
+        "time",
+        "--max-evaluations",
+        "10",
     ]);
     assert_documented("tune --json", &collect(time));
     let study = dir.path().join("study.csv");
     roughride()
-        .args(["sweep", "--vehicle", &car, "--vary", "front.damping=2000,3000"])
+        .args([
+            "sweep",
+            "--vehicle",
+            &car,
+            "--vary",
+            "front.damping=2000,3000",
+        ])
         .args(["--classes", "C", "--speeds", "20", "--length", "60", "-o"])
         .arg(&study)
         .assert()
