@@ -1,55 +1,183 @@
-//! The adaptive path: Dormand–Prince 5(4) (`ode_solvers::Dopri5`, after
-//! Hairer, Nørsett & Wanner, *Solving ODEs I*, §II.5) on the full element
-//! model, with its order-4 dense output sampled on the output grid.
+//! The adaptive path: Dormand–Prince 5(4) ([`super::dopri5`]) on the full
+//! element model, in one integration from start to end, with the order-4
+//! dense output of each accepted step sampled on the output grid.
 //!
-//! The run is integrated in chunks of one second of output so that memory
-//! stays bounded (the solver keeps every dense-output point of a call). All
-//! nonlinear forces are continuous in the state (stops and lift-off clamp,
-//! dampers switch rate at zero velocity), so each kink costs only rejected
-//! steps; the step is also capped at one road sample interval so that no
-//! road feature is stepped over unseen.
+//! The road is linear between its samples, so its slope (and with it the
+//! damper and tyre-damping inputs) jumps at every sample point. Steps are
+//! made to end exactly on those points, for each axle, and within a step
+//! each axle sees the one linear piece it is on: the right-hand side is
+//! smooth inside every step except where the vehicle's own elements switch
+//! (stops engaging, a damper changing direction, a tyre lifting), which the
+//! error control handles by rejecting and shrinking steps. Each output
+//! sample is read from the interpolant of the step that contains it, never
+//! extrapolated beyond a step.
 
-use nalgebra::SVector;
-use ode_solvers::{Dopri5, OutputType, System};
-
+use super::dopri5::{self, Derivative, Dopri5, StepFailure};
 use super::{
     Excitation, Plan, RunInfo, Sample, SampleSink, SolveError, SolverKind, all_finite,
     instability_hint, sample_count,
 };
-use crate::vehicle::{Contact, ElementModel, MAX_DOF, Vehicle};
+use crate::road::Profile;
+use crate::vehicle::{Contact, ElementModel, MAX_DOF, RoadState, Vehicle};
 
-type State = SVector<f64, { 2 * MAX_DOF }>;
+/// State: `q` then `q̇`.
+const N: usize = 2 * MAX_DOF;
 
-/// Output samples per integration chunk.
-const CHUNK_SAMPLES: usize = 1000;
+/// Steps between two checks for cancellation.
+const CANCEL_CHECK_STEPS: u64 = 1024;
 
+/// The road under one axle on one piece: `z(x) = z + slope·(x − x)`.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct Piece {
+    x_m: f64,
+    z_m: f64,
+    slope: f64,
+}
+
+impl Piece {
+    #[inline(always)]
+    fn at(&self, x_m: f64) -> (f64, f64) {
+        (self.z_m + self.slope * (x_m - self.x_m), self.slope)
+    }
+}
+
+/// Which piece of the profile an axle is on. Segment `k` runs from sample
+/// `k` to `k + 1`; `-1` is before the profile (the rear wheel, held at the
+/// first sample) and `len − 1` beyond it (held at the last sample).
+fn piece(profile: &Profile, k: i64) -> Piece {
+    let z0 = profile.elevation_m[0];
+    let last = profile.len() as i64 - 1;
+    if k < 0 {
+        return Piece {
+            x_m: profile.start_m,
+            z_m: 0.0,
+            slope: 0.0,
+        };
+    }
+    if k >= last {
+        return Piece {
+            x_m: profile.end_m(),
+            z_m: profile.elevation_m[last as usize] - z0,
+            slope: 0.0,
+        };
+    }
+    let (a, b) = (
+        profile.elevation_m[k as usize],
+        profile.elevation_m[k as usize + 1],
+    );
+    Piece {
+        x_m: profile.distance_m(k as usize),
+        z_m: a - z0,
+        slope: (b - a) / profile.spacing_m,
+    }
+}
+
+/// The equations of motion on the current road pieces.
 struct Equations<'a> {
     model: ElementModel<'a>,
     excitation: &'a Excitation<'a>,
+    pieces: [Piece; 2],
 }
 
-impl System<f64, State> for Equations<'_> {
+impl Derivative<N> for Equations<'_> {
     #[inline]
-    fn system(&self, t: f64, y: &State, dy: &mut State) {
-        let mut q = [0.0; MAX_DOF];
-        let mut qd = [0.0; MAX_DOF];
-        q.copy_from_slice(&y.as_slice()[..MAX_DOF]);
-        qd.copy_from_slice(&y.as_slice()[MAX_DOF..]);
-        let inputs = self.excitation.at(t);
+    fn derivative(&self, t: f64, y: &[f64; N], dy: &mut [f64; N]) {
+        let ex = self.excitation;
+        let x_front = ex.profile.start_m + ex.speed_m_s * t;
+        let (zf, sf) = self.pieces[0].at(x_front);
+        let (zr, sr) = self.pieces[1].at(x_front - ex.wheelbase_m);
+        let road = RoadState {
+            elevation_m: [zf, zr],
+            rate_m_s: [sf * ex.speed_m_s, sr * ex.speed_m_s],
+        };
+        let force_n = ex.force.map_or(0.0, |f| {
+            f.amplitude_n * (2.0 * std::f64::consts::PI * f.frequency_hz * t).sin()
+        });
+        let (q, qd) = split(y);
         let mut qdd = [0.0; MAX_DOF];
         self.model.evaluate_with(
             &q,
             &qd,
-            &inputs.road,
-            inputs.force_n,
-            self.excitation.force_x_m(),
+            &road,
+            force_n,
+            ex.force_x_m(),
             Contact::LiftOff,
             &mut qdd,
         );
-        for j in 0..MAX_DOF {
-            dy[j] = qd[j];
-            dy[MAX_DOF + j] = qdd[j];
+        dy[..MAX_DOF].copy_from_slice(&qd);
+        dy[MAX_DOF..].copy_from_slice(&qdd);
+    }
+}
+
+#[inline(always)]
+fn split(y: &[f64; N]) -> ([f64; MAX_DOF], [f64; MAX_DOF]) {
+    let mut q = [0.0; MAX_DOF];
+    let mut qd = [0.0; MAX_DOF];
+    q.copy_from_slice(&y[..MAX_DOF]);
+    qd.copy_from_slice(&y[MAX_DOF..]);
+    (q, qd)
+}
+
+/// Where each axle is on the profile and when it moves to its next piece.
+struct Track<'a> {
+    excitation: &'a Excitation<'a>,
+    /// Segment of each axle (see [`piece`]).
+    segment: [i64; 2],
+    /// Time each axle leaves its segment, s.
+    leaves_s: [f64; 2],
+}
+
+impl<'a> Track<'a> {
+    fn new(excitation: &'a Excitation<'a>) -> Self {
+        let mut t = Track {
+            excitation,
+            // The front wheel starts on the first sample, the rear wheel a
+            // wheelbase behind it, before the profile.
+            segment: [0, -1],
+            leaves_s: [0.0; 2],
+        };
+        t.leaves_s = [t.leave_time(0), t.leave_time(1)];
+        t
+    }
+
+    /// When axle `i` leaves its current segment: the front axle passes
+    /// sample `k + 1` at `(k + 1)·s / v`, the rear one a wheelbase later.
+    /// Computed from the integer index each time, so no error accumulates.
+    fn leave_time(&self, i: usize) -> f64 {
+        let ex = self.excitation;
+        let last = ex.profile.len() as i64 - 1;
+        let k = self.segment[i];
+        if k >= last {
+            return f64::INFINITY;
         }
+        let along_m = (k + 1) as f64 * ex.profile.spacing_m;
+        let offset_m = if i == 0 { 0.0 } else { ex.wheelbase_m };
+        (along_m + offset_m) / ex.speed_m_s
+    }
+
+    fn pieces(&self) -> [Piece; 2] {
+        let p = self.excitation.profile;
+        [piece(p, self.segment[0]), piece(p, self.segment[1])]
+    }
+
+    fn next_change_s(&self) -> f64 {
+        self.leaves_s[0].min(self.leaves_s[1])
+    }
+
+    /// Moves every axle whose segment ends at `t` on; true if any did.
+    /// An axle due within rounding of `t` (both axles on sample points at
+    /// once) moves too, rather than leave a step of a few ulps.
+    fn advance(&mut self, t: f64) -> bool {
+        let mut moved = false;
+        let near = t + 1e-12 * t.abs().max(1.0);
+        for i in 0..2 {
+            if self.leaves_s[i] <= near {
+                self.segment[i] += 1;
+                self.leaves_s[i] = self.leave_time(i);
+                moved = true;
+            }
+        }
+        moved
     }
 }
 
@@ -61,114 +189,113 @@ pub(super) fn run(
 ) -> Result<RunInfo, SolveError> {
     let dt = 1.0 / plan.output_rate_hz;
     let total = sample_count(excitation.duration_s(), plan.output_rate_hz);
-    let mut y = State::zeros();
-    let split = |y: &State| {
-        let mut q = [0.0; MAX_DOF];
-        let mut qd = [0.0; MAX_DOF];
-        q.copy_from_slice(&y.as_slice()[..MAX_DOF]);
-        qd.copy_from_slice(&y.as_slice()[MAX_DOF..]);
-        (q, qd)
-    };
+    let t_end = (total - 1) as f64 * dt;
     let model = vehicle.element_model();
     let force_x_m = excitation.force_x_m();
-    let (q0, qd0) = split(&y);
+    let mut track = Track::new(excitation);
+    let mut equations = Equations {
+        model,
+        excitation,
+        pieces: track.pieces(),
+    };
+    // Static equilibrium on the first sample: the run starts at rest.
+    let y0 = [0.0; N];
     sink.accept(&Sample::at(
         vehicle,
         excitation,
         0.0,
-        q0,
-        qd0,
+        [0.0; MAX_DOF],
+        [0.0; MAX_DOF],
         Contact::LiftOff,
     ))?;
-    let mut info = RunInfo {
-        solver: SolverKind::Adaptive,
-        samples: 1,
-        output_rate_hz: plan.output_rate_hz,
-        steps_accepted: 0,
-        steps_rejected: 0,
-        fallback: None,
-        bonded_pull_samples: [0; 2],
+    let settings = dopri5::Settings {
+        rtol: plan.rtol,
+        atol: plan.atol,
+        h_max: plan.max_step_s,
     };
-    let mut done = 0usize; // index of the last delivered sample
-    while done + 1 < total {
-        if super::cancel_requested() {
-            return Err(SolveError::Interrupted);
-        }
-        let count = CHUNK_SAMPLES.min(total - 1 - done);
-        let t0 = done as f64 * dt;
-        let t1 = (done + count) as f64 * dt;
-        let system = Equations {
-            model: vehicle.element_model(),
-            excitation,
-        };
-        let mut stepper = Dopri5::from_param(
-            system,
-            t0,
-            t1,
-            dt,
-            y,
-            plan.rtol,
-            plan.atol,
-            0.9,
-            0.04,
-            0.2,
-            10.0,
-            plan.max_step_s,
-            0.0,
-            1_000_000,
-            1000,
-            OutputType::Dense,
-        );
-        let stats = stepper.integrate().map_err(|e| {
-            let time_s = match e {
-                ode_solvers::dop_shared::IntegrationError::MaxNumStepReached { x, .. }
-                | ode_solvers::dop_shared::IntegrationError::StepSizeUnderflow { x }
-                | ode_solvers::dop_shared::IntegrationError::StiffnessDetected { x } => x,
-            };
-            SolveError::Integration {
-                time_s,
-                what: e.to_string(),
-                hint: instability_hint(vehicle),
+    let mut solver = Dopri5::new(&equations, 0.0, y0, settings);
+    let restart_every_s = plan.restart_interval_s.unwrap_or(f64::INFINITY);
+    let mut next_restart_s = restart_every_s;
+    // A generous ceiling that only a runaway integration reaches.
+    let max_steps = 200 * (total as u64 + excitation.profile.len() as u64) + 1_000_000;
+    let mut next = 1usize; // index of the next output sample
+    let mut iterations = 0u64;
+    while next < total {
+        let limit = track.next_change_s().min(next_restart_s).min(t_end);
+        let step = solver
+            .step(&equations, limit)
+            .map_err(|e| step_error(e, vehicle))?;
+        while next < total {
+            let t = next as f64 * dt;
+            if t > step.t1 {
+                break;
             }
-        })?;
-        info.steps_accepted += u64::from(stats.accepted_steps);
-        info.steps_rejected += u64::from(stats.rejected_steps);
-        let ys = stepper.y_out();
-        if ys.len() < count + 1 {
-            return Err(SolveError::Integration {
-                time_s: t1,
-                what: format!(
-                    "dense output gave {} points where {} were expected",
-                    ys.len(),
-                    count + 1
-                ),
-                hint: "this is a bug; please report it with the vehicle and road".to_string(),
-            });
-        }
-        // ys[0] is the chunk's start state, already delivered.
-        for (k, state) in ys.iter().enumerate().skip(1).take(count) {
-            let t = (done + k) as f64 * dt;
-            if !all_finite(state.as_slice()) {
+            let state = step.at(t);
+            if !all_finite(&state) {
                 return Err(SolveError::NonFinite {
                     time_s: t,
                     hint: instability_hint(vehicle),
                 });
             }
-            let (q, qd) = split(state);
-            let inputs = excitation.at(t);
+            let (q, qd) = split(&state);
             sink.accept(&Sample::from_inputs(
                 &model,
                 force_x_m,
                 t,
-                inputs,
+                excitation.at(t),
                 q,
                 qd,
                 Contact::LiftOff,
             ))?;
+            next += 1;
         }
-        y = ys[count];
-        done += count;
-        info.samples += count;
+        if step.t1 == limit {
+            let moved = track.advance(limit);
+            if moved {
+                equations.pieces = track.pieces();
+            }
+            if limit >= next_restart_s {
+                next_restart_s += restart_every_s;
+                solver.restart(&equations);
+            } else if moved {
+                solver.refresh(&equations);
+            }
+        }
+        iterations += 1;
+        if iterations % CANCEL_CHECK_STEPS == 0 && super::cancel_requested() {
+            return Err(SolveError::Interrupted);
+        }
+        let counts = solver.counts();
+        if counts.accepted + counts.rejected > max_steps {
+            return Err(SolveError::Integration {
+                time_s: solver.time(),
+                what: format!("more than {max_steps} steps"),
+                hint: instability_hint(vehicle),
+            });
+        }
     }
-    Ok(info)
+    let counts = solver.counts();
+    Ok(RunInfo {
+        solver: SolverKind::Adaptive,
+        samples: total,
+        output_rate_hz: plan.output_rate_hz,
+        steps_accepted: counts.accepted,
+        steps_rejected: counts.rejected,
+        fallback: None,
+        bonded_pull_samples: [0; 2],
+    })
+}
+
+fn step_error(e: StepFailure, vehicle: &Vehicle) -> SolveError {
+    match e {
+        StepFailure::Underflow { t, h } => SolveError::Integration {
+            time_s: t,
+            what: format!("the step fell to {h:.3e} s, below what the tolerance can resolve"),
+            hint: instability_hint(vehicle),
+        },
+        StepFailure::NonFinite { t } => SolveError::NonFinite {
+            time_s: t,
+            hint: instability_hint(vehicle),
+        },
+    }
 }

@@ -1,9 +1,11 @@
 //! Time-domain runs of a [`Vehicle`] over a road at constant speed.
 //!
 //! Two solvers share one model and one output grid:
-//! - **adaptive**: Dormand–Prince 5(4) from `ode_solvers` on the full
-//!   nonlinear element model ([`Vehicle::evaluate`]), with dense output onto
-//!   the grid. Needed for asymmetric dampers, stops and tyre lift-off.
+//! - **adaptive**: Dormand–Prince 5(4) with error control on the full
+//!   nonlinear element model ([`Vehicle::evaluate`]), one integration from
+//!   start to end with steps ending on the road's sample points, and dense
+//!   output onto the grid. Needed for asymmetric dampers, stops and tyre
+//!   lift-off.
 //! - **exact**: for linear vehicles, the state-space model discretised once
 //!   per run (matrix exponential with a first-order hold on the inputs,
 //!   Franklin, Powell & Workman, *Digital Control of Dynamic Systems*,
@@ -21,6 +23,7 @@
 //! lasts until the front wheel reaches the last sample.
 
 mod adaptive;
+mod dopri5;
 mod exact;
 
 pub use exact::{Discrete, Step, discretise};
@@ -191,6 +194,11 @@ pub struct Plan {
     /// Largest adaptive step, s: one road sample interval at this speed,
     /// so no road feature is stepped over unseen.
     pub max_step_s: f64,
+    /// Restart the adaptive integrator (fresh first step, no controller
+    /// memory) every this many seconds; `None` (what [`plan`] sets)
+    /// integrates in one go. A restart must not change the results beyond
+    /// the tolerance: the tests set it to check exactly that.
+    pub restart_interval_s: Option<f64>,
 }
 
 /// Decides how to run `vehicle` over `excitation`.
@@ -259,6 +267,7 @@ pub fn plan(
         rtol: settings.rtol,
         atol: settings.atol,
         max_step_s: excitation.profile.spacing_m / excitation.speed_m_s,
+        restart_interval_s: None,
     })
 }
 
