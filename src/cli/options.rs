@@ -34,6 +34,7 @@ impl SolverArgs {
             output_rate_hz: self.rate,
             rtol: self.rtol,
             atol: self.atol,
+            ..SolverSettings::default()
         }
     }
 }
