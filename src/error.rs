@@ -30,12 +30,19 @@ pub enum Error {
     /// A command-line value was malformed (option name and value in the text).
     #[error("{0}")]
     Usage(String),
-    /// Some cases of a sweep failed; the others were written. Each failure
-    /// has already been reported on its own line.
-    #[error("{failed} of {total} cases failed; the other rows were written")]
+    /// A run finished but its result cannot be right (see
+    /// [`crate::plausibility`]); nothing was printed or kept.
+    #[error("the result cannot be right, so it was not printed and no file was written:\n  {}", .0.join("\n  "))]
+    Implausible(Vec<String>),
+    /// Some cases of a sweep failed (no row) or gave a result that cannot
+    /// be right (row flagged in its `checks` column); the other rows were
+    /// written. Each has already been reported on its own line.
+    #[error("{}", cases_failed_text(*failed, *implausible, *total))]
     CasesFailed {
         /// Cases that failed.
         failed: usize,
+        /// Cases whose rows are flagged implausible.
+        implausible: usize,
         /// Cases tried.
         total: usize,
     },
@@ -68,6 +75,18 @@ pub(crate) fn csv_message(kind: &csv::ErrorKind) -> String {
     }
 }
 
+fn cases_failed_text(failed: usize, implausible: usize, total: usize) -> String {
+    match (failed, implausible) {
+        (f, 0) => format!("{f} of {total} cases failed; the other rows were written"),
+        (0, i) => format!(
+            "{i} of {total} cases gave results that cannot be right (flagged implausible in the checks column); the other rows are results"
+        ),
+        (f, i) => format!(
+            "{f} of {total} cases failed and {i} gave results that cannot be right (flagged implausible in the checks column); the other rows are results"
+        ),
+    }
+}
+
 impl Error {
     /// Exit status for the command line: 2 for bad input, 1 otherwise.
     pub fn exit_status(&self) -> u8 {
@@ -80,6 +99,7 @@ impl Error {
             Error::Lifetime(e) => e.exit_status(),
             Error::Usage(_) => 2,
             Error::CasesFailed { .. } => 1,
+            Error::Implausible(_) => 1,
         }
     }
 }

@@ -11,6 +11,7 @@
 //! | [`comfort`] | ISO 2631-1 frequency weightings, aw, MTVV, VDV, crest factor, guidance |
 //! | [`stats`] | durability statistics: distributions, histograms, level crossings, rainflow |
 //! | [`pipeline`] | one simulation run end to end: road → solver → evaluators → summary |
+//! | [`plausibility`] | checks that a finished run could be right: finite numbers, energy balance, spectral prediction |
 //! | [`batch`] | sweeps of speed × road class × seed, sharding, parallel execution |
 //! | [`design`] | design studies: vehicle-file variants (`--vary`), trade-offs and the Pareto set, tuning |
 //! | [`lifetime`] | lifetime load spectra: a usage file of road, speed and load parts, counts scaled to the life |
@@ -33,6 +34,7 @@ pub mod design;
 pub mod error;
 pub mod lifetime;
 pub mod pipeline;
+pub mod plausibility;
 pub mod report;
 pub mod road;
 pub mod solve;

@@ -14,8 +14,13 @@ use std::sync::mpsc;
 use serde::Serialize;
 
 use crate::comfort::{Guidance, Measures, Meter, Weighting, guidance};
+use crate::plausibility::{
+    EnergyBalance, EnergyLedger, Engagement, Finding, energy_findings, gaps, non_finite_fields,
+    spectral_findings,
+};
 use crate::report::{AtomicFile, ExportError, fmt_micro};
 use crate::road::Profile;
+use crate::road::iso8608::RoadSpec;
 use crate::solve::{
     self, Excitation, HarmonicForce, RunInfo, Sample, SampleSink, SolveError, SolverKind,
     SolverSettings,
@@ -25,6 +30,7 @@ use crate::stats::durability::{
     AxleDurability, DurabilitySettings, DurabilitySummary, write_rainflow_header,
     write_travel_histograms,
 };
+use crate::vehicle::response::{PredictedRms, SpectralSettings, predicted_rms_with};
 use crate::vehicle::{AXLE_NAMES, Vehicle};
 
 /// Everything a run needs besides the vehicle and road.
@@ -43,6 +49,9 @@ pub struct RunOptions {
     pub exposure_s: f64,
     /// Durability evaluation settings.
     pub durability: DurabilitySettings,
+    /// The ISO 8608 spec the road was generated from, if it was: the run is
+    /// then compared with its frequency-domain prediction.
+    pub road_spec: Option<RoadSpec>,
 }
 
 /// Eight hours, s: the reference day of ISO 2631-1 Annex B and of the
@@ -59,6 +68,7 @@ impl RunOptions {
             force: None,
             exposure_s: DEFAULT_EXPOSURE_S,
             durability: DurabilitySettings::default(),
+            road_spec: None,
         }
     }
 }
@@ -83,6 +93,32 @@ pub struct RunSummary {
     pub axles: Axles,
     /// Body motion.
     pub body: BodySummary,
+    /// Random-vibration prediction from the road PSD and the frequency
+    /// response (generated roads only), beside the time-domain values.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub predicted: Option<PredictedRms>,
+    /// What the plausibility checks found ([`crate::plausibility`]).
+    pub checks: Checks,
+}
+
+/// The plausibility checks of one run.
+#[derive(Debug, Clone, Serialize)]
+pub struct Checks {
+    /// Warnings and implausible results, each with its numbers.
+    pub findings: Vec<Finding>,
+    /// The energy balance the checks rest on.
+    pub energy: EnergyBalance,
+    /// How the run compares with its spectral prediction, in words
+    /// (generated roads only).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub spectral: Option<String>,
+}
+
+impl Checks {
+    /// True if some finding says the result cannot be right.
+    pub fn implausible(&self) -> bool {
+        crate::plausibility::any_implausible(&self.findings)
+    }
 }
 
 /// ISO 2631-1 evaluation of one seat's vertical acceleration.
@@ -178,15 +214,94 @@ pub fn simulate_detailed(
         force: options.force,
     };
     let plan = solve::plan(vehicle, &excitation, &options.solver)?;
+    // The frequency-domain companion, computed before the run so that bad
+    // values are refused before any file is written.
+    let predicted = options
+        .road_spec
+        .as_ref()
+        .map(|spec| {
+            predicted_rms_with(
+                vehicle,
+                options.speed_m_s,
+                spec,
+                options.weighting,
+                &SpectralSettings {
+                    profile_spacing_m: Some(spec.spacing_m),
+                    ..Default::default()
+                },
+            )
+        })
+        .transpose()?;
     let mut sink = Evaluators::new(vehicle, options, plan.output_rate_hz, history)?;
     let info = run_streaming(vehicle, &excitation, &plan, &mut sink)?;
-    let summary = sink.summary(vehicle, &excitation, info, options.exposure_s);
+    let mut summary = sink.summary(vehicle, &excitation, info, options.exposure_s);
+    summary.predicted = predicted;
+    summary.checks = check(vehicle, &summary, &sink.energy, options.road_spec.as_ref());
     Ok((
         summary,
         Durability {
             axles: sink.durability,
         },
     ))
+}
+
+/// Runs the plausibility checks on a finished run.
+fn check(
+    vehicle: &Vehicle,
+    s: &RunSummary,
+    energy: &EnergyLedger,
+    spec: Option<&RoadSpec>,
+) -> Checks {
+    let axles = [&s.axles.front, &s.axles.rear];
+    let mut findings = energy_findings(energy, axles.map(|a| [a.travel_min, a.travel_max]));
+    let spectral = s.predicted.as_ref().zip(spec).map(|(p, spec)| {
+        let engagement = Engagement {
+            off_ground: axles
+                .iter()
+                .map(|a| a.time_off_ground_fraction)
+                .fold(0.0, f64::max),
+            past_stops: axles
+                .iter()
+                .flat_map(|a| {
+                    [
+                        a.durability.time_past_bump_fraction,
+                        a.durability.time_past_rebound_fraction,
+                    ]
+                })
+                .flatten()
+                .fold(0.0, f64::max),
+            damper_asymmetry: vehicle
+                .axles
+                .iter()
+                .map(|a| {
+                    let (b, r) = (a.damper.bump_n_s_m, a.damper.rebound_n_s_m);
+                    b.max(r) / b.min(r)
+                })
+                .fold(1.0, f64::max),
+        };
+        let (note, found) = spectral_findings(
+            &gaps(s, p),
+            &engagement,
+            s.duration_s,
+            spec.random_amplitudes,
+        );
+        findings.extend(found);
+        note
+    });
+    for path in non_finite_fields(s) {
+        findings.push(Finding {
+            severity: crate::plausibility::Severity::Implausible,
+            code: "non_finite",
+            message: format!(
+                "{path} is not a finite number: the run produced values no physical result has"
+            ),
+        });
+    }
+    Checks {
+        findings,
+        energy: energy.balance(),
+        spectral,
+    }
 }
 
 /// Output samples per chunk handed to the evaluator thread (about 230 kB).
@@ -356,6 +471,7 @@ struct Evaluators<'h> {
     history: Option<&'h mut AtomicFile>,
     header: String,
     line: String,
+    energy: EnergyLedger,
 }
 
 impl<'h> Evaluators<'h> {
@@ -399,6 +515,7 @@ impl<'h> Evaluators<'h> {
             history,
             header: history_header(vehicle),
             line: String::with_capacity(256),
+            energy: EnergyLedger::new(vehicle, options.force.map_or(0.0, |f| f.x_m)),
         })
     }
 
@@ -476,6 +593,12 @@ impl<'h> Evaluators<'h> {
                 heave_rms: self.heave.rms(),
                 pitch_rms: self.pitch.rms(),
             },
+            predicted: None,
+            checks: Checks {
+                findings: Vec::new(),
+                energy: self.energy.balance(),
+                spectral: None,
+            },
         }
     }
 }
@@ -501,8 +624,9 @@ pub fn history_header(vehicle: &Vehicle) -> String {
 }
 
 impl SampleSink for Evaluators<'_> {
-    fn start(&mut self, _solver: SolverKind) -> Result<(), SolveError> {
+    fn start(&mut self, solver: SolverKind) -> Result<(), SolveError> {
         self.reset()?;
+        self.energy.start(solver);
         if let Some(h) = self.history.as_deref_mut() {
             h.rewind()?;
             writeln!(h, "{}", self.header).map_err(|e| history_error(h, e))?;
@@ -528,6 +652,7 @@ impl SampleSink for Evaluators<'_> {
                 self.off_ground[i] += 1;
             }
         }
+        self.energy.push(s);
         self.heave.push(s.q[0]);
         self.pitch.push(s.q[1]);
         self.heave_acc.push(s.qdd[0]);

@@ -63,6 +63,28 @@ pub struct SweepReport {
     pub rows: usize,
     /// Cases that failed, in case order.
     pub failures: Vec<CaseFailure>,
+    /// Cases whose row carries plausibility findings (warnings or a result
+    /// that cannot be right), in case order.
+    pub flagged: Vec<FlaggedCase>,
+}
+
+/// A case whose row was written with plausibility findings.
+#[derive(Debug, Clone)]
+pub struct FlaggedCase {
+    /// Vehicle, road, seed and speed in words.
+    pub description: String,
+    /// What the checks found.
+    pub findings: Vec<crate::plausibility::Finding>,
+}
+
+impl SweepReport {
+    /// Cases whose result cannot be right (their rows are flagged).
+    pub fn implausible(&self) -> usize {
+        self.flagged
+            .iter()
+            .filter(|f| crate::plausibility::any_implausible(&f.findings))
+            .count()
+    }
 }
 
 /// Runs shard `shard` of `grid` with `runner` and writes one row per
@@ -92,10 +114,17 @@ pub fn write_sweep(
     }
     let mut rows = 0;
     let mut failures = Vec::new();
+    let mut flagged = Vec::new();
     runner.run(grid, &cases, |case, result| {
         let completed = result.is_ok();
         match result {
             Ok(summary) => {
+                if !summary.checks.findings.is_empty() {
+                    flagged.push(FlaggedCase {
+                        description: grid.describe(case),
+                        findings: summary.checks.findings.clone(),
+                    });
+                }
                 let cells = row::cells(grid, case, &summary, seats);
                 let line = match spec.format {
                     Format::Csv => row::csv_line(&cells),
@@ -119,5 +148,6 @@ pub fn write_sweep(
         bounds,
         rows,
         failures,
+        flagged,
     })
 }

@@ -13,7 +13,12 @@
 //! dynamic_load_coefficient_{axle},time_off_ground_fraction_{axle},
 //! time_past_bump_fraction_{axle},time_past_rebound_fraction_{axle}` (the
 //! last two empty for an axle without that stop), then `heave_accel_rms_m_s2,
-//! pitch_accel_rms_rad_s2,duration_s,length_m,solver`.
+//! pitch_accel_rms_rad_s2,duration_s,length_m,solver,checks`.
+//!
+//! `checks` is `ok` when the plausibility checks found nothing, else
+//! `warning:` or `implausible:` followed by the finding codes joined by `;`
+//! (e.g. `implausible:energy_balance;travel_beyond_energy`): a row marked
+//! implausible is not a result (see [`crate::plausibility`]).
 //!
 //! `seat_aw` is the first seat's aw (a documented key), m/s²; `speed_kmh`
 //! the speed in km/h (rounded to 10⁻⁹ km/h); aw, MTVV in
@@ -85,6 +90,7 @@ pub fn columns(seats: usize, varied: &[String]) -> Vec<String> {
         "duration_s",
         "length_m",
         "solver",
+        "checks",
     ] {
         c.push(s.to_string());
     }
@@ -150,8 +156,24 @@ pub fn cells(grid: &Grid, case: &Case, s: &RunSummary, seats: usize) -> Vec<Cell
             }
             .to_string(),
         ),
+        Cell::Text(checks_cell(&s.checks.findings)),
     ]);
     r
+}
+
+/// The `checks` cell: `ok`, or the severity and the finding codes.
+pub fn checks_cell(findings: &[crate::plausibility::Finding]) -> String {
+    if findings.is_empty() {
+        return "ok".to_string();
+    }
+    let head = if crate::plausibility::any_implausible(findings) {
+        "implausible"
+    } else {
+        "warning"
+    };
+    let mut codes: Vec<&str> = findings.iter().map(|f| f.code).collect();
+    codes.dedup();
+    format!("{head}:{}", codes.join(";"))
 }
 
 fn axle_cells(a: &AxleSummary) -> Vec<Cell> {

@@ -127,6 +127,7 @@ impl Runner {
         };
         let mut options = self.options.clone();
         options.speed_m_s = case.speed_m_s;
+        options.road_spec = grid.road_spec(case);
         pipeline::simulate(
             &grid.vehicles[case.vehicle].vehicle,
             &profile,

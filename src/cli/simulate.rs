@@ -19,10 +19,7 @@ use roughride::road::obstacle::flat;
 use roughride::road::{Profile, read_profile_csv};
 use roughride::solve::HarmonicForce;
 use roughride::stats::durability::DurabilitySettings;
-use roughride::vehicle::response::{
-    HarmonicAmplitudes, PredictedRms, SpectralSettings, harmonic_force_amplitudes,
-    predicted_rms_with,
-};
+use roughride::vehicle::response::{HarmonicAmplitudes, PredictedRms, harmonic_force_amplitudes};
 use roughride::vehicle::{Vehicle, read_vehicle};
 
 /// Run a vehicle over a road at a constant speed and report ride comfort
@@ -164,10 +161,6 @@ struct Output<'a> {
     #[serde(flatten)]
     summary: &'a RunSummary,
     road: RoadInfo,
-    /// Random-vibration prediction from the road PSD and the frequency
-    /// response (generated roads only), beside the time-domain values.
-    #[serde(skip_serializing_if = "Option::is_none")]
-    predicted: Option<PredictedRms>,
     /// Steady-state amplitudes of the harmonic body force (frequency domain).
     #[serde(skip_serializing_if = "Option::is_none")]
     harmonic_force: Option<HarmonicAmplitudes>,
@@ -260,23 +253,11 @@ pub fn run(a: Args) -> Result<(), Error> {
             sn_exponents: a.sn_exponent.clone(),
             ..DurabilitySettings::default()
         },
+        road_spec: spec,
     };
     let mut history = a.history.as_deref().map(AtomicFile::create).transpose()?;
-    // Frequency-domain companions, computed before the run so that bad
+    // Frequency-domain companion, computed before the run so that bad
     // values are refused before any file is written.
-    let predicted = match &spec {
-        Some(spec) => Some(predicted_rms_with(
-            &vehicle,
-            a.speed,
-            spec,
-            a.run.weighting,
-            &SpectralSettings {
-                profile_spacing_m: Some(spec.spacing_m),
-                ..Default::default()
-            },
-        )?),
-        None => None,
-    };
     let harmonic_force = a
         .force
         .as_ref()
@@ -284,6 +265,17 @@ pub fn run(a: Args) -> Result<(), Error> {
         .transpose()?;
     let (summary, durability) =
         pipeline::simulate_detailed(&vehicle, &profile, &options, history.as_mut())?;
+    // A result that cannot be right is not printed, and no file is kept.
+    if summary.checks.implausible() {
+        return Err(Error::Implausible(
+            summary
+                .checks
+                .findings
+                .iter()
+                .map(|f| f.message.clone())
+                .collect(),
+        ));
+    }
     if let Some(path) = &a.travel_histogram {
         write_atomic(path, |w| {
             durability
@@ -313,10 +305,14 @@ pub fn run(a: Args) -> Result<(), Error> {
             );
         }
     }
+    let mut warnings = warnings;
+    for f in &summary.checks.findings {
+        eprintln!("roughride: warning: {}", f.message);
+        warnings.push(f.message.clone());
+    }
     let out = Output {
         summary: &summary,
         road,
-        predicted,
         harmonic_force,
         warnings,
         caution: HEALTH_CAUTION,
@@ -339,7 +335,7 @@ fn render(o: &Output<'_>) -> String {
         durability_table(s),
         body_table(s),
     ];
-    tables.extend(o.predicted.as_ref().map(|p| prediction_table(p, s)));
+    tables.extend(s.predicted.as_ref().map(|p| prediction_table(p, s)));
     tables.extend(o.harmonic_force.as_ref().map(harmonic_table));
     for t in &tables {
         out.push_str(&t.render());
@@ -535,7 +531,9 @@ fn prediction_table(p: &PredictedRms, s: &RunSummary) -> Table {
             sa.tyre_load_rms,
         );
     }
-    t.note("a large difference means the run is too short for stable statistics, or a tyre left the road (the prediction is linear)");
+    if let Some(note) = &s.checks.spectral {
+        t.note(note);
+    }
     t
 }
 

@@ -17,6 +17,7 @@ use roughride::batch::{
 use roughride::comfort::HEALTH_CAUTION;
 use roughride::design::vary::{Variation, VehicleDocument, expand};
 use roughride::pipeline::RunOptions;
+use roughride::plausibility::Severity;
 use roughride::report::{FilePlan, write_to};
 use roughride::road::iso8608::RoadClass;
 use roughride::road::read_profile_csv;
@@ -217,6 +218,15 @@ pub fn run(a: Args) -> Result<(), Error> {
     progress.finish_and_clear();
     let Some(report) = report else { return written };
     eprintln!("roughride: note: {HEALTH_CAUTION}");
+    for f in &report.flagged {
+        for finding in &f.findings {
+            let what = match finding.severity {
+                Severity::Warning => "warning",
+                Severity::Implausible => "implausible (row flagged, not a result)",
+            };
+            eprintln!("roughride: {what}: {}: {}", f.description, finding.message);
+        }
+    }
     for f in &report.failures {
         eprintln!("roughride: failed: {}: {}", f.description, f.error);
     }
@@ -229,14 +239,18 @@ pub fn run(a: Args) -> Result<(), Error> {
         }
     }
     written?;
-    // Exit status 1 for failed cases (the documented exit statuses: 1 for anything but bad input).
+    // Exit status 1 for failed or implausible cases (the documented exit
+    // statuses: 1 for anything but bad input).
     cases_failed(&report).map_or(Ok(()), Err)
 }
 
-/// The error for a sweep in which some cases failed, if any did.
+/// The error for a sweep in which some cases failed or gave results that
+/// cannot be right, if any did.
 fn cases_failed(r: &roughride::batch::SweepReport) -> Option<Error> {
-    (!r.failures.is_empty()).then(|| Error::CasesFailed {
+    let implausible = r.implausible();
+    (!r.failures.is_empty() || implausible > 0).then(|| Error::CasesFailed {
         failed: r.failures.len(),
+        implausible,
         total: r.bounds.1 - r.bounds.0,
     })
 }

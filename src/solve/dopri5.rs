@@ -279,7 +279,8 @@ impl<const N: usize> Dopri5<N> {
             }
             let fac11 = err.powf(ALPHA);
             if err <= 1.0 {
-                let fac = (fac11 / self.err_old.powf(BETA) / SAFETY).clamp(GROW_LIMIT, SHRINK_LIMIT);
+                let fac =
+                    (fac11 / self.err_old.powf(BETA) / SAFETY).clamp(GROW_LIMIT, SHRINK_LIMIT);
                 let mut h_new = (h / fac).min(self.settings.h_max);
                 if self.rejected_last {
                     h_new = h_new.min(h);
@@ -366,14 +367,7 @@ impl<const N: usize> Dopri5<N> {
     }
 
     /// The continuous extension of an accepted step (CONTD5's coefficients).
-    fn dense(
-        &self,
-        h: f64,
-        t0: f64,
-        t1: f64,
-        y_new: &[f64; N],
-        k: &[[f64; N]; 7],
-    ) -> DenseStep<N> {
+    fn dense(&self, h: f64, t0: f64, t1: f64, y_new: &[f64; N], k: &[[f64; N]; 7]) -> DenseStep<N> {
         let y = &self.y;
         let mut r = [[0.0; N]; 5];
         for i in 0..N {
@@ -437,7 +431,11 @@ mod tests {
             assert_eq!(s.time(), limit, "a step that reaches the limit lands on it");
         }
         let t = s.time();
-        ((s.state()[0] - (w * t).cos()).abs(), worst_dense, s.counts())
+        (
+            (s.state()[0] - (w * t).cos()).abs(),
+            worst_dense,
+            s.counts(),
+        )
     }
 
     #[test]

@@ -24,6 +24,12 @@ pub const TRAVEL_SPAN_M: f64 = 0.5;
 /// Bin width of the histogram the percentiles come from, m: percentiles are
 /// exact to this resolution.
 pub const PERCENTILE_BIN_M: f64 = 1e-4;
+/// Range of the wide histogram that percentiles beyond ±[`TRAVEL_SPAN_M`]
+/// come from, m (±): only a run gone wrong travels further.
+pub const WIDE_SPAN_M: f64 = 50.0;
+/// Bin width of the wide histogram, m: percentiles beyond ±0.5 m are exact
+/// to this resolution.
+pub const WIDE_BIN_M: f64 = 5e-3;
 /// Travel levels whose up-crossings are counted, m: every 10 mm to ±50 mm.
 pub const CROSSING_LEVELS_M: [f64; 11] = [
     -0.05, -0.04, -0.03, -0.02, -0.01, 0.0, 0.01, 0.02, 0.03, 0.04, 0.05,
@@ -193,6 +199,8 @@ impl Channel {
 pub struct AxleDurability {
     clearances_m: (Option<f64>, Option<f64>),
     fine: Histogram,
+    /// Percentiles that fall outside `fine` (coarser, much wider).
+    wide: Histogram,
     coarse: Histogram,
     crossings: LevelCrossings,
     past_bump: u64,
@@ -235,7 +243,8 @@ pub struct DamageEquivalentRange {
 /// The results of one axle.
 #[derive(Debug, Clone, Serialize)]
 pub struct DurabilitySummary {
-    /// Travel percentiles 1, 5, 50, 95, 99 %, m (resolution 0.1 mm).
+    /// Travel percentiles 1, 5, 50, 95, 99 %, m (resolution 0.1 mm within
+    /// ±0.5 m, 5 mm beyond; NaN only past ±50 m).
     pub travel_percentiles_m: Vec<(f64, f64)>,
     /// Fraction of samples past the bump clearance (None without a bump stop).
     pub time_past_bump_fraction: Option<f64>,
@@ -263,6 +272,7 @@ impl AxleDurability {
         Ok(AxleDurability {
             clearances_m,
             fine: Histogram::new(-TRAVEL_SPAN_M, TRAVEL_SPAN_M, PERCENTILE_BIN_M)?,
+            wide: Histogram::new(-WIDE_SPAN_M, WIDE_SPAN_M, WIDE_BIN_M)?,
             coarse: Histogram::new(-TRAVEL_SPAN_M, TRAVEL_SPAN_M, settings.travel_bin_m)?,
             crossings: LevelCrossings::new(CROSSING_LEVELS_M.to_vec()),
             past_bump: 0,
@@ -282,6 +292,7 @@ impl AxleDurability {
     #[inline]
     pub fn push(&mut self, travel_m: f64, force_n: f64, tyre_load_n: f64) {
         self.fine.push(travel_m);
+        self.wide.push(travel_m);
         self.coarse.push(travel_m);
         self.crossings.push(travel_m);
         if self.clearances_m.0.is_some_and(|c| travel_m > c) {
@@ -310,7 +321,13 @@ impl AxleDurability {
         DurabilitySummary {
             travel_percentiles_m: PERCENTILES
                 .iter()
-                .map(|p| (*p, self.fine.percentile(*p).unwrap_or(f64::NAN)))
+                .map(|p| {
+                    let v = self
+                        .fine
+                        .percentile(*p)
+                        .or_else(|| self.wide.percentile(*p));
+                    (*p, v.unwrap_or(f64::NAN))
+                })
                 .collect(),
             time_past_bump_fraction: self.clearances_m.0.map(|_| self.past_bump as f64 / n),
             time_past_rebound_fraction: self.clearances_m.1.map(|_| self.past_rebound as f64 / n),
