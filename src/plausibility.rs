@@ -663,3 +663,79 @@ pub fn non_finite_fields<T: Serialize + ?Sized>(value: &T) -> Vec<String> {
 }
 
 mod finite;
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn gap(predicted: f64, simulated: f64) -> Vec<Gap> {
+        vec![Gap {
+            what: "driver aw".into(),
+            predicted,
+            simulated,
+        }]
+    }
+
+    const LINEAR: Engagement = Engagement {
+        off_ground: 0.0,
+        past_stops: 0.0,
+        damper_asymmetry: 1.0,
+    };
+
+    #[test]
+    fn the_expected_scatter_follows_the_random_error_of_an_rms_estimate() {
+        // Bendat & Piersol: ε ≈ 1/(2√(B T)) for an r.m.s. estimate, B = 1 Hz
+        // assumed, plus 1 % for the start from rest.
+        assert!((expected_scatter(100.0, true) - (0.01 + 0.05)).abs() < 1e-12);
+        assert!((expected_scatter(25.0, true) - (0.01 + 0.1)).abs() < 1e-12);
+        // Deterministic amplitudes: far smaller, falling with the duration.
+        assert!(expected_scatter(100.0, false) < 0.02);
+        assert!(expected_scatter(10.0, false) > expected_scatter(100.0, false));
+    }
+
+    #[test]
+    fn a_large_gap_on_a_linear_run_is_a_warning_that_names_its_size_and_cause() {
+        // The gap once printed with a hint pointing elsewhere: 8883 %.
+        let (note, found) = spectral_findings(&gap(0.823, 73.9), &LINEAR, 60.0, false);
+        assert_eq!(found.len(), 1);
+        assert_eq!(found[0].code, "spectral_gap");
+        assert!(
+            note.contains("8879.3 %") && note.contains("solver"),
+            "{note}"
+        );
+        // Within the scatter: no warning, and the note says it agrees.
+        let (note, found) = spectral_findings(&gap(0.823, 0.822), &LINEAR, 60.0, false);
+        assert!(found.is_empty() && note.contains("agrees"), "{note}");
+    }
+
+    #[test]
+    fn a_gap_on_a_clearly_nonlinear_run_is_explained_not_flagged() {
+        let airborne = Engagement {
+            off_ground: 0.2,
+            ..LINEAR
+        };
+        let (note, found) = spectral_findings(&gap(1.0, 1.6), &airborne, 60.0, false);
+        assert!(found.is_empty());
+        assert!(
+            note.contains("20.00 % of the time with a tyre off the ground"),
+            "{note}"
+        );
+        let asymmetric = Engagement {
+            damper_asymmetry: 2.4,
+            ..LINEAR
+        };
+        assert!(!asymmetric.nearly_linear());
+    }
+
+    #[test]
+    fn the_clamped_potential_is_continuous_and_grows_beyond_release() {
+        // v(x) = ½ k x² until the force k x reaches −S at x* = −S/k, then
+        // the constant force −S: continuous, and rising as x falls further.
+        let (k, s) = (1000.0, 50.0);
+        let release = -s / k;
+        let v = |x: f64| clamped(x, release, s, |y| 0.5 * k * y * y);
+        assert!((v(release - 1e-12) - v(release + 1e-12)).abs() < 1e-9);
+        assert!(v(release - 0.1) > v(release));
+        assert!((v(release - 0.1) - (0.5 * k * release * release + s * 0.1)).abs() < 1e-9);
+    }
+}

@@ -218,8 +218,14 @@ fn check_matrix(vehicle_file: &str, cases: &[Case]) {
         fold(&mut worst_scipy, w);
     }
     eprintln!(
-        "{vehicle_file}: {} runs; largest differences (r.m.s. rel, extremes rel, fractions abs): vs scipy {worst_scipy:.1e?}, restarted {worst_restart:.1e?}",
-        cases.len()
+        "{vehicle_file}: {} runs; largest differences (r.m.s. rel, extremes rel, fractions abs): vs scipy {:.1e}/{:.1e}/{:.1e}, restarted {:.1e}/{:.1e}/{:.1e}",
+        cases.len(),
+        worst_scipy[0],
+        worst_scipy[1],
+        worst_scipy[2],
+        worst_restart[0],
+        worst_restart[1],
+        worst_restart[2],
     );
     assert!(
         failures.is_empty(),

@@ -218,8 +218,15 @@ pub fn plan(
             settings.output_rate_hz
         ));
     }
-    if !(settings.rtol > 0.0 && settings.rtol < 1.0) {
-        return bad(format!("--rtol must be in (0, 1), got {}", settings.rtol));
+    // DOPRI5 itself refuses a relative tolerance at or below 10 ε: no step
+    // can be checked that finely in double precision (Hairer, Nørsett &
+    // Wanner's code, "tolerances are too small").
+    let rtol_min = 10.0 * f64::EPSILON;
+    if !(settings.rtol > rtol_min && settings.rtol < 1.0) {
+        return bad(format!(
+            "--rtol must be between {rtol_min:.1e} (10 machine epsilons) and 1, got {:e}",
+            settings.rtol
+        ));
     }
     if !(settings.atol > 0.0 && settings.atol.is_finite()) {
         return bad(format!("--atol must be positive, got {}", settings.atol));
