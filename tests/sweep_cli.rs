@@ -434,6 +434,50 @@ fn aw_rises_with_road_class_at_every_speed() {
 }
 
 #[test]
+fn a_failed_case_is_listed_and_the_good_rows_are_still_written() {
+    // A case whose run would need more than 10⁹ output samples (1 km at
+    // 0.01 m/s on a 20 kHz grid) fails when it is planned; the 20 m/s case
+    // of the same sweep runs.
+    let dir = scratch();
+    let file = dir.path().join("grid.csv");
+    let van = demo(VAN).to_str().unwrap().to_string();
+    let (stdout, stderr, code) = run(&[
+        "sweep",
+        "--vehicle",
+        &van,
+        "--classes",
+        "B",
+        "--speeds",
+        "0.01,20",
+        "--length",
+        "1000",
+        "--rate",
+        "20000",
+        "-o",
+        file.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 1, "a failed case gives exit status 1:\n{stderr}");
+    assert_eq!(stdout, "");
+    let rows = csv_rows(&common::read(&file));
+    assert_eq!(rows.len(), 1, "{rows:?}");
+    assert_eq!(rows[0]["speed_m_s"], "20");
+    let failed: Vec<&str> = stderr
+        .lines()
+        .filter(|l| l.contains("failed: case"))
+        .collect();
+    assert_eq!(failed.len(), 1, "{stderr}");
+    // The parameters of the case and the planner's message.
+    assert!(
+        failed[0].contains("class B seed 1")
+            && failed[0].contains("speed 0.01 m/s")
+            && failed[0].contains("output samples"),
+        "{}",
+        failed[0]
+    );
+    assert!(stderr.contains("1 of 2 cases failed"), "{stderr}");
+}
+
+#[test]
 fn every_row_carries_its_plausibility_checks() {
     // Correct runs, linear and nonlinear, on a generated road: every row is
     // marked `ok` (the checks are in src/plausibility.rs; rows flagged
