@@ -252,7 +252,7 @@ fn the_van_with_stops_matches_the_scipy_reference_and_ignores_restarts() {
             case("D", 40.0, 6, 1000.0),
             case("D", 80.0, 7, 1000.0),
             case("D", 110.0, 8, 1000.0),
-            case("E", 30.0, 9, 1000.0),
+            case("E", 40.0, 9, 1000.0),
             case("E", 70.0, 10, 1000.0),
             case("E", 110.0, 11, 1000.0),
         ],
