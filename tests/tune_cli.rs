@@ -482,3 +482,37 @@ fn an_interrupted_tune_keeps_the_old_file_and_leaves_no_partial_file() {
         "a partial file was left"
     );
 }
+
+#[test]
+fn a_tune_prints_the_same_bytes_on_one_thread_and_on_two() {
+    // The time-domain cases run in parallel; their values are combined in
+    // case order, so the thread count changes nothing (the house rule).
+    let car = car();
+    let args = |jobs: &'static str| {
+        vec![
+            "tune",
+            "--vehicle",
+            car.as_str(),
+            "--vary",
+            "rear.damping=800:4000",
+            "--method",
+            "time",
+            "--classes",
+            "C",
+            "--seeds",
+            "3",
+            "--speeds",
+            "20",
+            "--length",
+            "80",
+            "--max-evaluations",
+            "25",
+            "--json",
+            "--jobs",
+            jobs,
+        ]
+    };
+    let one = ok(&args("1"));
+    let two = ok(&args("2"));
+    assert_eq!(one, two);
+}

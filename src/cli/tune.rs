@@ -16,7 +16,7 @@ use roughride::Error;
 use roughride::batch::values::parse_speed_list_m_s;
 use roughride::comfort::HEALTH_CAUTION;
 use roughride::design::tune::problem::{
-    Limit, Measure, Objective, Over, Study, StudyRoad, parse_parameter,
+    Limit, Measure, Objective, Over, Study, StudyRoad, parse_parameters,
 };
 use roughride::design::tune::search::SearchSettings;
 use roughride::design::tune::{DesignValues, Method, Problem, TuneReport, tune};
@@ -215,32 +215,12 @@ fn study(a: &Args, wheelbase_m: f64) -> Result<Study, Error> {
     })
 }
 
-pub fn run(a: Args) -> Result<(), Error> {
-    FilePlan::new()
-        .input("--vehicle", &a.vehicle)
-        .inputs("--profile", &a.profile)
-        .output("-o", a.output.as_deref())
-        .check()?;
-    let doc = VehicleDocument::read(&a.vehicle)?;
-    let parameters = a
-        .vary
-        .iter()
-        .map(|v| parse_parameter(&doc, v))
-        .collect::<Result<Vec<_>, _>>()?;
-    if let Some((_, q)) = parameters
-        .iter()
-        .enumerate()
-        .find(|(i, q)| parameters[..*i].iter().any(|p| p.key == q.key))
-    {
-        return Err(Error::Usage(format!(
-            "--vary {}: `{}` is given twice",
-            q.text, q.key
-        )));
-    }
+/// The problem the arguments describe (every input checked here).
+fn problem<'a>(a: &Args, doc: &'a VehicleDocument) -> Result<Problem<'a>, Error> {
     let limits = a
         .limit
         .iter()
-        .map(|l| Limit::parse(&doc, l))
+        .map(|l| Limit::parse(doc, l))
         .collect::<Result<Vec<_>, _>>()?;
     let jobs = match a.jobs {
         Some(0) => return Err(Error::Usage("--jobs must be at least 1".into())),
@@ -252,11 +232,11 @@ pub fn run(a: Args) -> Result<(), Error> {
             "--starts and --max-evaluations must be at least 1".into(),
         ));
     }
-    let problem = Problem {
-        doc: &doc,
-        objective: Objective::new(&doc, a.seat.as_deref(), a.measure, a.over)?,
-        study: study(&a, doc.vehicle().wheelbase_m())?,
-        parameters,
+    Ok(Problem {
+        doc,
+        parameters: parse_parameters(doc, &a.vary)?,
+        objective: Objective::new(doc, a.seat.as_deref(), a.measure, a.over)?,
+        study: study(a, doc.vehicle().wheelbase_m())?,
         limits,
         options: RunOptions {
             solver: a.run.settings(),
@@ -271,7 +251,17 @@ pub fn run(a: Args) -> Result<(), Error> {
         },
         jobs,
         confirm: true,
-    };
+    })
+}
+
+pub fn run(a: Args) -> Result<(), Error> {
+    FilePlan::new()
+        .input("--vehicle", &a.vehicle)
+        .inputs("--profile", &a.profile)
+        .output("-o", a.output.as_deref())
+        .check()?;
+    let doc = VehicleDocument::read(&a.vehicle)?;
+    let problem = problem(&a, &doc)?;
     let bar = progress_bar(a.max_evaluations as u64);
     let report = tune(&problem, |done, _| bar.set_position(done as u64));
     bar.finish_and_clear();
@@ -367,8 +357,20 @@ fn render(r: &TuneReport, output: Option<&Path>) -> String {
             sig(q.best, 6),
         ]);
     }
-    out.push_str(&p.render());
-    out.push('\n');
+    for table in [p, objective_table(r), history_table(r)] {
+        out.push_str(&table.render());
+        out.push('\n');
+    }
+    if let Some(path) = output {
+        out.push_str(&format!("Tuned vehicle file: {}\n\n", path.display()));
+    }
+    out.push_str(&format!("{HEALTH_CAUTION}\n"));
+    out
+}
+
+/// Objective and limits at the start and the optimum, as predicted (spectral
+/// method) and in the time domain.
+fn objective_table(r: &TuneReport) -> Table {
     let mut t = Table::new("Objective and limits (limits: the largest case)").with_header([
         "quantity",
         "judged by",
@@ -396,8 +398,11 @@ fn render(r: &TuneReport, output: Option<&Path>) -> String {
     } else {
         t.note(format!("Binding at the optimum: {}.", r.binding.join(", ")));
     }
-    out.push_str(&t.render());
-    out.push('\n');
+    t
+}
+
+/// Every improvement of the best value.
+fn history_table(r: &TuneReport) -> Table {
     let mut header = vec!["evaluation".to_string(), "objective".to_string()];
     header.extend(r.parameters.iter().map(|q| q.key.clone()));
     let mut h = Table::new("History of the best (as the search judged it)").with_header(header);
@@ -411,12 +416,7 @@ fn render(r: &TuneReport, output: Option<&Path>) -> String {
         }));
         h.row(row);
     }
-    out.push_str(&h.render());
-    if let Some(path) = output {
-        out.push_str(&format!("\nTuned vehicle file: {}\n", path.display()));
-    }
-    out.push_str(&format!("\n{HEALTH_CAUTION}\n"));
-    out
+    h
 }
 
 fn fmt(x: f64) -> String {

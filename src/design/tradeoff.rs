@@ -298,32 +298,39 @@ fn number(
         })
 }
 
-/// The trade-off of the sweep `table` (read from `path`, named in messages).
-pub fn tradeoff(
+/// Whether a row passes the selection's speed and class filters.
+fn selected(
+    c: &Columns,
+    sel: &Selection,
+    cells: &[String],
+    speed: impl Fn() -> Result<f64, crate::Error>,
+) -> Result<bool, crate::Error> {
+    if let Some(want) = sel.speed_m_s {
+        if (speed()? - want).abs() > 1e-9 * want.abs() {
+            return Ok(false);
+        }
+    }
+    if let (Some(want), Some(ci)) = (&sel.class, c.class) {
+        if cells.get(ci) != Some(want) {
+            return Ok(false);
+        }
+    }
+    Ok(true)
+}
+
+/// The sums of every variant's selected rows, in order of first appearance.
+fn sums(
     path: &Path,
     table: &SweepTable,
+    c: &Columns,
     sel: &Selection,
-) -> Result<Tradeoff, crate::Error> {
-    if sel.seat == 0 {
-        return Err(crate::Error::Usage(
-            "--seat: seats are numbered from 1".into(),
-        ));
-    }
-    let c = columns(path, &table.header, sel)?;
+) -> Result<Vec<Sums>, crate::Error> {
     let mut order: Vec<Sums> = Vec::new();
     let mut index: BTreeMap<(String, Vec<u64>), usize> = BTreeMap::new();
     for (line, cells) in &table.rows {
         let num = |i| number(path, *line, &table.header, cells, i);
-        if let Some(want) = sel.speed_m_s {
-            let speed = num(c.speed)?;
-            if (speed - want).abs() > 1e-9 * want.abs() {
-                continue;
-            }
-        }
-        if let (Some(want), Some(ci)) = (&sel.class, c.class) {
-            if cells.get(ci) != Some(want) {
-                continue;
-            }
+        if !selected(c, sel, cells, || num(c.speed))? {
+            continue;
         }
         let values = c
             .keys
@@ -356,12 +363,29 @@ pub fn tradeoff(
             *acc += num(*i)?;
         }
     }
+    Ok(order)
+}
+
+/// The trade-off of the sweep `table` (read from `path`, named in messages).
+pub fn tradeoff(
+    path: &Path,
+    table: &SweepTable,
+    sel: &Selection,
+) -> Result<Tradeoff, crate::Error> {
+    if sel.seat == 0 {
+        return Err(crate::Error::Usage(
+            "--seat: seats are numbered from 1".into(),
+        ));
+    }
+    let c = columns(path, &table.header, sel)?;
+    let order = sums(path, table, &c, sel)?;
     if order.is_empty() {
         return Err(crate::Error::Usage(format!(
             "{}: no row matches the selection (--speed, --class)",
             path.display()
         )));
     }
+    // The larger axle's mean (one axle: its mean).
     let worst = |v: &[f64], n: usize| {
         v.iter()
             .map(|x| x / n as f64)

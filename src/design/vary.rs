@@ -477,15 +477,12 @@ pub struct Variant {
     pub vehicle: Vehicle,
 }
 
-/// Every combination of `variations`' values on `doc`, the first variation
-/// varying slowest and the last fastest. Each value is first checked alone
-/// (the other keys as in the file), so a refused value is named with its
-/// option; then every combination is validated. Nothing runs before all
-/// pass.
-pub fn expand(
+/// Each variation's values on `doc`, each value checked alone (the other
+/// keys as in the file), so a refused value is named with its option.
+fn value_lists(
     doc: &VehicleDocument,
     variations: &[Variation],
-) -> Result<Vec<Variant>, crate::Error> {
+) -> Result<Vec<Vec<f64>>, crate::Error> {
     for (i, v) in variations.iter().enumerate() {
         if variations[..i].iter().any(|w| w.key == v.key) {
             return Err(vary_error(
@@ -512,6 +509,19 @@ pub fn expand(
         }
         lists.push(values);
     }
+    Ok(lists)
+}
+
+/// Every combination of `variations`' values on `doc`, the first variation
+/// varying slowest and the last fastest. Each value is first checked alone
+/// (the other keys as in the file), so a refused value is named with its
+/// option; then every combination is validated. Nothing runs before all
+/// pass.
+pub fn expand(
+    doc: &VehicleDocument,
+    variations: &[Variation],
+) -> Result<Vec<Variant>, crate::Error> {
+    let lists = value_lists(doc, variations)?;
     let count = lists
         .iter()
         .try_fold(1usize, |n, l| n.checked_mul(l.len()))

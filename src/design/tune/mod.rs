@@ -414,6 +414,24 @@ fn infeasible(p: &Problem<'_>, o: &Outcome, x_of: &dyn Fn(&Trial) -> Vec<f64>) -
     crate::Error::Usage(msg)
 }
 
+/// Warnings for the limits the time-domain runs exceed at an optimum the
+/// prediction found within them.
+fn exceeded_in_time_domain(optimum: &DesignValues) -> Vec<String> {
+    optimum
+        .limits
+        .iter()
+        .filter(|l| !l.met)
+        .map(|l| {
+            format!(
+                "at the optimum the time-domain runs exceed {} = {} ({}); the frequency-domain prediction met it",
+                l.name,
+                l.max,
+                crate::report::sig(l.value, 4)
+            )
+        })
+        .collect()
+}
+
 fn report(
     p: &Problem<'_>,
     judge: &Judge<'_, '_>,
@@ -445,15 +463,7 @@ fn report(
         .filter(|l| l.binding)
         .map(|l| l.name.clone())
         .collect();
-    let mut warnings = Vec::new();
-    for l in optimum.limits.iter().filter(|l| !l.met) {
-        warnings.push(format!(
-            "at the optimum the time-domain runs exceed {} = {} ({}); the frequency-domain prediction met it",
-            l.name,
-            l.max,
-            crate::report::sig(l.value, 4)
-        ));
-    }
+    let warnings = exceeded_in_time_domain(&optimum);
     let history = o
         .history
         .iter()

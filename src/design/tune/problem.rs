@@ -96,6 +96,23 @@ pub fn parse_parameter(doc: &VehicleDocument, arg: &str) -> Result<Parameter, cr
     })
 }
 
+/// Parses every `--vary KEY=LO:HI` (see [`parse_parameter`]); a key given
+/// twice is refused.
+pub fn parse_parameters(
+    doc: &VehicleDocument,
+    args: &[String],
+) -> Result<Vec<Parameter>, crate::Error> {
+    let mut out: Vec<Parameter> = Vec::with_capacity(args.len());
+    for arg in args {
+        let p = parse_parameter(doc, arg)?;
+        if out.iter().any(|q| q.key == p.key) {
+            return Err(usage(arg, format!("`{}` is given twice", p.key)));
+        }
+        out.push(p);
+    }
+    Ok(out)
+}
+
 /// A road of the study.
 #[derive(Debug, Clone)]
 pub enum StudyRoad {

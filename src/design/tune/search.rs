@@ -111,6 +111,112 @@ struct State<E> {
     budget_left: usize,
 }
 
+/// The evaluations of a search: each distinct point once, within the
+/// budget, until an error or a stop. COBYLA takes `Fn` callbacks, so the
+/// state and the caller's closures live in `RefCell`s.
+struct Evaluations<E, F, T, S> {
+    state: RefCell<State<E>>,
+    eval: RefCell<F>,
+    on_trial: RefCell<T>,
+    stop: S,
+}
+
+impl<E, F, T, S> Evaluations<E, F, T, S>
+where
+    F: FnMut(&[f64]) -> Evaluated<E>,
+    T: FnMut(&Trial, usize),
+    S: Fn() -> Option<E>,
+{
+    /// The trial at `u` (evaluated now or found in the cache), or `None`
+    /// once the search has stopped (budget, error, interruption).
+    fn at(&self, u: &[f64]) -> Option<Trial> {
+        let key: Vec<u64> = u.iter().map(|x| x.to_bits()).collect();
+        let mut s = self.state.borrow_mut();
+        if let Some(&i) = s.cache.get(&key) {
+            return Some(s.trials[i].clone());
+        }
+        if s.error.is_some() || s.budget_left == 0 {
+            return None;
+        }
+        if let Some(e) = (self.stop)() {
+            s.error = Some(e);
+            return None;
+        }
+        let (objective, excess) = match (self.eval.borrow_mut())(u) {
+            Ok(v) => v,
+            Err(e) => {
+                s.error = Some(e);
+                return None;
+            }
+        };
+        let t = Trial {
+            u: u.to_vec(),
+            objective,
+            excess,
+        };
+        let i = s.trials.len();
+        let better = t.feasible()
+            && t.objective.is_finite()
+            && s.best.is_none_or(|b| t.objective < s.trials[b].objective);
+        s.trials.push(t.clone());
+        s.cache.insert(key, i);
+        s.budget_left -= 1;
+        if better {
+            s.best = Some(i);
+            s.history.push(i);
+        }
+        (self.on_trial.borrow_mut())(&t, i + 1);
+        Some(t)
+    }
+
+    fn can_go_on(&self) -> bool {
+        let s = self.state.borrow();
+        s.budget_left > 0 && s.error.is_none()
+    }
+}
+
+/// One COBYLA run from `x0` with `m` limits, the objective divided by
+/// `scale`, at most `max_calls` calls. A stopped search answers every call
+/// with the same values, which makes COBYLA shrink its trust region and
+/// return at once.
+fn cobyla_run<E, F, T, S>(
+    ev: &Evaluations<E, F, T, S>,
+    x0: &[f64],
+    m: usize,
+    scale: f64,
+    max_calls: usize,
+    settings: &SearchSettings,
+) where
+    F: FnMut(&[f64]) -> Evaluated<E>,
+    T: FnMut(&Trial, usize),
+    S: Fn() -> Option<E>,
+{
+    let n = x0.len();
+    let objective = |u: &[f64], _: &mut ()| ev.at(u).map_or(0.0, |t| t.objective / scale);
+    // COBYLA's constraints are met where they are ≥ 0.
+    let constraint = |j: usize| move |u: &[f64], _: &mut ()| ev.at(u).map_or(0.0, |t| -t.excess[j]);
+    let constraints: Vec<_> = (0..m).map(constraint).collect();
+    let cons: Vec<&dyn cobyla::Func<()>> = constraints
+        .iter()
+        .map(|c| c as &dyn cobyla::Func<()>)
+        .collect();
+    // The outcome is read from the evaluations, not from COBYLA's answer
+    // (the best feasible design over every run wins).
+    let _ = minimize(
+        objective,
+        x0,
+        &vec![(0.0, 1.0); n],
+        &cons,
+        (),
+        max_calls,
+        RhoBeg::All(settings.first_step),
+        Some(StopTols {
+            xtol_abs: vec![settings.precision; n],
+            ..StopTols::default()
+        }),
+    );
+}
+
 /// Minimises over the unit cube from `start` (and Halton points),
 /// calling `eval` once per distinct point and `on_trial` after each. Inside
 /// COBYLA the objective is divided by its value at the start, so the
@@ -119,118 +225,46 @@ struct State<E> {
 pub fn search<E>(
     start: &[f64],
     settings: &SearchSettings,
-    mut eval: impl FnMut(&[f64]) -> Evaluated<E>,
-    mut on_trial: impl FnMut(&Trial, usize),
+    eval: impl FnMut(&[f64]) -> Evaluated<E>,
+    on_trial: impl FnMut(&Trial, usize),
     stop: impl Fn() -> Option<E>,
 ) -> Result<Outcome, E> {
     let n = start.len();
-    let limits = RefCell::new(0usize);
-    let state = RefCell::new(State {
-        cache: HashMap::new(),
-        trials: Vec::new(),
-        history: Vec::new(),
-        best: None,
-        error: None,
-        budget_left: settings.max_evaluations.max(1),
-    });
-    // One evaluation (or a cache hit) at `u`; the index of its trial, or
-    // None once the search has stopped (budget, error, interruption).
-    let mut run_at = |u: &[f64]| -> Option<usize> {
-        let key: Vec<u64> = u.iter().map(|x| x.to_bits()).collect();
-        let mut s = state.borrow_mut();
-        if let Some(&i) = s.cache.get(&key) {
-            return Some(i);
-        }
-        if s.error.is_some() || s.budget_left == 0 {
-            return None;
-        }
-        if let Some(e) = stop() {
-            s.error = Some(e);
-            return None;
-        }
-        match eval(u) {
-            Ok((objective, excess)) => {
-                *limits.borrow_mut() = excess.len();
-                let t = Trial {
-                    u: u.to_vec(),
-                    objective,
-                    excess,
-                };
-                let i = s.trials.len();
-                let better = t.feasible()
-                    && t.objective.is_finite()
-                    && s.best.is_none_or(|b| t.objective < s.trials[b].objective);
-                s.trials.push(t);
-                s.cache.insert(key, i);
-                s.budget_left -= 1;
-                if better {
-                    s.best = Some(i);
-                    s.history.push(i);
-                }
-                on_trial(&s.trials[i], i + 1);
-                Some(i)
-            }
-            Err(e) => {
-                s.error = Some(e);
-                None
-            }
-        }
-    };
-    // COBYLA takes `Fn` callbacks: the state lives in RefCells.
-    let run_at = RefCell::new(&mut run_at);
-    let value = |u: &[f64]| -> Option<Trial> {
-        let i = (run_at.borrow_mut())(u)?;
-        Some(state.borrow().trials[i].clone())
+    let ev = Evaluations {
+        state: RefCell::new(State {
+            cache: HashMap::new(),
+            trials: Vec::new(),
+            history: Vec::new(),
+            best: None,
+            error: None,
+            budget_left: settings.max_evaluations.max(1),
+        }),
+        eval: RefCell::new(eval),
+        on_trial: RefCell::new(on_trial),
+        stop,
     };
     // The start first: it gives the limits' count and the scale.
-    let first = value(start);
-    let scale = first
-        .as_ref()
-        .map(|t| t.objective.abs())
-        .filter(|s| s.is_finite() && *s > 0.0)
-        .unwrap_or(1.0);
-    // A stopped search answers every call with the same values, which makes
-    // COBYLA shrink its trust region and return at once.
-    let objective = |u: &[f64], _: &mut ()| value(u).map_or(0.0, |t| t.objective / scale);
-    let m = *limits.borrow();
-    let constraint = |j: usize| {
-        let value = &value;
-        move |u: &[f64], _: &mut ()| value(u).map_or(0.0, |t| -t.excess[j])
-    };
-    let constraints: Vec<_> = (0..m).map(constraint).collect();
-    let cons: Vec<&dyn cobyla::Func<()>> = constraints
-        .iter()
-        .map(|c| c as &dyn cobyla::Func<()>)
-        .collect();
     let mut starts = 0;
-    if first.is_some() {
-        for k in 0..settings.starts.max(1) {
-            let x0 = if k == 0 { start.to_vec() } else { halton(k, n) };
-            let left = state.borrow().budget_left;
-            let runs_left = settings.starts.max(1) - k;
-            if left == 0 || state.borrow().error.is_some() {
+    if let Some(first) = ev.at(start) {
+        let m = first.excess.len();
+        let scale = Some(first.objective.abs())
+            .filter(|s| s.is_finite() && *s > 0.0)
+            .unwrap_or(1.0);
+        let runs = settings.starts.max(1);
+        for k in 0..runs {
+            if !ev.can_go_on() {
                 break;
             }
+            let x0 = if k == 0 { start.to_vec() } else { halton(k, n) };
             // Each run gets an equal share of what is left (COBYLA's count
             // includes cache hits, so allow it more calls than evaluations).
-            let share = (left / runs_left).max(n + 2);
+            let left = ev.state.borrow().budget_left;
+            let share = (left / (runs - k)).max(n + 2);
             starts += 1;
-            let _ = minimize(
-                objective,
-                &x0,
-                &vec![(0.0, 1.0); n],
-                &cons,
-                (),
-                4 * share,
-                RhoBeg::All(settings.first_step),
-                Some(StopTols {
-                    xtol_abs: vec![settings.precision; n],
-                    ..StopTols::default()
-                }),
-            );
+            cobyla_run(&ev, &x0, m, scale, 4 * share, settings);
         }
     }
-    let s = state.into_inner();
+    let s = ev.state.into_inner();
     if let Some(e) = s.error {
         return Err(e);
     }
