@@ -7,6 +7,26 @@ use std::process::ExitCode;
 
 use clap::Parser;
 
+/// Longest wait for runs to stop on their own after a signal, before the
+/// process ends anyway (work between two checks can take longer than this
+/// when many threads share few cores).
+const STOP_GRACE: std::time::Duration = std::time::Duration::from_millis(800);
+
+/// Asks every run to stop; if the process is still there after
+/// [`STOP_GRACE`], removes the unfinished output files and exits with the
+/// status of an interrupted run (130, as `SolveError::Interrupted`).
+fn on_signal() {
+    roughride::solve::request_cancel();
+    std::thread::sleep(STOP_GRACE);
+    roughride::report::discard_unfinished();
+    use std::io::Write as _;
+    let _ = writeln!(
+        std::io::stderr(),
+        "roughride: error: interrupted; no output file was written"
+    );
+    std::process::exit(130);
+}
+
 fn main() -> ExitCode {
     // Die quietly on a closed pipe (`roughride sweep … | head`), as Unix
     // tools do, instead of reporting a write error. Rust ignores SIGPIPE by
@@ -21,7 +41,7 @@ fn main() -> ExitCode {
     // Ctrl-C, SIGTERM and SIGHUP stop runs at their next check, so output
     // files are discarded rather than left half-written. If the handler
     // cannot be installed the default (immediate exit) still applies.
-    let _ = ctrlc::set_handler(roughride::solve::request_cancel);
+    let _ = ctrlc::set_handler(on_signal);
     match cli::run(args) {
         Ok(()) => ExitCode::SUCCESS,
         Err(e) => {

@@ -50,7 +50,9 @@ impl Pool {
         if count == 0 {
             return Ok(());
         }
-        let jobs = self.jobs.max(1);
+        // Never more workers than jobs: idle threads only cost start-up
+        // time and memory.
+        let jobs = self.jobs.min(count).max(1);
         let pool = rayon::ThreadPoolBuilder::new()
             .num_threads(jobs)
             .thread_name({
@@ -170,6 +172,37 @@ fn lock<T>(m: &Mutex<T>) -> MutexGuard<'_, T> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The highest worker number among this process's threads named
+    /// `name-N` (Linux keeps the first 15 bytes of a thread's name).
+    #[cfg(target_os = "linux")]
+    fn highest_worker(name: &str) -> Option<usize> {
+        std::fs::read_dir("/proc/self/task")
+            .unwrap()
+            .filter_map(|t| std::fs::read_to_string(t.ok()?.path().join("comm")).ok())
+            .filter_map(|n| n.trim().strip_prefix(name)?.strip_prefix('-')?.parse().ok())
+            .max()
+    }
+
+    #[cfg(target_os = "linux")]
+    #[test]
+    fn no_more_workers_start_than_there_are_jobs() {
+        let mut highest = None;
+        Pool::new(1000)
+            .run(
+                "capped",
+                3,
+                |i| Ok(i),
+                |_, r| {
+                    r.unwrap();
+                    highest = highest.max(highest_worker("capped"));
+                    Ok(())
+                },
+            )
+            .unwrap();
+        // Workers are numbered from 0: at most capped-2 for 3 jobs.
+        assert!(matches!(highest, Some(0..=2)), "worker {highest:?} for 3 jobs");
+    }
 
     #[test]
     fn results_come_in_job_order_whatever_the_threads_and_window() {

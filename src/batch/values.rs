@@ -122,6 +122,32 @@ pub fn parse_duration_s(text: &str) -> Result<f64, ValueError> {
     Ok(v * factor)
 }
 
+/// Most worker threads a sweep accepts: far beyond the cores of any one
+/// machine, low enough that the threads' stacks (2 MiB each reserved) stay
+/// within an ordinary process's address space and a signal is seen in time.
+pub const MAX_JOBS: usize = 1024;
+
+/// Parses `--jobs`: a whole number from 1 to [`MAX_JOBS`].
+pub fn parse_jobs(text: &str) -> Result<usize, ValueError> {
+    let n: usize = text.trim().parse().map_err(|_| {
+        err(
+            "--jobs",
+            text,
+            "expected a whole number of worker threads, e.g. 4",
+        )
+    })?;
+    if !(1..=MAX_JOBS).contains(&n) {
+        return Err(err(
+            "--jobs",
+            text,
+            format!(
+                "must lie between 1 and {MAX_JOBS} (more threads than cases are never started)"
+            ),
+        ));
+    }
+    Ok(n)
+}
+
 /// A slice of a grid: the `index`-th (1-based) of `count` disjoint slices.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct Shard {

@@ -76,8 +76,9 @@ pub struct Args {
     /// Sample spacing of the generated roads, m.
     #[arg(long, value_name = "M", default_value_t = 0.05)]
     pub spacing: f64,
-    /// Worker threads (default: all cores). The output does not depend on it.
-    #[arg(long, value_name = "N")]
+    /// Worker threads, 1 to 1024 (default: all cores; never more than the
+    /// cases). The output does not depend on it.
+    #[arg(long, value_name = "N", allow_hyphen_values = true, value_parser = parse_jobs)]
     pub jobs: Option<usize>,
     /// Run only the K-th of N contiguous slices of the grid (e.g. 3/16).
     #[arg(long, value_name = "K/N", default_value = "1/1", value_parser = parse_shard)]
@@ -108,6 +109,10 @@ fn parse_speeds(s: &str) -> Result<Speeds, String> {
 fn parse_class(s: &str) -> Result<RoadClass, String> {
     s.parse()
         .map_err(|e: roughride::road::ProfileError| e.to_string())
+}
+
+fn parse_jobs(s: &str) -> Result<usize, String> {
+    roughride::batch::values::parse_jobs(s).map_err(|e| e.to_string())
 }
 
 fn parse_shard(s: &str) -> Result<Shard, String> {
@@ -176,11 +181,13 @@ pub fn run(a: Args) -> Result<(), Error> {
         .output("-o", a.output.as_deref())
         .check()?;
     let grid = build_grid(&a)?;
-    let jobs = match a.jobs {
-        Some(0) => return Err(Error::Usage("--jobs must be at least 1".into())),
-        Some(n) => n,
-        None => std::thread::available_parallelism().map_or(1, |n| n.get()),
-    };
+    let (lo, hi) = a.shard.bounds(grid.len());
+    // No more threads than cases: idle threads cost start-up time and memory.
+    let jobs = a
+        .jobs
+        .unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()))
+        .min(hi - lo)
+        .max(1);
     let options = RunOptions {
         speed_m_s: 1.0, // each case sets its own
         solver: a.run.settings(),
@@ -189,7 +196,6 @@ pub fn run(a: Args) -> Result<(), Error> {
         ..RunOptions::at_speed(1.0)
     };
     let runner = Runner::new(options, jobs);
-    let (lo, hi) = a.shard.bounds(grid.len());
     let progress = progress_bar((hi - lo) as u64);
     let spec = OutputSpec {
         format: if a.json {

@@ -18,8 +18,46 @@
 use std::fs::File;
 use std::io::{self, Seek, SeekFrom, Write};
 use std::path::{Path, PathBuf};
+use std::sync::Mutex;
 
 use super::{ExportError, STDOUT_NAME, io_error, leftovers};
+
+/// Temporary files beside targets that are still being written, so that a
+/// process ending on a signal can remove them ([`discard_unfinished`]).
+static UNFINISHED: Mutex<Vec<PathBuf>> = Mutex::new(Vec::new());
+
+fn unfinished() -> std::sync::MutexGuard<'static, Vec<PathBuf>> {
+    UNFINISHED.lock().unwrap_or_else(|p| p.into_inner())
+}
+
+/// Keeps a temporary file's path in [`UNFINISHED`] while it lives.
+struct Registered(PathBuf);
+
+impl Registered {
+    fn new(path: &Path) -> Self {
+        unfinished().push(path.to_path_buf());
+        Registered(path.to_path_buf())
+    }
+}
+
+impl Drop for Registered {
+    fn drop(&mut self) {
+        let mut list = unfinished();
+        if let Some(i) = list.iter().position(|p| *p == self.0) {
+            list.swap_remove(i);
+        }
+    }
+}
+
+/// Removes the temporary files of every output still being written, for a
+/// process that is about to end without finishing them (after a signal).
+/// Their targets keep their previous contents. Returns how many were removed.
+pub fn discard_unfinished() -> usize {
+    let list = unfinished();
+    list.iter()
+        .filter(|p| std::fs::remove_file(p).is_ok())
+        .count()
+}
 
 /// Most symbolic links followed from an output path (as the kernel's own
 /// limit, `MAXSYMLINKS` = 40 on Linux).
@@ -96,6 +134,7 @@ enum Mode {
     Replace {
         tmp: tempfile::TempPath,
         final_path: PathBuf,
+        _registered: Registered,
     },
     /// Straight into a seekable device.
     Device,
@@ -158,7 +197,9 @@ impl AtomicFile {
         let err = |e| io_error(&target, e);
         let mut file = writer.into_inner().map_err(|e| err(e.into_error()))?;
         match mode {
-            Mode::Replace { tmp, final_path } => {
+            Mode::Replace {
+                tmp, final_path, ..
+            } => {
                 file.sync_all().map_err(err)?;
                 drop(file);
                 tmp.persist(&final_path).map_err(|e| err(e.error))?;
@@ -202,6 +243,7 @@ fn replace_beside(asked: &Path, final_path: &Path) -> Result<(File, Mode), Expor
         .tempfile_in(dir)
         .map_err(err)?;
     let (file, tmp) = tmp.into_parts();
+    let registered = Registered::new(&tmp);
     // Temporary files are created private (0600); give the result the
     // permissions of the file it replaces, or the usual 0644.
     #[cfg(unix)]
@@ -217,6 +259,7 @@ fn replace_beside(asked: &Path, final_path: &Path) -> Result<(File, Mode), Expor
         Mode::Replace {
             tmp,
             final_path: final_path.to_path_buf(),
+            _registered: registered,
         },
     ))
 }
@@ -388,6 +431,34 @@ mod tests {
         })
         .unwrap();
         assert_eq!(std::fs::read_to_string(&real).unwrap(), "again\n");
+    }
+
+    #[test]
+    fn unfinished_outputs_can_be_discarded_and_finished_ones_are_forgotten() {
+        let dir = tempfile::tempdir().unwrap();
+        let done = AtomicFile::create(&dir.path().join("done.csv")).unwrap();
+        done.commit().unwrap();
+        let mut open = AtomicFile::create(&dir.path().join("open.csv")).unwrap();
+        open.write_all(b"partial").unwrap();
+        open.flush().unwrap();
+        let ours = |name: &str| {
+            unfinished()
+                .iter()
+                .any(|p| p.starts_with(dir.path()) && p.to_string_lossy().contains(name))
+        };
+        assert!(ours(".open.csv.") && !ours(".done.csv."));
+        let tmp_count = || {
+            names(dir.path())
+                .iter()
+                .filter(|n| n.ends_with(".partial"))
+                .count()
+        };
+        assert_eq!(tmp_count(), 1);
+        discard_unfinished();
+        assert_eq!(tmp_count(), 0);
+        drop(open);
+        assert!(!ours(".open.csv."));
+        assert_eq!(names(dir.path()), ["done.csv"]);
     }
 
     #[test]

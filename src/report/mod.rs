@@ -10,7 +10,7 @@ mod same_file;
 pub mod table;
 pub mod tradeoff;
 
-pub use files::{AtomicFile, write_atomic, write_to};
+pub use files::{AtomicFile, discard_unfinished, write_atomic, write_to};
 pub use same_file::FilePlan;
 pub use table::{Table, sig};
 
