@@ -16,6 +16,7 @@
 //! | [`design`] | design studies: vehicle-file variants (`--vary`), trade-offs and the Pareto set, tuning |
 //! | [`lifetime`] | lifetime load spectra: a usage file of road, speed and load parts, counts scaled to the life |
 //! | [`report`] | tables, JSON, CSV and SVG output; atomic file writes |
+//! | [`limits`] | the plausible range of every physical input |
 //!
 //! # Conventions
 //! - SI units inside (m, s, kg, N, rad); names carry units where they are
@@ -33,6 +34,7 @@ pub mod comfort;
 pub mod design;
 pub mod error;
 pub mod lifetime;
+pub mod limits;
 pub mod pipeline;
 pub mod plausibility;
 pub mod report;

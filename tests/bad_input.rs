@@ -11,7 +11,7 @@ use common::{demo, roughride, scratch};
 /// command line, and the fragment its message must hold.
 struct Case {
     what: &'static str,
-    files: &'static [(&'static str, &'static str)],
+    files: &'static [(&'static str, &'static [u8])],
     args: &'static [&'static str],
     fragment: &'static str,
 }
@@ -86,6 +86,54 @@ const CAR_EDITS: &[CarEdit] = &[
         fragment: "`front.damping_rebound` is missing",
     },
     CarEdit {
+        what: "a body mass of 1e300 kg",
+        from: "mass = 1000.0",
+        to: "mass = 1e300",
+        fragment: "`body.mass` must lie between 1 and 1e6 kg, got 1e300",
+    },
+    CarEdit {
+        what: "a seat 1e300 m ahead of the CG",
+        from: "x = 0.3",
+        to: "x = 1e300",
+        fragment: "`seat[0].x` must lie between -50 and 50 m, got 1e300",
+    },
+    CarEdit {
+        what: "a subnormal spring rate",
+        from: "spring_rate = 30000.0\ndamping = 2500.0\n[rear]",
+        to: "spring_rate = 5e-324\ndamping = 2500.0\n[rear]",
+        fragment: "`front.spring_rate` must lie between 1 and 1e9 N/m, got 5e-324",
+    },
+    CarEdit {
+        what: "a stop rate of 1e300 N/m",
+        from: "damping = 2500.0\n[rear]",
+        to: "damping = 2500.0\nbump_clearance = 0.05\nstop_rate = 1e300\n[rear]",
+        fragment: "`front.stop_rate` must lie between 1 and 1e10 N/m",
+    },
+    CarEdit {
+        what: "a tyre rate with unsprung_mass = 0",
+        from: "damping = 2500.0\n[rear]",
+        to: "damping = 2500.0\nunsprung_mass = 0.0\ntyre_rate = 200000.0\n[rear]",
+        fragment: "`front.tyre_rate` is given but unsprung_mass is 0",
+    },
+    CarEdit {
+        what: "a negative unsprung mass",
+        from: "damping = 2500.0\n[rear]",
+        to: "damping = 2500.0\nunsprung_mass = -40.0\ntyre_rate = 200000.0\n[rear]",
+        fragment: "`front.unsprung_mass` must be positive",
+    },
+    CarEdit {
+        what: "two seats with one name",
+        from: "[[seat]]\nx = 0.3\n",
+        to: "[[seat]]\nx = 0.3\nname = \"driver\"\n[[seat]]\nx = -0.5\nname = \"driver\"\n",
+        fragment: "`seat[1].name` \"driver\" is already the name of seat[0]",
+    },
+    CarEdit {
+        what: "a seat name with a comma (it heads a CSV column)",
+        from: "[[seat]]\nx = 0.3\n",
+        to: "[[seat]]\nx = 0.3\nname = \"left,front\"\n",
+        fragment: "`seat[0].name` must not contain ','",
+    },
+    CarEdit {
         what: "broken TOML syntax",
         from: "[body]",
         to: "[body",
@@ -106,7 +154,7 @@ const CASES: &[Case] = &[
             "--speed",
             "1e-300",
         ],
-        fragment: "output samples",
+        fragment: "--speed",
     },
     Case {
         what: "an output rate above the limit",
@@ -141,7 +189,7 @@ const CASES: &[Case] = &[
     // Profile files.
     Case {
         what: "distance not increasing",
-        files: &[("r.csv", "distance_m,elevation_m\n0,0\n5,0\n4,0\n10,0\n")],
+        files: &[("r.csv", b"distance_m,elevation_m\n0,0\n5,0\n4,0\n10,0\n")],
         args: &[
             "simulate",
             "--vehicle",
@@ -155,7 +203,7 @@ const CASES: &[Case] = &[
     },
     Case {
         what: "NaN elevation",
-        files: &[("r.csv", "distance_m,elevation_m\n0,0\n5,NaN\n10,0\n")],
+        files: &[("r.csv", b"distance_m,elevation_m\n0,0\n5,NaN\n10,0\n")],
         args: &[
             "simulate",
             "--vehicle",
@@ -169,19 +217,19 @@ const CASES: &[Case] = &[
     },
     Case {
         what: "a single row",
-        files: &[("r.csv", "distance_m,elevation_m\n0,0\n")],
+        files: &[("r.csv", b"distance_m,elevation_m\n0,0\n")],
         args: &["classify", "r.csv"],
         fragment: "two data rows",
     },
     Case {
         what: "missing elevation column",
-        files: &[("r.csv", "distance_m,height\n0,0\n1,0\n")],
+        files: &[("r.csv", b"distance_m,height\n0,0\n1,0\n")],
         args: &["classify", "r.csv"],
         fragment: "elevation_m",
     },
     Case {
         what: "profile shorter than the wheelbase",
-        files: &[("r.csv", "distance_m,elevation_m\n0,0\n1,0\n2,0\n")],
+        files: &[("r.csv", b"distance_m,elevation_m\n0,0\n1,0\n2,0\n")],
         args: &[
             "simulate",
             "--vehicle",
@@ -197,7 +245,7 @@ const CASES: &[Case] = &[
         what: "gap too large to bridge",
         files: &[(
             "r.csv",
-            "distance_m,elevation_m\n0,0\n1,0\n2,0\n30,0\n31,0\n",
+            b"distance_m,elevation_m\n0,0\n1,0\n2,0\n30,0\n31,0\n",
         )],
         args: &[
             "simulate",
@@ -212,20 +260,292 @@ const CASES: &[Case] = &[
     },
     Case {
         what: "text in a distance",
-        files: &[("r.csv", "distance_m,elevation_m\n0,0\nten,0\n")],
+        files: &[("r.csv", b"distance_m,elevation_m\n0,0\nten,0\n")],
         args: &["classify", "r.csv"],
         fragment: "not a number",
+    },
+    // Found by trying the tool as a hostile user would (issue 18).
+    Case {
+        what: "a vehicle file that is not text",
+        files: &[("bin.toml", b"\xff\xfe\x00\x01[body]\n")],
+        args: &["modes", "--vehicle", "bin.toml"],
+        fragment: "bin.toml: not a text file",
+    },
+    Case {
+        what: "a vehicle path that is a directory",
+        files: &[],
+        args: &["modes", "--vehicle", "."],
+        fragment: ".: cannot read",
+    },
+    Case {
+        what: "a profile path that is a directory",
+        files: &[],
+        args: &[
+            "simulate",
+            "--vehicle",
+            CAR,
+            "--profile",
+            ".",
+            "--speed",
+            "20",
+        ],
+        fragment: ".: cannot read",
+    },
+    Case {
+        what: "a profile that is not UTF-8",
+        files: &[("r.csv", b"distance_m,elevation_m\n0,0\n1,\xff\n2,0\n")],
+        args: &["classify", "r.csv"],
+        fragment: "r.csv: line 3: field 2 is not UTF-8 text",
+    },
+    Case {
+        what: "an elevation of 1e308",
+        files: &[("r.csv", b"distance_m,elevation_m\n0,0\n1,1e308\n2,0\n3,0\n")],
+        args: &["classify", "r.csv"],
+        fragment: "line 3: `elevation_m` must lie between -10000 and 10000 m, got 1e308",
+    },
+    Case {
+        what: "rows 1e-300 m apart",
+        files: &[(
+            "r.csv",
+            b"distance_m,elevation_m\n0,0\n1e-300,0\n2e-300,0\n",
+        )],
+        args: &["classify", "r.csv"],
+        fragment: "the rows are 1e-300 m apart; the spacing must lie between 1e-5 and 10 m",
+    },
+    Case {
+        what: "a profile row with more fields than the header",
+        files: &[("r.csv", b"distance_m,elevation_m\n0,0\n1,0,7\n2,0\n")],
+        args: &["classify", "r.csv"],
+        fragment: "line 3: 3 fields where the header has 2",
+    },
+    Case {
+        what: "a record row with more fields than the header",
+        files: &[("a.csv", b"time_s,seat_z\n0,0\n0.001,0,5\n0.002,0\n")],
+        args: &["comfort", "a.csv", "--column", "seat_z"],
+        fragment: "line 3: 3 fields where the header has 2",
+    },
+    Case {
+        what: "an acceleration of 1e308",
+        files: &[("a.csv", b"time_s,seat_z\n0,0\n0.001,1e308\n0.002,0\n")],
+        args: &["comfort", "a.csv", "--column", "seat_z"],
+        fragment: "line 3: column `seat_z`: must lie between -100000 and 100000 m/s^2",
+    },
+    Case {
+        what: "an exposure without a unit",
+        files: &[],
+        args: &[
+            "simulate",
+            "--vehicle",
+            CAR,
+            "--profile",
+            ROAD,
+            "--speed",
+            "20",
+            "--exposure",
+            "8",
+        ],
+        fragment: "'--exposure <DURATION>': invalid duration \"8\": has no unit",
+    },
+    Case {
+        what: "a negative speed as its own argument",
+        files: &[],
+        args: &[
+            "simulate",
+            "--vehicle",
+            CAR,
+            "--profile",
+            ROAD,
+            "--speed",
+            "-20",
+        ],
+        fragment: "'--speed <SPEED>'",
+    },
+    Case {
+        what: "a negative rate as its own argument",
+        files: &[],
+        args: &[
+            "simulate",
+            "--vehicle",
+            CAR,
+            "--profile",
+            ROAD,
+            "--speed",
+            "20",
+            "--rate",
+            "-5",
+        ],
+        fragment: "'--rate <HZ>'",
+    },
+    Case {
+        what: "a negative length as its own argument",
+        files: &[],
+        args: &[
+            "simulate",
+            "--vehicle",
+            CAR,
+            "--class",
+            "C",
+            "--length",
+            "-100",
+            "--speed",
+            "20",
+        ],
+        fragment: "'--length <M>'",
+    },
+    Case {
+        what: "a negative seed count as its own argument",
+        files: &[],
+        args: &[
+            "sweep",
+            "--vehicle",
+            CAR,
+            "--classes",
+            "C",
+            "--length",
+            "100",
+            "--speeds",
+            "20",
+            "--seeds",
+            "-3",
+        ],
+        fragment: "'--seeds <N>'",
+    },
+    Case {
+        what: "a speed of 1e300 m/s",
+        files: &[],
+        args: &[
+            "simulate",
+            "--vehicle",
+            CAR,
+            "--profile",
+            ROAD,
+            "--speed",
+            "1e300",
+        ],
+        fragment: "must lie between 0.01 and 300 m/s",
+    },
+    Case {
+        what: "a hundred thousand worker threads",
+        files: &[],
+        args: &[
+            "sweep",
+            "--vehicle",
+            CAR,
+            "--classes",
+            "C",
+            "--length",
+            "100",
+            "--speeds",
+            "20",
+            "--jobs",
+            "100000",
+        ],
+        fragment: "--jobs \"100000\": must lie between 1 and 1024",
+    },
+    Case {
+        what: "no worker thread",
+        files: &[],
+        args: &[
+            "sweep",
+            "--vehicle",
+            CAR,
+            "--classes",
+            "C",
+            "--length",
+            "100",
+            "--speeds",
+            "20",
+            "--jobs",
+            "0",
+        ],
+        fragment: "--jobs \"0\"",
+    },
+    Case {
+        what: "a harmonic force above the output's Nyquist frequency",
+        files: &[],
+        args: &[
+            "simulate",
+            "--vehicle",
+            CAR,
+            "--flat",
+            "--length",
+            "100",
+            "--speed",
+            "20",
+            "--force",
+            "150,600,1.3",
+        ],
+        fragment: "Nyquist frequency of the output, 500 Hz",
+    },
+    Case {
+        what: "a harmonic force of 1e300 N",
+        files: &[],
+        args: &[
+            "simulate",
+            "--vehicle",
+            CAR,
+            "--flat",
+            "--length",
+            "100",
+            "--speed",
+            "20",
+            "--force",
+            "1e300,25,1.3",
+        ],
+        fragment: "--force AMPLITUDE: must lie between",
+    },
+    Case {
+        what: "an IRI segment of 1e-300 m",
+        files: &[],
+        args: &["classify", ROAD, "--segment", "1e-300"],
+        fragment: "'--segment <M>'",
+    },
+    Case {
+        what: "a response frequency of 1e300 Hz",
+        files: &[],
+        args: &[
+            "frf",
+            "--vehicle",
+            CAR,
+            "--speed",
+            "20",
+            "--freqs",
+            "1,1e300",
+        ],
+        fragment: "\"1e300\": must lie between 0 and 10000 Hz",
+    },
+    Case {
+        what: "a history written over its own profile",
+        files: &[("r.csv", b"distance_m,elevation_m\n0,0\n5,0\n10,0\n15,0\n")],
+        args: &[
+            "simulate",
+            "--vehicle",
+            CAR,
+            "--profile",
+            "r.csv",
+            "--speed",
+            "20",
+            "--history",
+            "./r.csv",
+        ],
+        fragment: "--history ./r.csv is the same file as --profile r.csv",
+    },
+    Case {
+        what: "a gd_n0 of 1e300",
+        files: &[],
+        args: &["profile", "--gd-n0", "1e300", "--length", "100"],
+        fragment: "'--gd-n0 <M3>'",
     },
     // Acceleration records.
     Case {
         what: "record without the named column",
-        files: &[("a.csv", "time_s,seat_z\n0,0\n0.001,0\n0.002,0\n")],
+        files: &[("a.csv", b"time_s,seat_z\n0,0\n0.001,0\n0.002,0\n")],
         args: &["comfort", "a.csv", "--column", "floor_z"],
         fragment: "floor_z",
     },
     Case {
         what: "record without time_s",
-        files: &[("a.csv", "t,seat_z\n0,0\n0.001,0\n0.002,0\n")],
+        files: &[("a.csv", b"t,seat_z\n0,0\n0.001,0\n0.002,0\n")],
         args: &["comfort", "a.csv", "--column", "seat_z"],
         fragment: "time_s",
     },
@@ -233,7 +553,7 @@ const CASES: &[Case] = &[
         what: "record sampled too slowly for Wk",
         files: &[(
             "a.csv",
-            "time_s,seat_z\n0,0\n0.1,0.1\n0.2,0\n0.3,0.1\n0.4,0\n",
+            b"time_s,seat_z\n0,0\n0.1,0.1\n0.2,0\n0.3,0.1\n0.4,0\n",
         )],
         args: &["comfort", "a.csv", "--column", "seat_z"],
         fragment: "Hz",
@@ -328,11 +648,11 @@ const CASES: &[Case] = &[
             "20",
             "--rate=-5",
         ],
-        fragment: "--rate must be positive",
+        fragment: "'--rate <HZ>': must lie between 1 and 1e6 Hz, got -5",
     },
     Case {
         what: "exposure without a unit",
-        files: &[("a.csv", "time_s,seat_z\n0,0\n0.001,0\n0.002,0\n")],
+        files: &[("a.csv", b"time_s,seat_z\n0,0\n0.001,0\n0.002,0\n")],
         args: &[
             "comfort",
             "a.csv",
@@ -374,9 +694,19 @@ const CASES: &[Case] = &[
     },
 ];
 
+/// Whether `text` holds 20 digits in a row (1e300 printed in full).
+fn has_long_digit_run(text: &str) -> bool {
+    text.as_bytes()
+        .split(|b| !b.is_ascii_digit())
+        .any(|run| run.len() >= 20)
+}
+
+/// The number of bad inputs the table holds.
+const TABLE_SIZE: usize = CASES.len() + CAR_EDITS.len();
+
 #[test]
 fn every_bad_input_exits_2_with_a_message_that_names_the_problem() {
-    assert!(CASES.len() + CAR_EDITS.len() >= 20);
+    assert!(TABLE_SIZE >= 60);
     let vehicle_args = &[
         "simulate",
         "--vehicle",
@@ -451,6 +781,10 @@ fn every_bad_input_exits_2_with_a_message_that_names_the_problem() {
                 format!("no {:?} in stderr", case.fragment),
             ),
             (stderr.contains("panicked"), "panic text".to_string()),
+            (
+                has_long_digit_run(&stderr),
+                "a number printed with dozens of digits".to_string(),
+            ),
             (
                 !out.stdout.is_empty(),
                 "printed results on stdout".to_string(),

@@ -253,11 +253,13 @@ fn asymmetric_dampers_use_the_rate_for_the_direction_of_travel() {
     }
 }
 
-// A stop of 1e13 N/m is integrated correctly (tiny steps while engaged);
-// a rate so large that the forces overflow must stop the run with a message
-// naming the likely cause instead of printing garbage.
+// A rate so large that the forces would overflow must not reach the solver
+// (it would print garbage or fail deep inside): the vehicle file is refused
+// with the key and its accepted range.
 #[test]
-fn a_stop_rate_that_overflows_the_forces_is_reported_with_its_likely_cause() {
+fn a_stop_rate_that_would_overflow_the_forces_is_refused_naming_the_key() {
+    // Once this ran and failed with the instability hint; an input bound
+    // (the README's accepted ranges) now refuses it before the run.
     let dir = common::scratch();
     let text = common::read(&common::demo("vehicles/demo_van_stops.toml"))
         .replace("stop_rate = 400000.0", "stop_rate = 1.0e300");
@@ -281,11 +283,14 @@ fn a_stop_rate_that_overflows_the_forces_is_reported_with_its_likely_cause() {
             "10",
         ])
         .assert()
-        .code(1)
+        .code(2)
         .get_output()
         .clone();
     let stderr = String::from_utf8_lossy(&out.stderr);
-    assert!(stderr.contains("front.stop_rate"), "{stderr}");
+    assert!(
+        stderr.contains("front.stop_rate` must lie between"),
+        "{stderr}"
+    );
     assert!(!stderr.contains("panicked"), "{stderr}");
 }
 

@@ -201,7 +201,10 @@ mod tests {
             )
             .unwrap();
         // Workers are numbered from 0: at most capped-2 for 3 jobs.
-        assert!(matches!(highest, Some(0..=2)), "worker {highest:?} for 3 jobs");
+        assert!(
+            matches!(highest, Some(0..=2)),
+            "worker {highest:?} for 3 jobs"
+        );
     }
 
     #[test]

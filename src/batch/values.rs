@@ -1,12 +1,17 @@
 //! Command-line values with units and ranges: speeds (`20`, `72kmh`),
 //! speed ranges (`10:40:5`, `36kmh:108kmh:36kmh`), durations (`8h`,
-//! `30min`, `3600s`) and shard specs (`2/8`). Parsed here once, into SI.
+//! `30min`, `3600s`), plain quantities checked against their
+//! [`crate::limits`] range, harmonic forces and shard specs (`2/8`).
+//! Parsed here once, into SI.
 //!
 //! Range values are computed as `start + i·step` (never by repeated
 //! addition) so they do not drift, and the end is included when it lies on
 //! the grid within rounding.
 
 use thiserror::Error;
+
+use crate::limits::{self, Range};
+use crate::solve::HarmonicForce;
 
 /// Largest number of values a range may expand to.
 pub const MAX_RANGE_VALUES: usize = 10_000;
@@ -45,10 +50,20 @@ pub fn parse_speed_m_s(text: &str) -> Result<f64, ValueError> {
             "expected a number in m/s, or km/h with a kmh suffix (e.g. 20 or 72kmh)",
         )
     })?;
-    if !(v.is_finite() && v > 0.0) {
-        return Err(err("speed", text, "must be positive and finite"));
+    let speed = v * factor;
+    if !limits::SPEED.contains(speed) {
+        return Err(err(
+            "speed",
+            text,
+            format!(
+                "must lie between {} ({} to {} km/h)",
+                limits::SPEED.span(),
+                limits::show(limits::SPEED.min * 3.6),
+                limits::show(limits::SPEED.max * 3.6)
+            ),
+        ));
     }
-    Ok(v * factor)
+    Ok(speed)
 }
 
 /// Parses `start:end:step` (inclusive) or a comma list of speeds, in m/s.
@@ -100,26 +115,107 @@ pub fn expand_range(start: f64, end: f64, step: f64) -> Result<Vec<f64>, String>
     Ok((0..count).map(|i| start + i as f64 * step).collect())
 }
 
-/// Parses a duration: `8h`, `30min`, `90s` or a bare number of seconds.
+/// Parses a daily exposure duration with its unit (`8h`, `30min`,
+/// `3600s`, also `1.5 h` or `90 minutes`) into seconds, within
+/// [`limits::EXPOSURE`] (up to a day). A bare number is refused: `8` could
+/// mean hours or seconds.
 pub fn parse_duration_s(text: &str) -> Result<f64, ValueError> {
     let t = text.trim();
-    let (number, factor) = if let Some(n) = t.strip_suffix("min") {
-        (n, 60.0)
-    } else if let Some(n) = t.strip_suffix('h') {
-        (n, 3600.0)
-    } else if let Some(n) = t.strip_suffix('s') {
-        (n, 1.0)
-    } else {
-        (t, 1.0)
+    let split = t
+        .find(|c: char| c.is_ascii_alphabetic() && c != 'e' && c != 'E')
+        .ok_or_else(|| {
+            err(
+                "duration",
+                text,
+                "has no unit: write e.g. 8h, 30min or 3600s",
+            )
+        })?;
+    let (number, unit) = (t[..split].trim(), t[split..].trim());
+    let factor = match unit.to_ascii_lowercase().as_str() {
+        "h" | "hr" | "hrs" | "hour" | "hours" => 3600.0,
+        "min" | "mins" | "minute" | "minutes" => 60.0,
+        "s" | "sec" | "secs" | "second" | "seconds" => 1.0,
+        _ => {
+            return Err(err(
+                "duration",
+                text,
+                format!("unknown unit {unit:?}: use h, min or s (e.g. 8h, 30min, 3600s)"),
+            ));
+        }
     };
     let v: f64 = number
-        .trim()
         .parse()
-        .map_err(|_| err("duration", text, "expected e.g. 8h, 30min or 3600s"))?;
-    if !(v.is_finite() && v > 0.0) {
-        return Err(err("duration", text, "must be positive and finite"));
+        .map_err(|_| err("duration", text, format!("{number:?} is not a number")))?;
+    let s = v * factor;
+    if !limits::EXPOSURE.contains(s) {
+        return Err(err(
+            "duration",
+            text,
+            format!("must lie between {} (1 s to 24 h)", limits::EXPOSURE.span()),
+        ));
     }
-    Ok(v * factor)
+    Ok(s)
+}
+
+/// Parses a plain number for the option or key `range` is named after and
+/// checks it against the range.
+pub fn parse_quantity(text: &str, range: &Range) -> Result<f64, ValueError> {
+    let v: f64 = text.trim().parse().map_err(|_| {
+        let unit = if range.unit.is_empty() {
+            String::new()
+        } else {
+            format!(" in {}", range.unit)
+        };
+        err("value", text, format!("expected a number{unit}"))
+    })?;
+    range.check(v).map_err(|m| err("value", text, m))
+}
+
+/// Parses `AMPLITUDE_N,FREQUENCY_HZ,X_M` (e.g. `150,25,1.3`), each within
+/// its range.
+pub fn parse_force(text: &str) -> Result<HarmonicForce, ValueError> {
+    let parts: Vec<&str> = text.split(',').map(str::trim).collect();
+    let [a, f, x] = parts[..] else {
+        return Err(err(
+            "--force",
+            text,
+            "expected AMPLITUDE_N,FREQUENCY_HZ,X_M, e.g. 150,25,1.3",
+        ));
+    };
+    let part = |t: &str, range: &Range| {
+        parse_quantity(t, range)
+            .map_err(|e| err("--force", text, format!("{}: {}", range.name, e.why)))
+    };
+    Ok(HarmonicForce {
+        amplitude_n: part(a, &limits::FORCE_AMPLITUDE)?,
+        frequency_hz: part(f, &limits::FORCE_FREQUENCY)?,
+        x_m: part(x, &limits::BODY_X)?,
+    })
+}
+
+/// Refuses a harmonic force the output grid cannot resolve: at or above
+/// the Nyquist frequency (half the output rate) the sampled force aliases
+/// onto a lower frequency (sampling theorem; common practice to stay well
+/// below it).
+pub fn check_force_against_rate(
+    force: &HarmonicForce,
+    output_rate_hz: f64,
+) -> Result<(), ValueError> {
+    let nyquist = 0.5 * output_rate_hz;
+    if force.frequency_hz >= nyquist {
+        return Err(err(
+            "--force",
+            &limits::show(force.frequency_hz),
+            format!(
+                "{} Hz is at or above the Nyquist frequency of the output, {} Hz (half of --rate {} Hz):                  the sampled force would alias; raise --rate above {} Hz",
+                limits::show(force.frequency_hz),
+                limits::show(nyquist),
+                limits::show(output_rate_hz),
+                limits::show(2.0 * force.frequency_hz)
+            ),
+        ));
+    }
+    Ok(())
 }
 
 /// Most worker threads a sweep accepts: far beyond the cores of any one
@@ -209,6 +305,11 @@ mod tests {
         assert!((parse_speed_m_s("72kmh").unwrap() - 20.0).abs() < 1e-12);
         assert!(parse_speed_m_s("0").is_err());
         assert!(parse_speed_m_s("-3").is_err());
+        let e = parse_speed_m_s("1e300").unwrap_err().to_string();
+        assert!(
+            e.contains("between 0.01 and 300 m/s") && e.contains("1e300"),
+            "{e}"
+        );
         assert!(
             parse_speed_m_s("fast")
                 .unwrap_err()
@@ -239,11 +340,40 @@ mod tests {
     }
 
     #[test]
-    fn durations() {
+    fn durations_need_a_unit_and_stay_within_a_day() {
         assert_eq!(parse_duration_s("8h").unwrap(), 28800.0);
         assert_eq!(parse_duration_s("30min").unwrap(), 1800.0);
         assert_eq!(parse_duration_s("90s").unwrap(), 90.0);
+        assert_eq!(parse_duration_s("1.5 h").unwrap(), 5400.0);
+        assert_eq!(parse_duration_s("1e1min").unwrap(), 600.0);
         assert!(parse_duration_s("8 days").is_err());
+        let e = parse_duration_s("8").unwrap_err().to_string();
+        assert!(e.contains("no unit"), "{e}");
+        assert!(parse_duration_s("-1h").is_err());
+        assert!(parse_duration_s("25h").is_err());
+        assert!(
+            parse_duration_s("1e300s")
+                .unwrap_err()
+                .to_string()
+                .contains("24 h")
+        );
+    }
+
+    #[test]
+    fn forces_are_bounded_and_must_stay_below_the_nyquist_frequency() {
+        let f = parse_force("150, 25, 1.3").unwrap();
+        assert_eq!((f.amplitude_n, f.frequency_hz, f.x_m), (150.0, 25.0, 1.3));
+        assert!(
+            parse_force("1e300,25,1")
+                .unwrap_err()
+                .to_string()
+                .contains("AMPLITUDE")
+        );
+        assert!(parse_force("150,0,1").is_err());
+        assert!(parse_force("150,25").is_err());
+        assert!(check_force_against_rate(&f, 1000.0).is_ok());
+        let e = check_force_against_rate(&f, 50.0).unwrap_err().to_string();
+        assert!(e.contains("Nyquist") && e.contains("25 Hz"), "{e}");
     }
 
     #[test]

@@ -19,7 +19,8 @@ pub struct Args {
     #[arg(long)]
     pub json: bool,
     /// Also report the IRI per segment of this many metres.
-    #[arg(long, value_name = "M")]
+    #[arg(long, value_name = "M", allow_hyphen_values = true,
+          value_parser = super::options::quantity(&roughride::limits::SEGMENT))]
     pub segment: Option<f64>,
     /// Write the per-segment IRI as CSV (start_m,end_m,iri_m_per_km) to FILE.
     #[arg(

@@ -31,13 +31,15 @@ pub struct Args {
     #[arg(long, value_name = "FILE")]
     pub vehicle: PathBuf,
     /// Forward speed: m/s, or km/h with a kmh suffix (e.g. 20 or 72kmh).
-    #[arg(long, value_name = "SPEED", value_parser = parse_speed)]
+    #[arg(long, value_name = "SPEED", allow_hyphen_values = true, value_parser = parse_speed)]
     pub speed: f64,
-    /// Frequencies, Hz: start:end:step (inclusive) or a comma list.
-    #[arg(long, value_name = "HZ", default_value = "0.5:30:0.05", value_parser = parse_freqs)]
+    /// Frequencies, Hz: start:end:step (inclusive) or a comma list (0 to 1e4 Hz).
+    #[arg(long, value_name = "HZ", default_value = "0.5:30:0.05", allow_hyphen_values = true,
+          value_parser = parse_freqs)]
     pub freqs: Frequencies,
     /// Also the response to a vertical body force at this point, m ahead of the CG.
-    #[arg(long = "force-x", value_name = "M", allow_hyphen_values = true, value_parser = parse_finite)]
+    #[arg(long = "force-x", value_name = "M", allow_hyphen_values = true,
+          value_parser = super::options::quantity(&roughride::limits::BODY_X))]
     pub force_x: Option<f64>,
     /// Weighting for the weighted seat columns (wk, wd, wf, wc, we, wj).
     #[arg(long, default_value = "wk", value_parser = parse_weighting)]
@@ -58,13 +60,6 @@ fn parse_speed(s: &str) -> Result<f64, String> {
     parse_speed_m_s(s).map_err(|e| e.to_string())
 }
 
-fn parse_finite(s: &str) -> Result<f64, String> {
-    match s.trim().parse::<f64>() {
-        Ok(v) if v.is_finite() => Ok(v),
-        _ => Err(format!("expected a finite number in m, got {s:?}")),
-    }
-}
-
 fn parse_weighting(s: &str) -> Result<Weighting, String> {
     s.parse()
 }
@@ -73,12 +68,8 @@ fn parse_weighting(s: &str) -> Result<Weighting, String> {
 /// rounding) or a comma list; every value finite and ≥ 0 Hz.
 fn parse_freqs(s: &str) -> Result<Frequencies, String> {
     let num = |t: &str| -> Result<f64, String> {
-        match t.trim().parse::<f64>() {
-            Ok(v) if v.is_finite() && v >= 0.0 => Ok(v),
-            _ => Err(format!(
-                "{t:?} is not a frequency in Hz (finite, not negative)"
-            )),
-        }
+        roughride::batch::values::parse_quantity(t, &roughride::limits::FRF_FREQUENCY)
+            .map_err(|e| format!("{t:?}: {}", e.why))
     };
     let t = s.trim();
     if t.contains(':') {

@@ -93,4 +93,58 @@ mod tests {
     fn the_command_line_definition_is_consistent() {
         Cli::command().debug_assert();
     }
+
+    /// Every (sub)command path with its clap definition.
+    fn commands(path: Vec<String>, c: &clap::Command, out: &mut Vec<(Vec<String>, clap::Command)>) {
+        for s in c.get_subcommands() {
+            let mut p = path.clone();
+            p.push(s.get_name().to_string());
+            out.push((p.clone(), s.clone()));
+            commands(p, s, out);
+        }
+    }
+
+    #[test]
+    fn a_negative_number_given_to_a_numeric_option_is_taken_as_its_value() {
+        // `--speed -20` must reach the option's own check (a message naming
+        // --speed), not be read as an unknown flag `-2`.
+        let text_values = [
+            "FILE",
+            "NAME",
+            "COLUMN",
+            "COLUMNS",
+            "TITLE",
+            "W",
+            "WEIGHTING",
+            "SOLVER",
+            "A-H",
+            "A,B,…",
+            "CLASS",
+            "K/N",
+        ];
+        let mut all = Vec::new();
+        commands(vec!["roughride".into()], &Cli::command(), &mut all);
+        let mut checked = 0;
+        for (path, cmd) in &all {
+            for arg in cmd.get_arguments() {
+                let (Some(long), true) = (arg.get_long(), arg.get_action().takes_values()) else {
+                    continue;
+                };
+                let names = arg.get_value_names().unwrap_or_default();
+                if names.iter().any(|n| text_values.contains(&n.as_str())) || long == "help" {
+                    continue;
+                }
+                let mut argv = path.clone();
+                argv.extend([format!("--{long}"), "-5".to_string()]);
+                let e = Cli::try_parse_from(&argv).unwrap_err();
+                assert_ne!(
+                    e.kind(),
+                    clap::error::ErrorKind::UnknownArgument,
+                    "{argv:?}: {e}"
+                );
+                checked += 1;
+            }
+        }
+        assert!(checked >= 30, "only {checked} numeric options found");
+    }
 }

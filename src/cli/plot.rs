@@ -71,14 +71,14 @@ pub struct HistogramArgs {
     /// Column to count, with its unit suffix (e.g. travel_front_m).
     #[arg(long)]
     pub column: String,
-    /// Number of equal bins between the smallest and largest value.
-    #[arg(long, default_value_t = 40)]
+    /// Number of equal bins between the smallest and largest value (1 to 1000).
+    #[arg(long, default_value_t = 40, allow_hyphen_values = true, value_parser = bins)]
     pub bins: usize,
     /// Only rows with time_s at or after this, s.
-    #[arg(long, value_name = "S")]
+    #[arg(long, value_name = "S", allow_hyphen_values = true)]
     pub from: Option<f64>,
     /// Only rows with time_s at or before this, s.
-    #[arg(long, value_name = "S")]
+    #[arg(long, value_name = "S", allow_hyphen_values = true)]
     pub to: Option<f64>,
     #[command(flatten)]
     pub out: Out,
@@ -100,13 +100,17 @@ pub struct HistoryArgs {
     #[arg(long, value_delimiter = ',', required = true)]
     pub columns: Vec<String>,
     /// Start of the window, s.
-    #[arg(long, value_name = "S")]
+    #[arg(long, value_name = "S", allow_hyphen_values = true)]
     pub from: Option<f64>,
     /// End of the window, s.
-    #[arg(long, value_name = "S")]
+    #[arg(long, value_name = "S", allow_hyphen_values = true)]
     pub to: Option<f64>,
     #[command(flatten)]
     pub out: Out,
+}
+
+fn bins(s: &str) -> Result<usize, String> {
+    super::options::count(1, 1000)(s).map(|n| n as usize)
 }
 
 pub fn run(a: Args) -> Result<(), Error> {

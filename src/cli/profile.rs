@@ -4,7 +4,9 @@
 
 use std::path::{Path, PathBuf};
 
+use super::options::quantity;
 use clap::{ArgGroup, Args as ClapArgs};
+use roughride::limits;
 use roughride::report::{self, Table, sig};
 use roughride::road::iso8608::{DEFAULT_N_MAX_CYCLE_M, DEFAULT_N_MIN_CYCLE_M};
 use roughride::road::{self, Obstacle, Profile, RoadClass, RoadSpec};
@@ -17,36 +19,41 @@ pub struct Args {
     #[arg(long, value_parser = parse_class)]
     pub class: Option<RoadClass>,
     /// Gd(n0) at n0 = 0.1 cycle/m, m^3 (overrides the class mean), e.g. 256e-6.
-    #[arg(long = "gd-n0", value_name = "M3")]
+    #[arg(long = "gd-n0", value_name = "M3", allow_hyphen_values = true,
+          value_parser = quantity(&limits::GD_N0))]
     pub gd_n0: Option<f64>,
     /// A flat road (elevation 0) instead of a random one, for obstacles alone.
     #[arg(long, conflicts_with_all = ["class", "gd_n0", "random_amplitudes"])]
     pub flat: bool,
     /// Length to cover, m; the profile spans 0..=ceil(length/spacing)·spacing,
     /// i.e. length/spacing + 1 samples when length is a whole number of spacings.
-    #[arg(long, value_name = "M")]
+    #[arg(long, value_name = "M", allow_hyphen_values = true, value_parser = quantity(&limits::ROAD_LENGTH))]
     pub length: f64,
     /// Sample spacing, m.
-    #[arg(long, value_name = "M", default_value_t = 0.05)]
+    #[arg(long, value_name = "M", default_value_t = 0.05, allow_hyphen_values = true,
+          value_parser = quantity(&limits::SPACING))]
     pub spacing: f64,
     /// Seed of the random phases (the same seed and options give the same bytes).
-    #[arg(long, default_value_t = 1)]
+    #[arg(long, default_value_t = 1, allow_hyphen_values = true)]
     pub seed: u64,
     /// Lower band edge, cycle/m: the PSD is zero below it.
-    #[arg(long = "n-min", value_name = "CYCLE_M", default_value_t = DEFAULT_N_MIN_CYCLE_M)]
+    #[arg(long = "n-min", value_name = "CYCLE_M", default_value_t = DEFAULT_N_MIN_CYCLE_M,
+          allow_hyphen_values = true, value_parser = quantity(&limits::WAVENUMBER))]
     pub n_min: f64,
     /// Upper band edge, cycle/m: the PSD is zero above it (at most 1/(2·spacing)).
-    #[arg(long = "n-max", value_name = "CYCLE_M", default_value_t = DEFAULT_N_MAX_CYCLE_M)]
+    #[arg(long = "n-max", value_name = "CYCLE_M", default_value_t = DEFAULT_N_MAX_CYCLE_M,
+          allow_hyphen_values = true, value_parser = quantity(&limits::WAVENUMBER))]
     pub n_max: f64,
     /// Waviness w of Gd(n) = Gd(n0)·(n/n0)^-w.
-    #[arg(long, default_value_t = 2.0)]
+    #[arg(long, default_value_t = 2.0, allow_hyphen_values = true,
+          value_parser = quantity(&limits::WAVINESS))]
     pub waviness: f64,
     /// Rayleigh-distributed amplitudes instead of deterministic ones.
     #[arg(long = "random-amplitudes")]
     pub random_amplitudes: bool,
     /// Obstacle to lay on the road (repeatable): bump:START,LENGTH,HEIGHT,
     /// pothole:START,LENGTH,DEPTH[,RAMP] or step:START,HEIGHT, metres.
-    #[arg(long, value_name = "SPEC", value_parser = parse_obstacle)]
+    #[arg(long, value_name = "SPEC", allow_hyphen_values = true, value_parser = parse_obstacle)]
     pub obstacle: Vec<Obstacle>,
     /// Write the CSV to FILE (atomically) instead of stdout.
     #[arg(short = 'o', long = "output", value_name = "FILE")]

@@ -4,7 +4,8 @@ use std::path::PathBuf;
 
 use clap::Args as ClapArgs;
 
-use super::options::SolverArgs;
+use super::options::{SolverArgs, quantity};
+use roughride::limits;
 use serde::Serialize;
 
 use roughride::Error;
@@ -45,21 +46,27 @@ pub struct Args {
     #[arg(long, requires = "length")]
     pub flat: bool,
     /// Seed of the generated road.
-    #[arg(long, default_value_t = 1, requires = "class")]
+    #[arg(
+        long,
+        default_value_t = 1,
+        requires = "class",
+        allow_hyphen_values = true
+    )]
     pub seed: u64,
     /// Length of the generated (or flat) road, m.
-    #[arg(long, value_name = "M")]
+    #[arg(long, value_name = "M", allow_hyphen_values = true, value_parser = quantity(&limits::ROAD_LENGTH))]
     pub length: Option<f64>,
     /// Sample spacing of the generated (or flat) road, m.
-    #[arg(long, value_name = "M", default_value_t = 0.05)]
+    #[arg(long, value_name = "M", default_value_t = 0.05, allow_hyphen_values = true,
+          value_parser = quantity(&limits::SPACING))]
     pub spacing: f64,
     /// Harmonic vertical force on the body, F = A·sin(2π f t) at x ahead of
     /// the CG: AMPLITUDE_N,FREQUENCY_HZ,X_M (e.g. an engine imbalance
     /// 150,25,1.3). Alone (with --flat) or on top of a road.
-    #[arg(long, value_name = "A,F,X", value_parser = parse_force)]
+    #[arg(long, value_name = "A,F,X", allow_hyphen_values = true, value_parser = parse_force)]
     pub force: Option<HarmonicForce>,
     /// Forward speed: m/s, or km/h with a kmh suffix (e.g. 20 or 72kmh).
-    #[arg(long, value_name = "SPEED", value_parser = parse_speed)]
+    #[arg(long, value_name = "SPEED", allow_hyphen_values = true, value_parser = parse_speed)]
     pub speed: f64,
     /// Write the time history (CSV, units in the header) to this file.
     #[arg(long, value_name = "FILE")]
@@ -70,13 +77,15 @@ pub struct Args {
     #[command(flatten)]
     pub run: SolverArgs,
     /// Daily exposure for the ISO 2631-1 health guidance: 8h, 30min, 3600s.
-    #[arg(long, value_name = "DURATION", default_value = "8h", value_parser = parse_duration)]
+    #[arg(long, value_name = "DURATION", default_value = "8h", allow_hyphen_values = true,
+          value_parser = parse_duration)]
     pub exposure: f64,
     /// Write both axles' suspension-travel histograms (CSV) to this file.
     #[arg(long, value_name = "FILE")]
     pub travel_histogram: Option<PathBuf>,
     /// Bin width of the travel histogram, m.
-    #[arg(long, value_name = "M", default_value_t = 0.002)]
+    #[arg(long, value_name = "M", default_value_t = 0.002, allow_hyphen_values = true,
+          value_parser = quantity(&limits::TRAVEL_BIN))]
     pub travel_bin: f64,
     /// Write rainflow range–mean tables (ASTM E1049-85) of travel and
     /// suspension force, per axle, as CSV to this file.
@@ -91,7 +100,8 @@ pub struct Args {
     #[arg(long, value_name = "N", default_value_t = 100.0, value_parser = parse_bin_width)]
     pub rainflow_force_bin: f64,
     /// S–N exponents for the damage-equivalent ranges, comma-separated.
-    #[arg(long, value_name = "M,…", value_delimiter = ',', default_value = "3,5")]
+    #[arg(long, value_name = "M,…", value_delimiter = ',', default_value = "3,5",
+          allow_hyphen_values = true, value_parser = quantity(&limits::SN_EXPONENT))]
     pub sn_exponent: Vec<f64>,
 }
 
@@ -108,26 +118,7 @@ fn parse_bin_width(s: &str) -> Result<f64, String> {
 }
 
 fn parse_force(s: &str) -> Result<HarmonicForce, String> {
-    let parts: Vec<&str> = s.split(',').map(str::trim).collect();
-    let bad =
-        || format!("invalid --force {s:?}: expected AMPLITUDE_N,FREQUENCY_HZ,X_M, e.g. 150,25,1.3");
-    if parts.len() != 3 {
-        return Err(bad());
-    }
-    let v: Vec<f64> = parts
-        .iter()
-        .map(|p| p.parse::<f64>().map_err(|_| bad()))
-        .collect::<Result<_, _>>()?;
-    if v.iter().any(|x| !x.is_finite()) || v[1] <= 0.0 {
-        return Err(format!(
-            "invalid --force {s:?}: values must be finite and the frequency positive"
-        ));
-    }
-    Ok(HarmonicForce {
-        amplitude_n: v[0],
-        frequency_hz: v[1],
-        x_m: v[2],
-    })
+    roughride::batch::values::parse_force(s).map_err(|e| e.to_string())
 }
 
 fn parse_duration(s: &str) -> Result<f64, String> {
@@ -240,6 +231,10 @@ pub fn run(a: Args) -> Result<(), Error> {
         eprintln!("roughride: warning: {w}");
     }
     check_road(&vehicle, &profile, &road)?;
+    if let Some(f) = &a.force {
+        roughride::batch::values::check_force_against_rate(f, a.run.rate)
+            .map_err(|e| Error::Usage(e.to_string()))?;
+    }
     let options = RunOptions {
         speed_m_s: a.speed,
         solver: a.run.settings(),

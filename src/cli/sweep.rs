@@ -7,7 +7,8 @@ use std::sync::Arc;
 
 use clap::Args as ClapArgs;
 
-use super::options::SolverArgs;
+use super::options::{SolverArgs, count, quantity};
+use roughride::limits;
 
 use roughride::Error;
 use roughride::batch::values::{Shard, parse_speed_list_m_s};
@@ -65,16 +66,18 @@ pub struct Args {
     #[arg(long, value_name = "FILE")]
     pub profile: Vec<PathBuf>,
     /// Speeds: start:end:step (inclusive) or a comma list; m/s, or km/h with a kmh suffix.
-    #[arg(long, value_name = "SPEEDS", value_parser = parse_speeds)]
+    #[arg(long, value_name = "SPEEDS", allow_hyphen_values = true, value_parser = parse_speeds)]
     pub speeds: Speeds,
-    /// Seeds per generated road: seeds 1..=N.
-    #[arg(long, value_name = "N", default_value_t = 1)]
+    /// Seeds per generated road: seeds 1..=N (N up to 100000).
+    #[arg(long, value_name = "N", default_value_t = 1, allow_hyphen_values = true,
+          value_parser = count(1, limits::SEEDS.max as u64))]
     pub seeds: u64,
     /// Length of the generated roads, m.
-    #[arg(long, value_name = "M")]
+    #[arg(long, value_name = "M", allow_hyphen_values = true, value_parser = quantity(&limits::ROAD_LENGTH))]
     pub length: Option<f64>,
     /// Sample spacing of the generated roads, m.
-    #[arg(long, value_name = "M", default_value_t = 0.05)]
+    #[arg(long, value_name = "M", default_value_t = 0.05, allow_hyphen_values = true,
+          value_parser = quantity(&limits::SPACING))]
     pub spacing: f64,
     /// Worker threads, 1 to 1024 (default: all cores; never more than the
     /// cases). The output does not depend on it.

@@ -12,6 +12,7 @@ use std::io::Read;
 use std::path::{Path, PathBuf};
 
 use super::ComfortError;
+use crate::limits::{self, ACCELERATION, RECORD_RATE, RECORD_TIME, Range};
 
 /// Largest tolerated deviation of a time step from the nominal step,
 /// as a fraction of the nominal step.
@@ -56,8 +57,8 @@ pub fn read_record_from(
         .comment(Some(b'#'))
         .flexible(true)
         .from_reader(reader);
-    let (it, ia) = column_indices(&mut rdr, path, column)?;
-    let rows = read_rows(&mut rdr, path, (it, ia), column)?;
+    let (it, ia, width) = column_indices(&mut rdr, path, column)?;
+    let rows = read_rows(&mut rdr, path, (it, ia, width), column)?;
     let n = rows.times.len();
     if n < 2 {
         return Err(ComfortError::Unusable(format!(
@@ -67,10 +68,19 @@ pub fn read_record_from(
     }
     check_uniform(&rows, path)?;
     let times = &rows.times;
+    // The mean step over the record: jitter averages out.
+    let sample_rate_hz = (n - 1) as f64 / (times[n - 1] - times[0]);
+    if !RECORD_RATE.contains(sample_rate_hz) {
+        return Err(ComfortError::Unusable(format!(
+            "{}: the record is sampled at {} Hz; the sample rate must lie between {}",
+            path.display(),
+            limits::show(sample_rate_hz),
+            RECORD_RATE.span()
+        )));
+    }
     Ok(Record {
         start_s: times[0],
-        // The mean step over the record: jitter averages out.
-        sample_rate_hz: (n - 1) as f64 / (times[n - 1] - times[0]),
+        sample_rate_hz,
         accel_m_s2: rows.accel,
     })
 }
@@ -84,12 +94,12 @@ fn bad_row(path: &Path, line: u64, message: String) -> ComfortError {
 }
 
 /// Positions of `time_s` and `column` in the header (a UTF-8 byte-order
-/// mark on the first name is ignored).
+/// mark on the first name is ignored), and the number of columns.
 fn column_indices<R: Read>(
     rdr: &mut csv::Reader<R>,
     path: &Path,
     column: &str,
-) -> Result<(usize, usize), ComfortError> {
+) -> Result<(usize, usize, usize), ComfortError> {
     let headers = rdr
         .headers()
         .map_err(|e| csv_error(path.to_path_buf(), 1, e))?
@@ -111,7 +121,7 @@ fn column_indices<R: Read>(
             )
         })
     };
-    Ok((find("time_s")?, find(column)?))
+    Ok((find("time_s")?, find(column)?, names.len()))
 }
 
 /// The data rows: times (strictly increasing), their file lines, and the
@@ -125,7 +135,7 @@ struct Rows {
 fn read_rows<R: Read>(
     rdr: &mut csv::Reader<R>,
     path: &Path,
-    (it, ia): (usize, usize),
+    (it, ia, width): (usize, usize, usize),
     column: &str,
 ) -> Result<Rows, ComfortError> {
     let mut rows = Rows {
@@ -144,8 +154,18 @@ fn read_rows<R: Read>(
             }
         }
         let line = rec.position().map(|q| q.line()).unwrap_or(0);
-        let t = finite_field(&rec, it, "time_s", path, line)?;
-        let a = finite_field(&rec, ia, column, path, line)?;
+        if rec.len() > width {
+            return Err(bad_row(
+                path,
+                line,
+                format!(
+                    "{} fields where the header has {width}: a stray comma, or a row of another file?",
+                    rec.len()
+                ),
+            ));
+        }
+        let t = field_in(&rec, (it, "time_s"), &RECORD_TIME, path, line)?;
+        let a = field_in(&rec, (ia, column), &ACCELERATION, path, line)?;
         if let Some(&prev) = rows.times.last() {
             if t <= prev {
                 return Err(bad_row(
@@ -162,11 +182,11 @@ fn read_rows<R: Read>(
     Ok(rows)
 }
 
-/// Field `i` (named `name`) of a row as a finite number.
-fn finite_field(
+/// Field `i` (named `name`) of a row as a number within `range`.
+fn field_in(
     rec: &csv::StringRecord,
-    i: usize,
-    name: &str,
+    (i, name): (usize, &str),
+    range: &Range,
     path: &Path,
     line: u64,
 ) -> Result<f64, ComfortError> {
@@ -176,14 +196,9 @@ fn finite_field(
     let v: f64 = s
         .parse()
         .map_err(|_| bad_row(path, line, format!("column `{name}`: not a number: {s:?}")))?;
-    if !v.is_finite() {
-        return Err(bad_row(
-            path,
-            line,
-            format!("column `{name}`: must be finite, got {s}"),
-        ));
-    }
-    Ok(v)
+    range
+        .check(v)
+        .map_err(|m| bad_row(path, line, format!("column `{name}`: {m}")))
 }
 
 /// Refuses a step that differs from the nominal (median) step by more than

@@ -359,6 +359,16 @@ impl WeightingFilter {
     /// [`Weighting::min_sample_rate_hz`].
     pub fn new(w: Weighting, sample_rate_hz: f64) -> Result<Self, ComfortError> {
         let min = w.min_sample_rate_hz();
+        // Above the top of the accepted rates the 1 s running r.m.s. window
+        // alone would need more memory than any record justifies.
+        let max = crate::limits::RECORD_RATE.max;
+        if sample_rate_hz > max {
+            return Err(ComfortError::Unusable(format!(
+                "sample rate {} Hz is above the {} Hz this evaluation accepts",
+                crate::limits::show(sample_rate_hz),
+                crate::limits::show(max)
+            )));
+        }
         if !sample_rate_hz.is_finite() || sample_rate_hz < min {
             return Err(ComfortError::Unusable(format!(
                 "sample rate {sample_rate_hz} Hz is too low for weighting {w}: \

@@ -7,6 +7,7 @@ use std::io::{Read, Write};
 use std::path::{Path, PathBuf};
 
 use super::{Profile, ProfileError};
+use crate::limits::{self, DISTANCE, ELEVATION, SPACING};
 
 /// Relative spacing deviation tolerated without resampling (rounding in the
 /// file's printed distances).
@@ -78,6 +79,7 @@ fn read_plain(bytes: &[u8]) -> Option<Profile> {
             .position(|h| h.trim_start_matches('\u{feff}') == name)
     };
     let (ix, iz) = (col("distance_m")?, col("elevation_m")?);
+    let width = names.len();
     let body = &bytes[header_end + 1..];
     let body = body.strip_suffix(b"\n").unwrap_or(body);
     let (mut xs, mut zs);
@@ -89,8 +91,8 @@ fn read_plain(bytes: &[u8]) -> Option<Profile> {
         .map(|i| body.len() / 2 + i);
     if let Some(split) = split {
         let (first, second) = std::thread::scope(|scope| {
-            let second = scope.spawn(|| plain_rows(&body[split + 1..], ix, iz, has_cr));
-            let first = plain_rows(&body[..split], ix, iz, has_cr);
+            let second = scope.spawn(|| plain_rows(&body[split + 1..], ix, iz, width, has_cr));
+            let first = plain_rows(&body[..split], ix, iz, width, has_cr);
             (first, second.join().ok().flatten())
         });
         (xs, zs) = first?;
@@ -104,18 +106,24 @@ fn read_plain(bytes: &[u8]) -> Option<Profile> {
         xs.extend_from_slice(&xs2);
         zs.extend_from_slice(&zs2);
     } else {
-        (xs, zs) = plain_rows(body, ix, iz, has_cr)?;
+        (xs, zs) = plain_rows(body, ix, iz, width, has_cr)?;
     }
     if xs.len() < 2 {
         return None;
     }
-    let spacing = uniform_spacing(&xs)?;
+    let spacing = uniform_spacing(&xs).filter(|s| SPACING.contains(*s))?;
     Some(Profile::new(xs[0], spacing, zs))
 }
 
-/// The rows of `body` (whole lines, no trailing line end): distances and
-/// elevations, or `None` as for [`read_plain`].
-fn plain_rows(body: &[u8], ix: usize, iz: usize, has_cr: bool) -> Option<(Vec<f64>, Vec<f64>)> {
+/// The rows of `body` (whole lines, no trailing line end, at most `width`
+/// fields each): distances and elevations, or `None` as for [`read_plain`].
+fn plain_rows(
+    body: &[u8],
+    ix: usize,
+    iz: usize,
+    width: usize,
+    has_cr: bool,
+) -> Option<(Vec<f64>, Vec<f64>)> {
     // Validated once here (fast for ASCII), so no field needs it again.
     let body = std::str::from_utf8(body).ok()?;
     // Rows printed by `write_profile_csv` take about 25 bytes.
@@ -129,12 +137,11 @@ fn plain_rows(body: &[u8], ix: usize, iz: usize, has_cr: bool) -> Option<(Vec<f6
         let (mut x, mut z) = (None, None);
         for (i, field) in line.split(',').enumerate() {
             if i == ix {
-                x = Some(plain_number(field)?);
+                x = Some(plain_number(field).filter(|v| DISTANCE.contains(*v))?);
             } else if i == iz {
-                z = Some(plain_number(field)?);
-            }
-            if x.is_some() && z.is_some() {
-                break;
+                z = Some(plain_number(field).filter(|v| ELEVATION.contains(*v))?);
+            } else if i >= width {
+                return None; // more fields than the header: refused below
             }
         }
         let (x, z) = (x?, z?);
@@ -196,6 +203,7 @@ fn read_general(bytes: &[u8], path: &Path) -> Result<(Profile, Vec<String>), Pro
             })
     };
     let (ix, iz) = (col("distance_m")?, col("elevation_m")?);
+    let width = headers.len();
 
     let mut xs: Vec<f64> = Vec::new();
     let mut zs: Vec<f64> = Vec::new();
@@ -211,7 +219,18 @@ fn read_general(bytes: &[u8], path: &Path) -> Result<(Profile, Vec<String>), Pro
             }
         }
         let line = record.position().map(|q| q.line()).unwrap_or(0);
-        let field = |i: usize, name: &str| -> Result<f64, ProfileError> {
+        if record.len() > width {
+            return Err(ProfileError::BadRow {
+                path: p(),
+                line,
+                message: format!(
+                    "{} fields where the header has {width}: a stray comma, or a row of another file?",
+                    record.len()
+                ),
+            });
+        }
+        let field = |i: usize, range: &limits::Range| -> Result<f64, ProfileError> {
+            let name = range.name;
             let s = record.get(i).ok_or_else(|| ProfileError::BadRow {
                 path: p(),
                 line,
@@ -222,17 +241,14 @@ fn read_general(bytes: &[u8], path: &Path) -> Result<(Profile, Vec<String>), Pro
                 line,
                 message: format!("`{name}` is not a number: {s:?}"),
             })?;
-            if !v.is_finite() {
-                return Err(ProfileError::BadRow {
-                    path: p(),
-                    line,
-                    message: format!("`{name}` must be finite, got {s}"),
-                });
-            }
-            Ok(v)
+            range.check(v).map_err(|m| ProfileError::BadRow {
+                path: p(),
+                line,
+                message: format!("`{name}` {m}"),
+            })
         };
-        let x = field(ix, "distance_m")?;
-        let z = field(iz, "elevation_m")?;
+        let x = field(ix, &DISTANCE)?;
+        let z = field(iz, &ELEVATION)?;
         if let Some(&prev) = xs.last() {
             if x <= prev {
                 return Err(ProfileError::BadRow {
@@ -287,12 +303,23 @@ fn to_uniform(
 ) -> Result<(Profile, Vec<String>), ProfileError> {
     let n = xs.len();
     let span = xs[n - 1] - xs[0];
+    let spacing_ok = |s: f64| {
+        SPACING
+            .check(s)
+            .map(|_| ())
+            .map_err(|m| ProfileError::Unusable {
+                path: path.to_path_buf(),
+                message: format!("the rows are {} m apart; the spacing {m}", limits::show(s)),
+            })
+    };
     if let Some(nominal) = uniform_spacing(xs) {
+        spacing_ok(nominal)?;
         return Ok((Profile::new(xs[0], nominal, zs.to_vec()), Vec::new()));
     }
     let mut gaps: Vec<f64> = xs.windows(2).map(|w| w[1] - w[0]).collect();
     gaps.sort_by(f64::total_cmp);
     let median = gaps[gaps.len() / 2];
+    spacing_ok(median)?;
     for (i, w) in xs.windows(2).enumerate() {
         if w[1] - w[0] > MAX_GAP_FACTOR * median {
             return Err(ProfileError::BadRow {

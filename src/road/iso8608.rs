@@ -48,6 +48,7 @@
 //! math library; on one target (e.g. x86_64 Linux) the same seed gives
 //! byte-identical profiles on every machine and thread count.
 
+use crate::limits::{self, Range};
 use std::fmt;
 use std::str::FromStr;
 
@@ -243,26 +244,18 @@ impl RoadSpec {
     /// Checks every parameter; the message names the parameter and value.
     pub fn validate(&self) -> Result<(), ProfileError> {
         let bad = |msg: String| Err(ProfileError::Parameter(msg));
-        let positive = |name: &str, v: f64| -> Result<(), ProfileError> {
-            if v.is_finite() && v > 0.0 {
-                Ok(())
-            } else {
-                Err(ProfileError::Parameter(format!(
-                    "{name} must be a positive finite number, got {v}"
-                )))
-            }
+        let within = |name: &str, range: &Range, v: f64| -> Result<(), ProfileError> {
+            range
+                .check(v)
+                .map(|_| ())
+                .map_err(|m| ProfileError::Parameter(format!("{name} {m}")))
         };
-        positive("gd_n0 (m^3)", self.gd_n0_m3)?;
-        positive("spacing (m)", self.spacing_m)?;
-        positive("length (m)", self.length_m)?;
-        positive("n_min (cycle/m)", self.n_min_cycle_m)?;
-        positive("n_max (cycle/m)", self.n_max_cycle_m)?;
-        if !(self.waviness.is_finite() && (0.0..=6.0).contains(&self.waviness)) {
-            return bad(format!(
-                "waviness must lie between 0 and 6, got {}",
-                self.waviness
-            ));
-        }
+        within("gd_n0 (m^3)", &limits::GD_N0, self.gd_n0_m3)?;
+        within("spacing (m)", &limits::SPACING, self.spacing_m)?;
+        within("length (m)", &limits::ROAD_LENGTH, self.length_m)?;
+        within("n_min (cycle/m)", &limits::WAVENUMBER, self.n_min_cycle_m)?;
+        within("n_max (cycle/m)", &limits::WAVENUMBER, self.n_max_cycle_m)?;
+        within("waviness", &limits::WAVINESS, self.waviness)?;
         if self.length_m <= self.spacing_m {
             return bad(format!(
                 "length ({} m) must exceed spacing ({} m)",

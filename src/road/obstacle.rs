@@ -18,6 +18,7 @@
 //! Command-line form (`--obstacle`): `bump:START,LENGTH,HEIGHT`,
 //! `pothole:START,LENGTH,DEPTH[,RAMP]`, `step:START,HEIGHT`, all in metres.
 
+use crate::limits::show;
 use std::fmt;
 use std::str::FromStr;
 
@@ -117,15 +118,27 @@ impl Obstacle {
             if v.is_finite() {
                 Ok(())
             } else {
-                Err(format!("{name} must be a finite number, got {v}"))
+                Err(format!(
+                    "{name} must be a finite number, got {}",
+                    crate::limits::show(v)
+                ))
             }
         };
         let positive = |name: &str, v: f64| {
             if v.is_finite() && v > 0.0 {
                 Ok(())
             } else {
-                Err(format!("{name} must be positive, got {v}"))
+                Err(format!(
+                    "{name} must be positive, got {}",
+                    crate::limits::show(v)
+                ))
             }
+        };
+        let height = |name: &str, v: f64| {
+            crate::limits::OBSTACLE_HEIGHT
+                .check(v)
+                .map(|_| ())
+                .map_err(|m| format!("{name} {m}"))
         };
         match *self {
             Obstacle::HalfSine {
@@ -135,7 +148,7 @@ impl Obstacle {
             } => {
                 finite("start", start_m)?;
                 positive("length", length_m)?;
-                finite("height", height_m)
+                height("height", height_m)
             }
             Obstacle::Pothole {
                 start_m,
@@ -146,6 +159,7 @@ impl Obstacle {
                 finite("start", start_m)?;
                 positive("length", length_m)?;
                 positive("depth", depth_m)?;
+                height("depth", depth_m)?;
                 positive("ramp", ramp_m)?;
                 if ramp_m > 0.5 * length_m {
                     return Err(format!(
@@ -156,7 +170,7 @@ impl Obstacle {
             }
             Obstacle::Step { start_m, height_m } => {
                 finite("start", start_m)?;
-                finite("height", height_m)
+                height("height", height_m)
             }
         }
     }
@@ -170,14 +184,29 @@ impl fmt::Display for Obstacle {
                 start_m,
                 length_m,
                 height_m,
-            } => write!(f, "bump:{start_m},{length_m},{height_m}"),
+            } => write!(
+                f,
+                "bump:{},{},{}",
+                show(*start_m),
+                show(*length_m),
+                show(*height_m)
+            ),
             Obstacle::Pothole {
                 start_m,
                 length_m,
                 depth_m,
                 ramp_m,
-            } => write!(f, "pothole:{start_m},{length_m},{depth_m},{ramp_m}"),
-            Obstacle::Step { start_m, height_m } => write!(f, "step:{start_m},{height_m}"),
+            } => write!(
+                f,
+                "pothole:{},{},{},{}",
+                show(*start_m),
+                show(*length_m),
+                show(*depth_m),
+                show(*ramp_m)
+            ),
+            Obstacle::Step { start_m, height_m } => {
+                write!(f, "step:{},{}", show(*start_m), show(*height_m))
+            }
         }
     }
 }
@@ -234,12 +263,14 @@ impl FromStr for Obstacle {
 /// A flat road (all elevations zero) from 0 to at least `length_m`, with
 /// `ceil(length/spacing) + 1` samples, for obstacles on their own.
 pub fn flat(length_m: f64, spacing_m: f64) -> Result<Profile, ProfileError> {
-    if !(spacing_m.is_finite() && spacing_m > 0.0) {
-        return Err(ProfileError::Parameter(format!(
-            "spacing (m) must be a positive finite number, got {spacing_m}"
-        )));
-    }
-    if !(length_m.is_finite() && length_m > spacing_m) {
+    use crate::limits::{ROAD_LENGTH, SPACING};
+    SPACING
+        .check(spacing_m)
+        .map_err(|m| ProfileError::Parameter(format!("spacing (m) {m}")))?;
+    ROAD_LENGTH
+        .check(length_m)
+        .map_err(|m| ProfileError::Parameter(format!("length (m) {m}")))?;
+    if length_m <= spacing_m {
         return Err(ProfileError::Parameter(format!(
             "length ({length_m} m) must be a finite number exceeding spacing ({spacing_m} m)"
         )));
@@ -270,9 +301,11 @@ pub fn check_obstacles(profile: &Profile, obstacles: &[Obstacle]) -> Result<(), 
         let (a, b) = (o.start_m(), o.start_m() + o.length_m());
         if a < profile.start_m || b > profile.end_m() {
             return Err(ProfileError::Parameter(format!(
-                "obstacle {o} spans {a}–{b} m, outside the road ({}–{} m)",
-                profile.start_m,
-                profile.end_m()
+                "obstacle {o} spans {}–{} m, outside the road ({}–{} m)",
+                show(a),
+                show(b),
+                show(profile.start_m),
+                show(profile.end_m())
             )));
         }
         if !matches!(o, Obstacle::Step { .. }) && o.length_m() < 2.0 * profile.spacing_m {

@@ -9,6 +9,10 @@ use serde::Deserialize;
 use thiserror::Error;
 
 use super::{Axle, Damper, Seat, Stops, Tyre, Vehicle};
+use crate::limits::{self, Range};
+
+/// Longest vehicle or seat name, characters.
+pub const MAX_NAME_CHARS: usize = 120;
 
 /// A vehicle file was unreadable or described an impossible vehicle.
 #[derive(Debug, Error)]
@@ -133,8 +137,12 @@ pub fn parse_vehicle(text: &str, path: &Path) -> Result<Vehicle, VehicleError> {
         message: e.to_string().trim_end().replace('\n', "\n  "),
     })?;
     let v = Validator { path };
-    let body_mass_kg = v.positive("body.mass", raw.body.mass)?;
-    let pitch_inertia_kg_m2 = v.positive("body.pitch_inertia", raw.body.pitch_inertia)?;
+    let body_mass_kg = v.within("body.mass", &limits::BODY_MASS, raw.body.mass)?;
+    let pitch_inertia_kg_m2 = v.within(
+        "body.pitch_inertia",
+        &limits::PITCH_INERTIA,
+        raw.body.pitch_inertia,
+    )?;
     let front = v.axle("front", &raw.front, 1.0)?;
     let rear = v.axle("rear", &raw.rear, -1.0)?;
     if raw.seat.is_empty() {
@@ -143,20 +151,32 @@ pub fn parse_vehicle(text: &str, path: &Path) -> Result<Vehicle, VehicleError> {
             "is missing: give at least one [[seat]] with its x (m, positive ahead of the CG)",
         ));
     }
-    let mut seats = Vec::with_capacity(raw.seat.len());
+    let mut seats: Vec<Seat> = Vec::with_capacity(raw.seat.len());
     for (i, s) in raw.seat.iter().enumerate() {
-        let x_m = v.finite(&format!("seat[{i}].x"), s.x)?;
-        seats.push(Seat {
-            x_m,
-            name: s.name.clone().unwrap_or_else(|| format!("seat{}", i + 1)),
-        });
+        let x_m = v.within(&format!("seat[{i}].x"), &limits::BODY_X, s.x)?;
+        let key = format!("seat[{i}].name");
+        let name = match &s.name {
+            Some(n) => v.name(&key, n, true)?,
+            None => format!("seat{}", i + 1),
+        };
+        // Seat names head the history's columns: each must be its own.
+        if let Some(j) = seats.iter().position(|o| o.name == name) {
+            return Err(v.invalid(
+                &key,
+                format!("{name:?} is already the name of seat[{j}]; give each seat its own name"),
+            ));
+        }
+        seats.push(Seat { x_m, name });
     }
+    let name = match &raw.name {
+        Some(n) => v.name("name", n, false)?,
+        None => path
+            .file_stem()
+            .map(|s| s.to_string_lossy().into_owned())
+            .unwrap_or_default(),
+    };
     Ok(Vehicle {
-        name: raw.name.unwrap_or_else(|| {
-            path.file_stem()
-                .map(|s| s.to_string_lossy().into_owned())
-                .unwrap_or_default()
-        }),
+        name,
         body_mass_kg,
         pitch_inertia_kg_m2,
         axles: [front, rear],
@@ -177,48 +197,71 @@ impl Validator<'_> {
         }
     }
 
-    fn finite(&self, key: &str, value: f64) -> Result<f64, VehicleError> {
-        if value.is_finite() {
-            Ok(value)
-        } else {
-            Err(self.invalid(key, format!("must be a finite number, got {value}")))
+    /// `value` when it lies in `range`; the message says the range.
+    fn within(&self, key: &str, range: &Range, value: f64) -> Result<f64, VehicleError> {
+        if !value.is_finite() {
+            return Err(self.invalid(
+                key,
+                format!(
+                    "must be a finite number (between {}), got {}",
+                    range.span(),
+                    limits::show(value)
+                ),
+            ));
         }
+        if range.min > 0.0 && value <= 0.0 {
+            return Err(self.invalid(
+                key,
+                format!(
+                    "must be positive (between {}), got {}",
+                    range.span(),
+                    limits::show(value)
+                ),
+            ));
+        }
+        range.check(value).map_err(|m| self.invalid(key, m))
     }
 
-    fn positive(&self, key: &str, value: f64) -> Result<f64, VehicleError> {
-        let value = self.finite(key, value)?;
-        if value > 0.0 {
-            Ok(value)
-        } else {
-            Err(self.invalid(key, format!("must be positive, got {value}")))
+    /// A name for tables: 1 to [`MAX_NAME_CHARS`] characters, no control
+    /// characters; a seat's name also heads CSV columns, so `in_csv` also
+    /// refuses commas and double quotes.
+    fn name(&self, key: &str, name: &str, in_csv: bool) -> Result<String, VehicleError> {
+        let n = name.chars().count();
+        if n == 0 || n > MAX_NAME_CHARS {
+            return Err(self.invalid(
+                key,
+                format!("must have 1 to {MAX_NAME_CHARS} characters, has {n}"),
+            ));
         }
-    }
-
-    fn non_negative(&self, key: &str, value: f64) -> Result<f64, VehicleError> {
-        let value = self.finite(key, value)?;
-        if value >= 0.0 {
-            Ok(value)
-        } else {
-            Err(self.invalid(key, format!("must not be negative, got {value}")))
+        let bad = |c: &char| c.is_control() || (in_csv && (*c == ',' || *c == '"'));
+        if let Some(c) = name.chars().find(bad) {
+            let why = if in_csv {
+                "seat names head CSV columns"
+            } else {
+                "names head tables"
+            };
+            return Err(self.invalid(key, format!("must not contain {c:?} ({why})")));
         }
+        Ok(name.to_string())
     }
 
     /// `sign` is +1 for the front axle (ahead of the CG), −1 for the rear.
     fn axle(&self, which: &str, raw: &RawAxle, sign: f64) -> Result<Axle, VehicleError> {
         let key = |k: &str| format!("{which}.{k}");
-        let distance = self.positive(&key("cg_distance"), raw.cg_distance)?;
-        let spring_n_m = self.positive(&key("spring_rate"), raw.spring_rate)?;
+        let distance = self.within(&key("cg_distance"), &limits::CG_DISTANCE, raw.cg_distance)?;
+        let spring_n_m = self.within(&key("spring_rate"), &limits::SPRING_RATE, raw.spring_rate)?;
+        let damping = |k: &str, c: f64| self.within(&key(k), &limits::DAMPING, c);
         let damper = match (raw.damping, raw.damping_bump, raw.damping_rebound) {
             (Some(c), None, None) => {
-                let c = self.non_negative(&key("damping"), c)?;
+                let c = damping("damping", c)?;
                 Damper {
                     bump_n_s_m: c,
                     rebound_n_s_m: c,
                 }
             }
             (None, Some(b), Some(r)) => Damper {
-                bump_n_s_m: self.non_negative(&key("damping_bump"), b)?,
-                rebound_n_s_m: self.non_negative(&key("damping_rebound"), r)?,
+                bump_n_s_m: damping("damping_bump", b)?,
+                rebound_n_s_m: damping("damping_rebound", r)?,
             },
             (Some(_), _, _) => {
                 return Err(self.invalid(
@@ -245,9 +288,13 @@ impl Validator<'_> {
                 ));
             }
         };
-        let unsprung =
-            self.non_negative(&key("unsprung_mass"), raw.unsprung_mass.unwrap_or(0.0))?;
-        let tyre = if unsprung > 0.0 {
+        // Omitted or 0 (the documented interface allows both): no wheel.
+        let unsprung = raw
+            .unsprung_mass
+            .filter(|m| *m != 0.0)
+            .map(|m| self.within(&key("unsprung_mass"), &limits::UNSPRUNG_MASS, m))
+            .transpose()?;
+        let tyre = if let Some(unsprung) = unsprung {
             let rate = raw.tyre_rate.ok_or_else(|| {
                 self.invalid(
                     &key("tyre_rate"),
@@ -258,11 +305,19 @@ impl Validator<'_> {
             })?;
             Some(Tyre {
                 unsprung_mass_kg: unsprung,
-                rate_n_m: self.positive(&key("tyre_rate"), rate)?,
-                damping_n_s_m: self
-                    .non_negative(&key("tyre_damping"), raw.tyre_damping.unwrap_or(0.0))?,
+                rate_n_m: self.within(&key("tyre_rate"), &limits::TYRE_RATE, rate)?,
+                damping_n_s_m: self.within(
+                    &key("tyre_damping"),
+                    &limits::TYRE_DAMPING,
+                    raw.tyre_damping.unwrap_or(0.0),
+                )?,
             })
         } else {
+            let why = if raw.unsprung_mass.is_some() {
+                "is given but unsprung_mass is 0, which means no wheel"
+            } else {
+                "is given but unsprung_mass is missing"
+            };
             for (k, v) in [
                 ("tyre_rate", raw.tyre_rate),
                 ("tyre_damping", raw.tyre_damping),
@@ -270,7 +325,7 @@ impl Validator<'_> {
                 if v.is_some() {
                     return Err(self.invalid(
                         &key(k),
-                        "is given but unsprung_mass is not: a tyre needs an unsprung mass (give unsprung_mass > 0, or drop the tyre keys for a body on springs)",
+                        format!("{why}: a tyre needs an unsprung mass (give unsprung_mass in kg, or drop the tyre keys for a body on springs)"),
                     ));
                 }
             }
@@ -292,12 +347,12 @@ impl Validator<'_> {
             }
             (b, r, Some(rate)) => Some(Stops {
                 bump_clearance_m: b
-                    .map(|b| self.positive(&key("bump_clearance"), b))
+                    .map(|b| self.within(&key("bump_clearance"), &limits::CLEARANCE, b))
                     .transpose()?,
                 rebound_clearance_m: r
-                    .map(|r| self.positive(&key("rebound_clearance"), r))
+                    .map(|r| self.within(&key("rebound_clearance"), &limits::CLEARANCE, r))
                     .transpose()?,
-                rate_n_m: self.positive(&key("stop_rate"), rate)?,
+                rate_n_m: self.within(&key("stop_rate"), &limits::STOP_RATE, rate)?,
             }),
         };
         Ok(Axle {
