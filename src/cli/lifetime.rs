@@ -58,20 +58,28 @@ pub struct Args {
     #[arg(long, value_name = "FILE")]
     pub crossings: Option<PathBuf>,
     /// S–N exponents for the damage-equivalent ranges, comma-separated.
-    #[arg(long, value_name = "M,…", value_delimiter = ',', default_values = ["3", "5"])]
+    #[arg(long, value_name = "M,…", value_delimiter = ',', default_values = ["3", "5"],
+          allow_hyphen_values = true)]
     pub sn_exponent: Vec<String>,
     /// Reference number of cycles of the damage-equivalent ranges.
-    #[arg(long, value_name = "N", default_value_t = 1e6)]
+    #[arg(
+        long,
+        value_name = "N",
+        default_value_t = 1e6,
+        allow_hyphen_values = true
+    )]
     pub reference_cycles: f64,
     /// Rainflow residue of each run: half (ASTM E1049-85 half cycles) or
     /// repeat (the simulated road repeats: close the residue).
     #[arg(long, default_value = "half", value_parser = parse_residue)]
     pub residue: ResidueMethod,
     /// Daily exposure for the seats' ISO 2631-1 health guidance: 8h, 30min, 3600s.
-    #[arg(long, value_name = "DURATION", default_value = "8h", value_parser = parse_duration)]
+    #[arg(long, value_name = "DURATION", default_value = "8h", allow_hyphen_values = true,
+          value_parser = parse_duration)]
     pub exposure: f64,
     /// Worker threads (default: all cores). The result does not depend on it.
-    #[arg(long, value_name = "N")]
+    #[arg(long, value_name = "N", allow_hyphen_values = true,
+          value_parser = |s: &str| roughride::batch::values::parse_jobs(s).map_err(|e| e.to_string()))]
     pub jobs: Option<usize>,
     /// Run only the K-th of N contiguous slices of the runs (needs --partial).
     #[arg(long, value_name = "K/N", default_value = "1/1", value_parser = parse_shard)]

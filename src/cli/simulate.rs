@@ -93,11 +93,13 @@ pub struct Args {
     pub rainflow: Option<PathBuf>,
     /// Range (and mean) bin width of the travel rainflow table written by
     /// --rainflow, m.
-    #[arg(long, value_name = "M", default_value_t = 0.002, value_parser = parse_bin_width)]
+    #[arg(long, value_name = "M", default_value_t = 0.002, allow_hyphen_values = true,
+          value_parser = parse_bin_width)]
     pub rainflow_travel_bin: f64,
     /// Range (and mean) bin width of the suspension-force rainflow table
     /// written by --rainflow, N.
-    #[arg(long, value_name = "N", default_value_t = 100.0, value_parser = parse_bin_width)]
+    #[arg(long, value_name = "N", default_value_t = 100.0, allow_hyphen_values = true,
+          value_parser = parse_bin_width)]
     pub rainflow_force_bin: f64,
     /// S–N exponents for the damage-equivalent ranges, comma-separated.
     #[arg(long, value_name = "M,…", value_delimiter = ',', default_value = "3,5",
