@@ -192,7 +192,7 @@ mod tests {
             .run(
                 "capped",
                 3,
-                |i| Ok(i),
+                Ok,
                 |_, r| {
                     r.unwrap();
                     highest = highest.max(highest_worker("capped"));
