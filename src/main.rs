@@ -5,8 +5,6 @@ mod cli;
 
 use std::process::ExitCode;
 
-use clap::Parser;
-
 /// Longest wait for runs to stop on their own after a signal, before the
 /// process ends anyway (work between two checks can take longer than this
 /// when many threads share few cores).
@@ -37,7 +35,7 @@ fn main() -> ExitCode {
     unsafe {
         libc::signal(libc::SIGPIPE, libc::SIG_DFL);
     }
-    let args = cli::Cli::parse();
+    let args = cli::parse();
     // Ctrl-C, SIGTERM and SIGHUP stop runs at their next check, so output
     // files are discarded rather than left half-written. If the handler
     // cannot be installed the default (immediate exit) still applies.

@@ -570,3 +570,27 @@ fn a_sweep_in_which_every_case_fails_keeps_the_previous_file() {
     assert_eq!(common::read(&d.join("grid.csv")), "previous result\n");
     assert_eq!(std::fs::read_dir(d).unwrap().count(), 1);
 }
+
+#[test]
+fn no_command_prints_with_the_macros_that_panic_on_a_write_error() {
+    // print!/println! panic when stdout cannot be written (exit 101 with a
+    // backtrace); every command goes through report::print_stdout instead.
+    let dir = common::root().join("src").join("cli");
+    let mut found = Vec::new();
+    for entry in std::fs::read_dir(&dir).unwrap() {
+        let path = entry.unwrap().path();
+        let text = common::read(&path);
+        for (i, line) in text.lines().enumerate() {
+            let code = line.split("//").next().unwrap_or("");
+            let t = code.trim_start();
+            if t.starts_with("print!(")
+                || t.starts_with("println!(")
+                || code.contains(" print!(")
+                || code.contains(" println!(")
+            {
+                found.push(format!("{}:{}: {}", path.display(), i + 1, line.trim()));
+            }
+        }
+    }
+    assert!(found.is_empty(), "{}", found.join("\n"));
+}

@@ -189,16 +189,11 @@ mod tests {
     fn no_more_workers_start_than_there_are_jobs() {
         let mut highest = None;
         Pool::new(1000)
-            .run(
-                "capped",
-                3,
-                Ok,
-                |_, r| {
-                    r.unwrap();
-                    highest = highest.max(highest_worker("capped"));
-                    Ok(())
-                },
-            )
+            .run("capped", 3, Ok, |_, r| {
+                r.unwrap();
+                highest = highest.max(highest_worker("capped"));
+                Ok(())
+            })
             .unwrap();
         // Workers are numbered from 0: at most capped-2 for 3 jobs.
         assert!(

@@ -68,6 +68,33 @@ pub enum Command {
     Plot(plot::Args),
 }
 
+/// The command line as the binary parses it: [`Cli`] with every option
+/// that takes a value also taking a negative number, so `--speed -20`
+/// reaches `--speed`'s own check (a message naming the option) instead of
+/// being read as an unknown flag `-2`. Applied to every (sub)command, so
+/// options added later get it too.
+pub fn command() -> clap::Command {
+    fn negatives(c: clap::Command) -> clap::Command {
+        c.mut_args(|a| {
+            if a.get_action().takes_values() {
+                a.allow_negative_numbers(true)
+            } else {
+                a
+            }
+        })
+        .mut_subcommands(negatives)
+    }
+    use clap::CommandFactory;
+    negatives(Cli::command())
+}
+
+/// Parses the process's arguments (exits with clap's message on bad usage).
+pub fn parse() -> Cli {
+    use clap::FromArgMatches;
+    let matches = command().get_matches();
+    Cli::from_arg_matches(&matches).unwrap_or_else(|e| e.exit())
+}
+
 /// Runs the chosen command.
 pub fn run(cli: Cli) -> Result<(), roughride::Error> {
     match cli.command {
@@ -92,6 +119,7 @@ mod tests {
     #[test]
     fn the_command_line_definition_is_consistent() {
         Cli::command().debug_assert();
+        command().debug_assert();
     }
 
     /// Every (sub)command path with its clap definition.
@@ -125,7 +153,7 @@ mod tests {
             "RESIDUE",
         ];
         let mut all = Vec::new();
-        commands(vec!["roughride".into()], &Cli::command(), &mut all);
+        commands(vec!["roughride".into()], &command(), &mut all);
         let (mut checked, mut refused) = (0, Vec::new());
         for (path, cmd) in &all {
             for arg in cmd.get_arguments() {
@@ -138,7 +166,7 @@ mod tests {
                 }
                 let mut argv = path.clone();
                 argv.extend([format!("--{long}"), "-5".to_string()]);
-                let e = Cli::try_parse_from(&argv).unwrap_err();
+                let e = command().try_get_matches_from(&argv).unwrap_err();
                 if e.kind() == clap::error::ErrorKind::UnknownArgument {
                     refused.push(argv[1..].join(" "));
                 }

@@ -120,7 +120,7 @@ pub fn run(a: Args) -> Result<(), Error> {
         })?;
     }
     if let Some(text) = text {
-        print!("{text}");
+        roughride::report::print_stdout(&text)?;
     }
     Ok(())
 }

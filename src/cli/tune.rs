@@ -22,7 +22,7 @@ use roughride::design::tune::search::SearchSettings;
 use roughride::design::tune::{DesignValues, Method, Problem, TuneReport, tune};
 use roughride::design::vary::VehicleDocument;
 use roughride::pipeline::RunOptions;
-use roughride::report::{FilePlan, Table, json_line, sig, write_atomic};
+use roughride::report::{FilePlan, Table, json_line, print_stdout, sig, write_atomic};
 use roughride::road::iso8608::RoadClass;
 use roughride::road::read_profile_csv;
 
@@ -104,7 +104,8 @@ pub struct Args {
     #[arg(long, value_name = "N", default_value_t = 400)]
     pub max_evaluations: usize,
     /// Worker threads for the time-domain runs (default: all cores).
-    #[arg(long, value_name = "N")]
+    #[arg(long, value_name = "N",
+          value_parser = |s: &str| roughride::batch::values::parse_jobs(s).map_err(|e| e.to_string()))]
     pub jobs: Option<usize>,
     /// Print one JSON object instead of the tables.
     #[arg(long)]
@@ -276,19 +277,16 @@ pub fn run(a: Args) -> Result<(), Error> {
         eprintln!("roughride: warning: {w}");
     }
     if a.json {
-        print!(
-            "{}",
-            json_line(
-                &Output {
-                    report: &report,
-                    output: a.output.as_deref().map(|p| p.display().to_string()),
-                    caution: HEALTH_CAUTION,
-                },
-                "tune result"
-            )?
-        );
+        print_stdout(&json_line(
+            &Output {
+                report: &report,
+                output: a.output.as_deref().map(|p| p.display().to_string()),
+                caution: HEALTH_CAUTION,
+            },
+            "tune result",
+        )?)?;
     } else {
-        print!("{}", render(&report, a.output.as_deref()));
+        print_stdout(&render(&report, a.output.as_deref()))?;
     }
     Ok(())
 }
