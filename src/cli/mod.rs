@@ -9,6 +9,7 @@ use clap::{Parser, Subcommand};
 mod classify;
 mod comfort;
 mod frf;
+mod life_plot;
 mod lifetime;
 mod modes;
 mod options;

@@ -40,6 +40,10 @@ pub enum Picture {
     History(HistoryArgs),
     /// A design study's trade-off: seat aw against tyre load (DLC) and travel per variant, Pareto set labelled.
     Tradeoff(super::tradeoff::Args),
+    /// A life's exceedance spectrum (`lifetime --exceedance`): cycles against range on log axes, one line per part and the total.
+    Exceedance(super::life_plot::ExceedanceArgs),
+    /// A life's rainflow range–mean matrix (`lifetime --matrix`) as a heat map.
+    RangeMean(super::life_plot::RangeMeanArgs),
 }
 
 /// Output options shared by every picture.
@@ -120,6 +124,8 @@ pub fn run(a: Args) -> Result<(), Error> {
         Picture::Psd(p) => (&p.file, p.out.output.as_deref()),
         Picture::History(h) => (&h.file, h.out.output.as_deref()),
         Picture::Tradeoff(t) => (&t.file, t.output.as_deref()),
+        Picture::Exceedance(e) => (&e.file, e.out.output.as_deref()),
+        Picture::RangeMean(m) => (&m.file, m.out.output.as_deref()),
     };
     FilePlan::new()
         .input("FILE", file)
@@ -127,6 +133,8 @@ pub fn run(a: Args) -> Result<(), Error> {
         .check()?;
     let (svg, out) = match a.picture {
         Picture::Tradeoff(t) => return super::tradeoff::run(t),
+        Picture::Exceedance(e) => super::life_plot::exceedance(e)?,
+        Picture::RangeMean(m) => super::life_plot::range_mean(m)?,
         Picture::Comfort(c) => {
             let points = read_sweep(&c.file, &c.column)?;
             let title = c

@@ -27,6 +27,7 @@
 pub mod cases;
 pub mod partial;
 pub mod spectra;
+pub mod tables;
 pub mod usage;
 
 use std::path::PathBuf;

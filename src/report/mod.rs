@@ -5,6 +5,7 @@
 
 mod files;
 mod leftovers;
+pub mod life_plot;
 pub mod plot;
 mod same_file;
 pub mod table;
