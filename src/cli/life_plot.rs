@@ -81,9 +81,16 @@ pub fn exceedance(a: ExceedanceArgs) -> Result<(String, Out), Error> {
     let s = &a.select;
     let series = read_exceedance(&a.file, &s.axle, &s.quantity)?;
     let title = a.out.title.clone().unwrap_or_else(|| {
-        format!("Life exceedance spectrum, {} axle {}", s.axle, words(&s.quantity))
+        format!(
+            "Life exceedance spectrum, {} axle {}",
+            s.axle,
+            words(&s.quantity)
+        )
     });
-    Ok((exceedance_chart(&series, &s.quantity, a.range_axis, &title)?, a.out))
+    Ok((
+        exceedance_chart(&series, &s.quantity, a.range_axis, &title)?,
+        a.out,
+    ))
 }
 
 /// The range–mean picture's SVG and its output options.
@@ -91,7 +98,11 @@ pub fn range_mean(a: RangeMeanArgs) -> Result<(String, Out), Error> {
     let s = &a.select;
     let cells = read_matrix(&a.file, &s.axle, &s.quantity)?;
     let title = a.out.title.clone().unwrap_or_else(|| {
-        format!("Life range–mean matrix, {} axle {}", s.axle, words(&s.quantity))
+        format!(
+            "Life range–mean matrix, {} axle {}",
+            s.axle,
+            words(&s.quantity)
+        )
     });
     Ok((range_mean_chart(&cells, &s.quantity, &title)?, a.out))
 }

@@ -128,11 +128,7 @@ pub fn read_exceedance(
             }
             _ => {
                 if out.iter().any(|s| s.name == f[0]) {
-                    return Err(bad(
-                        path,
-                        line,
-                        format!("series `{}` appears twice", f[0]),
-                    ));
+                    return Err(bad(path, line, format!("series `{}` appears twice", f[0])));
                 }
                 out.push(ExceedanceSeries {
                     name: f[0].clone(),

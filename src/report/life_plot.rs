@@ -137,7 +137,10 @@ fn draw_exceedance(
             (colour(part - 1), 2)
         };
         chart
-            .draw_series(LineSeries::new(points.iter().copied(), c.stroke_width(width)))
+            .draw_series(LineSeries::new(
+                points.iter().copied(),
+                c.stroke_width(width),
+            ))
             .map_err(draw_err)?
             .label(name.to_string())
             .legend(legend_line(c));
@@ -182,18 +185,23 @@ pub fn range_mean_chart(
     }
     let f = how.factor;
     let fold = |g: fn(&MatrixCell) -> (f64, f64)| {
-        used.iter()
-            .fold((f64::MAX, f64::MIN), |(a, b), c| (a.min(g(c).0), b.max(g(c).1)))
+        used.iter().fold((f64::MAX, f64::MIN), |(a, b), c| {
+            (a.min(g(c).0), b.max(g(c).1))
+        })
     };
     let (m_lo, m_hi) = fold(|c| c.mean);
     let (_, r_hi) = fold(|c| c.range);
-    let (n_lo, n_hi) = used
-        .iter()
-        .fold((f64::MAX, 0f64), |(a, b), c| (a.min(c.cycles), b.max(c.cycles)));
+    let (n_lo, n_hi) = used.iter().fold((f64::MAX, 0f64), |(a, b), c| {
+        (a.min(c.cycles), b.max(c.cycles))
+    });
     let (k_lo, k_hi) = decades(n_lo, n_hi);
     let scale = (k_lo.log10(), k_hi.log10());
     let axes = Axes::new(
-        Axis::linear(format!("{} mean ({})", how.words, how.unit), m_lo * f, m_hi * f),
+        Axis::linear(
+            format!("{} mean ({})", how.words, how.unit),
+            m_lo * f,
+            m_hi * f,
+        ),
         Axis::linear(format!("{} range ({})", how.words, how.unit), 0.0, r_hi * f),
     )
     .coarse_grid()
