@@ -542,3 +542,82 @@ fn every_key_of_tune_and_plot_tradeoff_is_documented() {
     let t = json_of(&["plot", "tradeoff", study.to_str().unwrap(), "--speed", "20"]);
     assert_documented("plot tradeoff --json", &collect(t));
 }
+
+#[test]
+fn every_key_and_column_of_lifetime_is_documented() {
+    let dir = scratch();
+    let usage = demo("usage/delivery_van.toml");
+    let (mat, exc, cro) = (
+        dir.path().join("m.csv"),
+        dir.path().join("e.csv"),
+        dir.path().join("c.csv"),
+    );
+    let report = json_of(&[
+        "lifetime",
+        "--usage",
+        usage.to_str().unwrap(),
+        "--matrix",
+        mat.to_str().unwrap(),
+        "--exceedance",
+        exc.to_str().unwrap(),
+        "--crossings",
+        cro.to_str().unwrap(),
+    ]);
+    let mut keys = BTreeSet::new();
+    json_paths(&report, "", &mut keys);
+    assert_documented("lifetime --json", &keys);
+    // A part on profile files has its own road keys.
+    let profile_usage = dir.path().join("profiles.toml");
+    std::fs::write(
+        &profile_usage,
+        format!(
+            "target_km = 100\nvehicle = {:?}\n[[part]]\nshare = 1\nspeed = \"20\"\nprofile = {:?}\n",
+            demo_car(),
+            demo("roads/demo_rural_c.csv").display().to_string()
+        ),
+    )
+    .unwrap();
+    let report = json_of(&["lifetime", "--usage", profile_usage.to_str().unwrap()]);
+    let mut keys = BTreeSet::new();
+    json_paths(&report, "", &mut keys);
+    assert_documented("lifetime --json", &keys);
+    let mut columns = BTreeSet::new();
+    for f in [&mat, &exc, &cro] {
+        columns.extend(csv_header(f));
+    }
+    assert_documented("Life spectra", &columns);
+}
+
+#[test]
+fn every_usage_key_the_parser_accepts_is_documented_and_no_other() {
+    let path = demo("usage/delivery_van.toml");
+    let good = common::read(&path);
+    let parse = |text: &str| -> Result<(), String> {
+        roughride::lifetime::usage::parse_usage(text, &path)
+            .map(|_| ())
+            .map_err(|e| e.to_string())
+    };
+    let accepted = accepted_keys(&good, &parse);
+    for (table, key) in [
+        ("", "target_km"),
+        ("", "part"),
+        ("part", "share"),
+        ("part.speeds", "share"),
+    ] {
+        assert!(
+            accepted.get(table).is_some_and(|k| k.contains(key)),
+            "the parser's keys {accepted:?} lack {table}.{key}"
+        );
+    }
+    let mut documented = documented_tables(&reference(), "Usage file");
+    // `[[part]]` is documented as a table of its own, not as a row of the top level.
+    documented
+        .entry(String::new())
+        .or_default()
+        .insert("part".into());
+    documented
+        .entry("part".into())
+        .or_default()
+        .insert("speeds".into());
+    assert_eq!(accepted, documented, "{REFERENCE}, section Usage file");
+}
