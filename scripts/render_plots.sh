@@ -21,6 +21,10 @@ car="$here/profiles/vehicles/demo_hatchback.toml"
     --vary rear.damping='*0.6:*1.4:*0.2' --vary rear.spring_rate='*0.8:*1.2:*0.2' \
     --classes B,C,D --speeds 40kmh:80kmh:20kmh --seeds 2 --length 500 -o "$out/minibus_study.csv"
 "$rr" plot tradeoff "$out/minibus_study.csv" --seat 2 --axle rear -o "$out/tradeoff.svg" > /dev/null
+"$rr" lifetime --usage "$here/profiles/usage/delivery_van.toml" \
+    --exceedance "$out/van_life_exceedance.csv" --matrix "$out/van_life_matrix.csv" > /dev/null
+"$rr" plot exceedance "$out/van_life_exceedance.csv" --axle rear --quantity force -o "$out/van_life_exceedance.svg"
+"$rr" plot range-mean "$out/van_life_matrix.csv" --axle rear --quantity force -o "$out/van_life_range_mean.svg"
 
 if command -v rsvg-convert > /dev/null; then
     for svg in "$out"/*.svg; do

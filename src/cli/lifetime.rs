@@ -326,7 +326,7 @@ fn render_parts(r: &LifeReport) -> String {
         "share",
         "km",
         "vehicle",
-        "road",
+        "road (class)",
         "speeds",
         "runs",
         "simulated km",
@@ -338,7 +338,7 @@ fn render_parts(r: &LifeReport) -> String {
                 seeds,
                 length_m,
                 ..
-            } => format!("class {class}, {seeds} × {} m", sig(*length_m, 4)),
+            } => format!("{class}, {seeds} × {} m", sig(*length_m, 4)),
             roughride::lifetime::spectra::RoadReport::Profiles { profiles } => profiles.join(" "),
         };
         let speeds = p
@@ -357,7 +357,10 @@ fn render_parts(r: &LifeReport) -> String {
             p.name.clone(),
             sig(p.share, 4),
             sig(p.km, 6),
-            p.vehicle.clone(),
+            // The file name alone keeps the table narrow; the JSON has the path.
+            std::path::Path::new(&p.vehicle)
+                .file_name()
+                .map_or_else(|| p.vehicle.clone(), |n| n.to_string_lossy().into_owned()),
             road,
             speeds,
             p.cases.to_string(),
