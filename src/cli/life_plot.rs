@@ -41,8 +41,8 @@ fn parse_range_axis(s: &str) -> Result<RangeAxis, String> {
 
 #[derive(Debug, ClapArgs)]
 #[command(after_help = "Example:\n  \
-roughride lifetime --usage life.toml --exceedance life_exc.csv\n  \
-roughride plot exceedance life_exc.csv --axle rear --quantity force -o exc.svg")]
+roughride lifetime --usage life.toml --exceedance exc.csv\n  \
+roughride plot exceedance exc.csv --axle rear --quantity force -o exc.svg")]
 pub struct ExceedanceArgs {
     /// Exceedance spectra CSV from `roughride lifetime --exceedance`.
     pub file: PathBuf,
@@ -57,8 +57,8 @@ pub struct ExceedanceArgs {
 
 #[derive(Debug, ClapArgs)]
 #[command(after_help = "Example:\n  \
-roughride lifetime --usage life.toml --matrix life_matrix.csv\n  \
-roughride plot range-mean life_matrix.csv --axle rear --quantity force -o rm.svg")]
+roughride lifetime --usage life.toml --matrix matrix.csv\n  \
+roughride plot range-mean matrix.csv --axle rear --quantity force -o rm.svg")]
 pub struct RangeMeanArgs {
     /// Range–mean matrix CSV from `roughride lifetime --matrix`.
     pub file: PathBuf,
