@@ -42,8 +42,11 @@ fn life_files(dir: &Path) -> (String, String) {
     )
 }
 
-/// Every `<polyline>` of an SVG as (stroke, stroke-width, points).
-fn polylines(svg: &str) -> Vec<(String, String, Vec<(f64, f64)>)> {
+/// A polyline's stroke colour, stroke width and points (pixels).
+type Polyline = (String, String, Vec<(f64, f64)>);
+
+/// Every `<polyline>` of an SVG.
+fn polylines(svg: &str) -> Vec<Polyline> {
     let doc = roxmltree::Document::parse(svg).expect("valid SVG");
     doc.descendants()
         .filter(|n| n.has_tag_name("polyline"))
