@@ -152,8 +152,24 @@ impl Grid {
                 self.varied_keys.len()
             );
         }
-        let any_class = self.roads.iter().any(|r| r.class().is_some());
-        if any_class {
+        self.validate_roads()?;
+        let total = self.len_checked().ok_or_else(|| {
+            crate::Error::Usage(format!(
+                "sweep: the grid has more than {MAX_CASES} cases; split it"
+            ))
+        })?;
+        if total > MAX_CASES {
+            return usage(format!(
+                "sweep: the grid has {total} cases, more than {MAX_CASES}; split it into several sweeps"
+            ));
+        }
+        Ok(())
+    }
+
+    /// Every generated road's parameters valid, and every road at least a
+    /// wheelbase long for every vehicle.
+    fn validate_roads(&self) -> Result<(), crate::Error> {
+        if self.roads.iter().any(|r| r.class().is_some()) {
             // The spec differs between classes only in Gd(n0) and between
             // seeds only in the seed, neither of which can make it invalid.
             RoadSpec::from_class(
@@ -168,31 +184,17 @@ impl Grid {
         for v in &self.vehicles {
             let wheelbase = v.vehicle.wheelbase_m();
             for r in &self.roads {
-                let length = match r {
-                    RoadSource::Class(_) => self.geometry.length_m,
-                    RoadSource::File { profile, .. } => profile.length_m(),
+                let (length, what) = match r {
+                    RoadSource::Class(_) => (self.geometry.length_m, "--length".to_string()),
+                    RoadSource::File { profile, label } => (profile.length_m(), label.clone()),
                 };
                 if length < wheelbase {
-                    let what = match r {
-                        RoadSource::Class(_) => "--length".to_string(),
-                        RoadSource::File { label, .. } => label.clone(),
-                    };
-                    return usage(format!(
+                    return Err(crate::Error::Usage(format!(
                         "sweep: {what}: the road ({length:.3} m) is shorter than the wheelbase of {} ({wheelbase:.3} m)",
                         v.file
-                    ));
+                    )));
                 }
             }
-        }
-        let total = self.len_checked().ok_or_else(|| {
-            crate::Error::Usage(format!(
-                "sweep: the grid has more than {MAX_CASES} cases; split it"
-            ))
-        })?;
-        if total > MAX_CASES {
-            return usage(format!(
-                "sweep: the grid has {total} cases, more than {MAX_CASES}; split it into several sweeps"
-            ));
         }
         Ok(())
     }

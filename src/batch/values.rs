@@ -207,7 +207,8 @@ pub fn check_force_against_rate(
             "--force",
             &limits::show(force.frequency_hz),
             format!(
-                "{} Hz is at or above the Nyquist frequency of the output, {} Hz (half of --rate {} Hz):                  the sampled force would alias; raise --rate above {} Hz",
+                "{} Hz is at or above the Nyquist frequency of the output, {} Hz (half of --rate {} Hz): \
+                 the sampled force would alias; raise --rate above {} Hz",
                 limits::show(force.frequency_hz),
                 limits::show(nyquist),
                 limits::show(output_rate_hz),

@@ -81,14 +81,7 @@ pub fn run(args: Args) -> Result<(), roughride::Error> {
         None => None,
     };
     if let (Some(path), Some(segs)) = (args.output.as_deref(), segments.as_deref()) {
-        report::write_to(Some(path), |w| {
-            let io = |e| report::io_error(path, e);
-            writeln!(w, "start_m,end_m,iri_m_per_km").map_err(io)?;
-            for s in segs {
-                writeln!(w, "{},{},{}", s.start_m, s.end_m, s.iri_m_per_km).map_err(io)?;
-            }
-            Ok::<(), roughride::Error>(())
-        })?;
+        write_segments(path, segs)?;
     }
     if args.json {
         let out = Output {
@@ -99,10 +92,28 @@ pub fn run(args: Args) -> Result<(), roughride::Error> {
         report::print_stdout(&report::json_line(&out, "classification")?)?;
         return Ok(());
     }
-    let mut text = summary_table(&args, &c).render();
+    report::print_stdout(&render(&args, &c, segments.as_deref()))?;
+    Ok(())
+}
+
+/// The per-segment IRI CSV (`-o`).
+fn write_segments(path: &std::path::Path, segs: &[Segment]) -> Result<(), roughride::Error> {
+    report::write_to(Some(path), |w| {
+        let io = |e| report::io_error(path, e);
+        writeln!(w, "start_m,end_m,iri_m_per_km").map_err(io)?;
+        for s in segs {
+            writeln!(w, "{},{},{}", s.start_m, s.end_m, s.iri_m_per_km).map_err(io)?;
+        }
+        Ok::<(), roughride::Error>(())
+    })
+}
+
+/// The human report: summary, octave bands, segments (or where they went).
+fn render(args: &Args, c: &Classification, segments: Option<&[Segment]>) -> String {
+    let mut text = summary_table(args, c).render();
     text.push('\n');
-    text.push_str(&bands_table(&c).render());
-    if let Some(segs) = segments.as_deref() {
+    text.push_str(&bands_table(c).render());
+    if let Some(segs) = segments {
         text.push('\n');
         match args.output.as_deref() {
             Some(path) => text.push_str(&format!(
@@ -113,8 +124,7 @@ pub fn run(args: Args) -> Result<(), roughride::Error> {
             None => text.push_str(&segments_table(segs).render()),
         }
     }
-    report::print_stdout(&text)?;
-    Ok(())
+    text
 }
 
 fn opt(v: Option<f64>, digits: usize) -> String {

@@ -11,7 +11,7 @@ use serde::Serialize;
 use roughride::Error;
 use roughride::batch::values::parse_speed_m_s;
 use roughride::comfort::HEALTH_CAUTION;
-use roughride::pipeline::{self, RunOptions, RunSummary};
+use roughride::pipeline::{self, Durability, RunOptions, RunSummary};
 use roughride::report::{
     AtomicFile, FilePlan, Table, fmt_cycles, io_error, json_line, print_stdout, sig, write_atomic,
 };
@@ -218,15 +218,7 @@ fn check_road(vehicle: &Vehicle, profile: &Profile, what: &RoadInfo) -> Result<(
 }
 
 pub fn run(a: Args) -> Result<(), Error> {
-    let mut files = FilePlan::new()
-        .input("--vehicle", &a.vehicle)
-        .output("--history", a.history.as_deref())
-        .output("--travel-histogram", a.travel_histogram.as_deref())
-        .output("--rainflow", a.rainflow.as_deref());
-    if let Some(p) = &a.profile {
-        files = files.input("--profile", p);
-    }
-    files.check()?;
+    check_files(&a)?;
     let vehicle = read_vehicle(&a.vehicle)?;
     let (profile, road, spec, warnings) = load_road(&a)?;
     for w in &warnings {
@@ -237,21 +229,7 @@ pub fn run(a: Args) -> Result<(), Error> {
         roughride::batch::values::check_force_against_rate(f, a.run.rate)
             .map_err(|e| Error::Usage(e.to_string()))?;
     }
-    let options = RunOptions {
-        speed_m_s: a.speed,
-        solver: a.run.settings(),
-        weighting: a.run.weighting,
-        force: a.force,
-        exposure_s: a.exposure,
-        durability: DurabilitySettings {
-            travel_bin_m: a.travel_bin,
-            rainflow_travel_bin_m: a.rainflow_travel_bin,
-            rainflow_force_bin_n: a.rainflow_force_bin,
-            sn_exponents: a.sn_exponent.clone(),
-            ..DurabilitySettings::default()
-        },
-        road_spec: spec,
-    };
+    let options = run_options(&a, spec);
     let mut history = a.history.as_deref().map(AtomicFile::create).transpose()?;
     // Frequency-domain companion, computed before the run so that bad
     // values are refused before any file is written.
@@ -273,6 +251,61 @@ pub fn run(a: Args) -> Result<(), Error> {
                 .collect(),
         ));
     }
+    write_outputs(&a, &durability, history)?;
+    let out = Output {
+        summary: &summary,
+        road,
+        harmonic_force,
+        warnings: notes(&summary, warnings),
+        caution: HEALTH_CAUTION,
+    };
+    if a.json {
+        print_stdout(&json_line(&out, "simulation summary")?)?;
+    } else {
+        print_stdout(&render(&out))?;
+    }
+    Ok(())
+}
+
+/// Refuses outputs that are inputs or each other, before anything runs.
+fn check_files(a: &Args) -> Result<(), Error> {
+    let mut files = FilePlan::new()
+        .input("--vehicle", &a.vehicle)
+        .output("--history", a.history.as_deref())
+        .output("--travel-histogram", a.travel_histogram.as_deref())
+        .output("--rainflow", a.rainflow.as_deref());
+    if let Some(p) = &a.profile {
+        files = files.input("--profile", p);
+    }
+    files.check()?;
+    Ok(())
+}
+
+fn run_options(a: &Args, road_spec: Option<RoadSpec>) -> RunOptions {
+    RunOptions {
+        speed_m_s: a.speed,
+        solver: a.run.settings(),
+        weighting: a.run.weighting,
+        force: a.force,
+        exposure_s: a.exposure,
+        durability: DurabilitySettings {
+            travel_bin_m: a.travel_bin,
+            rainflow_travel_bin_m: a.rainflow_travel_bin,
+            rainflow_force_bin_n: a.rainflow_force_bin,
+            sn_exponents: a.sn_exponent.clone(),
+            ..DurabilitySettings::default()
+        },
+        road_spec,
+    }
+}
+
+/// Writes the histogram and rainflow files, then commits the history last,
+/// once every other output is in place.
+fn write_outputs(
+    a: &Args,
+    durability: &Durability,
+    history: Option<AtomicFile>,
+) -> Result<(), Error> {
     if let Some(path) = &a.travel_histogram {
         write_atomic(path, |w| {
             durability
@@ -285,10 +318,15 @@ pub fn run(a: Args) -> Result<(), Error> {
             durability.write_rainflow(w).map_err(|e| io_error(path, e))
         })?;
     }
-    // The history is committed last, once every other output is in place.
     if let Some(h) = history {
         h.commit()?;
     }
+    Ok(())
+}
+
+/// Prints the run's notes and warnings on stderr; returns every warning
+/// (the road's, then the plausibility findings) for the report.
+fn notes(summary: &RunSummary, mut warnings: Vec<String>) -> Vec<String> {
     if let Some(f) = &summary.solver.fallback {
         eprintln!("roughride: note: {f}");
     }
@@ -302,24 +340,11 @@ pub fn run(a: Args) -> Result<(), Error> {
             );
         }
     }
-    let mut warnings = warnings;
     for f in &summary.checks.findings {
         eprintln!("roughride: warning: {}", f.message);
         warnings.push(f.message.clone());
     }
-    let out = Output {
-        summary: &summary,
-        road,
-        harmonic_force,
-        warnings,
-        caution: HEALTH_CAUTION,
-    };
-    if a.json {
-        print_stdout(&json_line(&out, "simulation summary")?)?;
-    } else {
-        print_stdout(&render(&out))?;
-    }
-    Ok(())
+    warnings
 }
 
 /// The human report: one table per section, in the order a reader wants them.

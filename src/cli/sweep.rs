@@ -226,6 +226,16 @@ pub fn run(a: Args) -> Result<(), Error> {
     });
     progress.finish_and_clear();
     let Some(report) = report else { return written };
+    tell(&report, a.output.as_deref());
+    written?;
+    // Exit status 1 for failed or implausible cases (the documented exit
+    // statuses: 1 for anything but bad input).
+    cases_failed(&report).map_or(Ok(()), Err)
+}
+
+/// Tells on stderr what the user must know of a finished sweep: the
+/// caution, every flagged finding and failed case, and a kept file.
+fn tell(report: &roughride::batch::SweepReport, output: Option<&Path>) {
     eprintln!("roughride: note: {HEALTH_CAUTION}");
     for f in &report.flagged {
         for finding in &f.findings {
@@ -240,17 +250,13 @@ pub fn run(a: Args) -> Result<(), Error> {
         eprintln!("roughride: failed: {}: {}", f.description, f.error);
     }
     if report.rows == 0 && !report.failures.is_empty() {
-        if let Some(path) = &a.output {
+        if let Some(path) = output {
             eprintln!(
                 "roughride: note: no case completed, so {} was not written (a previous file is kept)",
                 path.display()
             );
         }
     }
-    written?;
-    // Exit status 1 for failed or implausible cases (the documented exit
-    // statuses: 1 for anything but bad input).
-    cases_failed(&report).map_or(Ok(()), Err)
 }
 
 /// The error for a sweep in which some cases failed or gave results that

@@ -25,7 +25,7 @@ use serde::Serialize;
 
 use super::iri;
 use super::iso8608::{CLASS_WAVINESS, N0_CYCLE_M, RoadClass};
-use super::psd::{OctaveBand, welch_psd};
+use super::psd::{OctaveBand, Spectrum, welch_psd};
 use super::{Profile, ProfileError};
 
 /// Lowest and highest octave-band exponent: centres `2^j` cycle/m.
@@ -98,33 +98,8 @@ pub fn classify(profile: &Profile) -> Result<Classification, ProfileError> {
     }
     let seg = welch_segment_len(profile.len(), profile.spacing_m);
     let spectrum = welch_psd(profile, seg)?;
-    let nyquist = 0.5 / profile.spacing_m;
-    let min_edge = MIN_BINS_ABOVE_ZERO * spectrum.resolution_cycle_m;
-    let mut bands = Vec::new();
-    let mut in_range = 0;
-    for j in BAND_EXPONENTS {
-        let centre = 2f64.powi(j);
-        if let Some(band) = spectrum.octave_band(centre) {
-            let usable = band.lower_cycle_m >= min_edge * (1.0 - 1e-12)
-                && band.upper_cycle_m <= nyquist * (1.0 + 1e-12);
-            in_range += usize::from(usable);
-            // A band with no power (a perfectly flat stretch) has no logarithm.
-            let used = usable && band.mean_gd_m3 > 0.0;
-            bands.push(BandResult { band, used });
-        }
-    }
+    let bands = octave_bands(profile, &spectrum)?;
     let used: Vec<&OctaveBand> = bands.iter().filter(|b| b.used).map(|b| &b.band).collect();
-    if in_range == 0 {
-        return Err(ProfileError::Parameter(format!(
-            "profile too short or too coarse to classify: no octave band between {} and 2.83 cycle/m \
-             lies at least {MIN_BINS_ABOVE_ZERO} Welch bins ({:.4} cycle/m) above zero and below the Nyquist \
-             frequency {nyquist} cycle/m (length {} m, spacing {} m; about 400 m or more is needed for the full range)",
-            LOWEST_EDGE_CYCLE_M,
-            min_edge,
-            profile.length_m(),
-            profile.spacing_m
-        )));
-    }
     let (iri_m_per_km, iri_note) = match iri::iri_m_per_km(profile) {
         Ok(v) => (Some(v), None),
         Err(e) => (None, Some(e.to_string())),
@@ -152,21 +127,74 @@ pub fn classify(profile: &Profile) -> Result<Classification, ProfileError> {
         result.fit_min_cycle_m = 0.0;
         return Ok(result);
     }
-    // Log-space least squares, u = ln(n/n0), v = ln Gd.
+    let fit = fit_bands(&used);
+    result.gd_n0 = fit.gd_n0;
+    result.class = RoadClass::from_gd_n0(fit.gd_n0);
+    result.waviness_fit = fit.waviness;
+    result.gd_n0_free = fit.gd_n0_free;
+    Ok(result)
+}
+
+/// The octave bands of the estimate, each marked used when it lies far
+/// enough above zero (in Welch bins) and below the Nyquist frequency and
+/// holds power; an error when no band lies in range.
+fn octave_bands(profile: &Profile, spectrum: &Spectrum) -> Result<Vec<BandResult>, ProfileError> {
+    let nyquist = 0.5 / profile.spacing_m;
+    let min_edge = MIN_BINS_ABOVE_ZERO * spectrum.resolution_cycle_m;
+    let mut bands = Vec::new();
+    let mut in_range = 0;
+    for j in BAND_EXPONENTS {
+        let centre = 2f64.powi(j);
+        if let Some(band) = spectrum.octave_band(centre) {
+            let usable = band.lower_cycle_m >= min_edge * (1.0 - 1e-12)
+                && band.upper_cycle_m <= nyquist * (1.0 + 1e-12);
+            in_range += usize::from(usable);
+            // A band with no power (a perfectly flat stretch) has no logarithm.
+            let used = usable && band.mean_gd_m3 > 0.0;
+            bands.push(BandResult { band, used });
+        }
+    }
+    if in_range == 0 {
+        return Err(ProfileError::Parameter(format!(
+            "profile too short or too coarse to classify: no octave band between {} and 2.83 cycle/m \
+             lies at least {MIN_BINS_ABOVE_ZERO} Welch bins ({:.4} cycle/m) above zero and below the Nyquist \
+             frequency {nyquist} cycle/m (length {} m, spacing {} m; about 400 m or more is needed for the full range)",
+            LOWEST_EDGE_CYCLE_M,
+            min_edge,
+            profile.length_m(),
+            profile.spacing_m
+        )));
+    }
+    Ok(bands)
+}
+
+/// The fits of the used bands' mean PSD values.
+struct BandFit {
+    /// Gd(n0) with the waviness fixed at 2 (ISO 8608 classification).
+    gd_n0: f64,
+    /// The fitted waviness (two or more bands).
+    waviness: Option<f64>,
+    /// Gd(n0) of the free-waviness fit.
+    gd_n0_free: Option<f64>,
+}
+
+/// Log-space least squares over the bands, u = ln(n/n0), v = ln Gd: the
+/// fixed-waviness mean, and with two or more bands the straight-line fit.
+fn fit_bands(used: &[&OctaveBand]) -> BandFit {
     let u: Vec<f64> = used
         .iter()
         .map(|b| (b.centre_cycle_m / N0_CYCLE_M).ln())
         .collect();
     let v: Vec<f64> = used.iter().map(|b| b.mean_gd_m3.ln()).collect();
     let k = used.len() as f64;
-    let fixed = (v
+    let gd_n0 = (v
         .iter()
         .zip(&u)
         .map(|(v, u)| v + CLASS_WAVINESS * u)
         .sum::<f64>()
         / k)
         .exp();
-    let (waviness_fit, gd_n0_free) = if used.len() >= 2 {
+    let (waviness, gd_n0_free) = if used.len() >= 2 {
         let (um, vm) = (u.iter().sum::<f64>() / k, v.iter().sum::<f64>() / k);
         let sxx: f64 = u.iter().map(|u| (u - um).powi(2)).sum();
         let sxy: f64 = u.iter().zip(&v).map(|(u, v)| (u - um) * (v - vm)).sum();
@@ -175,11 +203,11 @@ pub fn classify(profile: &Profile) -> Result<Classification, ProfileError> {
     } else {
         (None, None)
     };
-    result.gd_n0 = fixed;
-    result.class = RoadClass::from_gd_n0(fixed);
-    result.waviness_fit = waviness_fit;
-    result.gd_n0_free = gd_n0_free;
-    Ok(result)
+    BandFit {
+        gd_n0,
+        waviness,
+        gd_n0_free,
+    }
 }
 
 #[cfg(test)]

@@ -184,14 +184,13 @@ fn plain_number(field: &str) -> Option<f64> {
 /// The general reader: any CSV the `csv` crate accepts, with line numbers
 /// in every message.
 fn read_general(bytes: &[u8], path: &Path) -> Result<(Profile, Vec<String>), ProfileError> {
-    let reader = bytes;
     let p = || path.to_path_buf();
     let mut rdr = csv::ReaderBuilder::new()
         .has_headers(true)
         .trim(csv::Trim::All)
         .comment(Some(b'#'))
         .flexible(true)
-        .from_reader(reader);
+        .from_reader(bytes);
     let headers = rdr.headers().map_err(|e| csv_error(p(), 1, e))?.clone();
     let col = |name: &str| -> Result<usize, ProfileError> {
         headers
@@ -202,12 +201,9 @@ fn read_general(bytes: &[u8], path: &Path) -> Result<(Profile, Vec<String>), Pro
                 column: name.to_string(),
             })
     };
-    let (ix, iz) = (col("distance_m")?, col("elevation_m")?);
+    let columns = (col("distance_m")?, col("elevation_m")?);
     let width = headers.len();
-
-    let mut xs: Vec<f64> = Vec::new();
-    let mut zs: Vec<f64> = Vec::new();
-    let mut lines: Vec<u64> = Vec::new();
+    let (mut xs, mut zs, mut lines) = (Vec::new(), Vec::new(), Vec::new());
     let mut record = csv::StringRecord::new();
     loop {
         match rdr.read_record(&mut record) {
@@ -219,36 +215,7 @@ fn read_general(bytes: &[u8], path: &Path) -> Result<(Profile, Vec<String>), Pro
             }
         }
         let line = record.position().map(|q| q.line()).unwrap_or(0);
-        if record.len() > width {
-            return Err(ProfileError::BadRow {
-                path: p(),
-                line,
-                message: format!(
-                    "{} fields where the header has {width}: a stray comma, or a row of another file?",
-                    record.len()
-                ),
-            });
-        }
-        let field = |i: usize, range: &limits::Range| -> Result<f64, ProfileError> {
-            let name = range.name;
-            let s = record.get(i).ok_or_else(|| ProfileError::BadRow {
-                path: p(),
-                line,
-                message: format!("missing value for `{name}`"),
-            })?;
-            let v: f64 = s.parse().map_err(|_| ProfileError::BadRow {
-                path: p(),
-                line,
-                message: format!("`{name}` is not a number: {s:?}"),
-            })?;
-            range.check(v).map_err(|m| ProfileError::BadRow {
-                path: p(),
-                line,
-                message: format!("`{name}` {m}"),
-            })
-        };
-        let x = field(ix, &DISTANCE)?;
-        let z = field(iz, &ELEVATION)?;
+        let (x, z) = general_row(&record, width, columns, path, line)?;
         if let Some(&prev) = xs.last() {
             if x <= prev {
                 return Err(ProfileError::BadRow {
@@ -269,6 +236,40 @@ fn read_general(bytes: &[u8], path: &Path) -> Result<(Profile, Vec<String>), Pro
         });
     }
     to_uniform(&xs, &zs, &lines, path)
+}
+
+/// One data row of the general reader: (distance, elevation), each
+/// checked against its plausible range; a row wider than the header is
+/// refused.
+fn general_row(
+    record: &csv::StringRecord,
+    width: usize,
+    (ix, iz): (usize, usize),
+    path: &Path,
+    line: u64,
+) -> Result<(f64, f64), ProfileError> {
+    let bad = |message: String| ProfileError::BadRow {
+        path: path.to_path_buf(),
+        line,
+        message,
+    };
+    if record.len() > width {
+        return Err(bad(format!(
+            "{} fields where the header has {width}: a stray comma, or a row of another file?",
+            record.len()
+        )));
+    }
+    let field = |i: usize, range: &limits::Range| -> Result<f64, ProfileError> {
+        let name = range.name;
+        let s = record
+            .get(i)
+            .ok_or_else(|| bad(format!("missing value for `{name}`")))?;
+        let v: f64 = s
+            .parse()
+            .map_err(|_| bad(format!("`{name}` is not a number: {s:?}")))?;
+        range.check(v).map_err(|m| bad(format!("`{name}` {m}")))
+    };
+    Ok((field(ix, &DISTANCE)?, field(iz, &ELEVATION)?))
 }
 
 fn csv_error(path: PathBuf, line: u64, e: csv::Error) -> ProfileError {

@@ -187,19 +187,14 @@ pub(super) fn run(
     plan: &Plan,
     sink: &mut dyn SampleSink,
 ) -> Result<RunInfo, SolveError> {
-    let dt = 1.0 / plan.output_rate_hz;
-    let total = sample_count(excitation.duration_s(), plan.output_rate_hz);
-    let t_end = (total - 1) as f64 * dt;
-    let model = vehicle.element_model();
-    let force_x_m = excitation.force_x_m();
+    let mut out = Output::new(vehicle, excitation, plan);
     let mut track = Track::new(excitation);
     let mut equations = Equations {
-        model,
+        model: out.model,
         excitation,
         pieces: track.pieces(),
     };
     // Static equilibrium on the first sample: the run starts at rest.
-    let y0 = [0.0; N];
     sink.accept(&Sample::at(
         vehicle,
         excitation,
@@ -213,43 +208,21 @@ pub(super) fn run(
         atol: plan.atol,
         h_max: plan.max_step_s,
     };
-    let mut solver = Dopri5::new(&equations, 0.0, y0, settings);
+    let mut solver = Dopri5::new(&equations, 0.0, [0.0; N], settings);
     let restart_every_s = plan.restart_interval_s.unwrap_or(f64::INFINITY);
     let mut next_restart_s = restart_every_s;
     // A generous ceiling that only a runaway integration reaches.
-    let max_steps = 200 * (total as u64 + excitation.profile.len() as u64) + 1_000_000;
-    let mut next = 1usize; // index of the next output sample
+    let max_steps = 200 * (out.total as u64 + excitation.profile.len() as u64) + 1_000_000;
     let mut iterations = 0u64;
-    while next < total {
-        let limit = track.next_change_s().min(next_restart_s).min(t_end);
+    while out.next < out.total {
+        let limit = track.next_change_s().min(next_restart_s).min(out.t_end);
         let step = solver
             .step(&equations, limit)
             .map_err(|e| step_error(e, vehicle))?;
-        while next < total {
-            let t = next as f64 * dt;
-            if t > step.t1 {
-                break;
-            }
-            let state = step.at(t);
-            if !all_finite(&state) {
-                return Err(SolveError::NonFinite {
-                    time_s: t,
-                    hint: instability_hint(vehicle),
-                });
-            }
-            let (q, qd) = split(&state);
-            sink.accept(&Sample::from_inputs(
-                &model,
-                force_x_m,
-                t,
-                excitation.at(t),
-                q,
-                qd,
-                Contact::LiftOff,
-            ))?;
-            next += 1;
-        }
+        out.emit(&step, sink)?;
         if step.t1 == limit {
+            // A road sample passed under an axle, or a restart is due: the
+            // integrator must not carry its last derivative across either.
             let moved = track.advance(limit);
             if moved {
                 equations.pieces = track.pieces();
@@ -262,28 +235,108 @@ pub(super) fn run(
             }
         }
         iterations += 1;
-        if iterations % CANCEL_CHECK_STEPS == 0 && super::cancel_requested() {
-            return Err(SolveError::Interrupted);
-        }
-        let counts = solver.counts();
-        if counts.accepted + counts.rejected > max_steps {
-            return Err(SolveError::Integration {
-                time_s: solver.time(),
-                what: format!("more than {max_steps} steps"),
-                hint: instability_hint(vehicle),
-            });
+        check_progress(iterations, &solver, max_steps, vehicle)?;
+    }
+    Ok(run_info(&solver, &out, plan))
+}
+
+/// The output grid and where the run is on it.
+struct Output<'a> {
+    vehicle: &'a Vehicle,
+    excitation: &'a Excitation<'a>,
+    model: ElementModel<'a>,
+    force_x_m: f64,
+    dt: f64,
+    total: usize,
+    t_end: f64,
+    /// Index of the next output sample.
+    next: usize,
+}
+
+impl<'a> Output<'a> {
+    fn new(vehicle: &'a Vehicle, excitation: &'a Excitation<'a>, plan: &Plan) -> Self {
+        let dt = 1.0 / plan.output_rate_hz;
+        let total = sample_count(excitation.duration_s(), plan.output_rate_hz);
+        Output {
+            vehicle,
+            excitation,
+            model: vehicle.element_model(),
+            force_x_m: excitation.force_x_m(),
+            dt,
+            total,
+            t_end: (total - 1) as f64 * dt,
+            next: 1,
         }
     }
+
+    /// Streams the output samples inside `step` (dense output only within
+    /// the step just taken, never extrapolated past it).
+    fn emit(
+        &mut self,
+        step: &dopri5::DenseStep<N>,
+        sink: &mut dyn SampleSink,
+    ) -> Result<(), SolveError> {
+        while self.next < self.total {
+            let t = self.next as f64 * self.dt;
+            if t > step.t1 {
+                break;
+            }
+            let state = step.at(t);
+            if !all_finite(&state) {
+                return Err(SolveError::NonFinite {
+                    time_s: t,
+                    hint: instability_hint(self.vehicle),
+                });
+            }
+            let (q, qd) = split(&state);
+            sink.accept(&Sample::from_inputs(
+                &self.model,
+                self.force_x_m,
+                t,
+                self.excitation.at(t),
+                q,
+                qd,
+                Contact::LiftOff,
+            ))?;
+            self.next += 1;
+        }
+        Ok(())
+    }
+}
+
+/// Stops a run that was interrupted or has taken more steps than any sane
+/// integration needs.
+fn check_progress(
+    iterations: u64,
+    solver: &Dopri5<N>,
+    max_steps: u64,
+    vehicle: &Vehicle,
+) -> Result<(), SolveError> {
+    if iterations % CANCEL_CHECK_STEPS == 0 && super::cancel_requested() {
+        return Err(SolveError::Interrupted);
+    }
     let counts = solver.counts();
-    Ok(RunInfo {
+    if counts.accepted + counts.rejected > max_steps {
+        return Err(SolveError::Integration {
+            time_s: solver.time(),
+            what: format!("more than {max_steps} steps"),
+            hint: instability_hint(vehicle),
+        });
+    }
+    Ok(())
+}
+
+fn run_info(solver: &Dopri5<N>, out: &Output<'_>, plan: &Plan) -> RunInfo {
+    let counts = solver.counts();
+    RunInfo {
         solver: SolverKind::Adaptive,
-        samples: total,
+        samples: out.total,
         output_rate_hz: plan.output_rate_hz,
         steps_accepted: counts.accepted,
         steps_rejected: counts.rejected,
         fallback: None,
         bonded_pull_samples: [0; 2],
-    })
+    }
 }
 
 fn step_error(e: StepFailure, vehicle: &Vehicle) -> SolveError {

@@ -10,6 +10,16 @@
 //! `exp([[A, I, 0], [0, 0, I], [0, 0, 0]]·h)` (Van Loan, *Computing
 //! integrals involving the matrix exponential*, IEEE TAC 23(3), 1978).
 //!
+//! A harmonic body force `F(t) = A sin ωt` is not held: it is an analytic
+//! input, so its part of the update is integrated exactly. Over a step,
+//! `F(t_k + σ) = a cos ωσ + b sin ωσ` with `a = F(t_k)`, and `[a, b]` is the
+//! state of the oscillator `ẏ = [[0, ω], [−ω, 0]] y`; appending it to the
+//! vehicle's state, `exp([[A, B_F e₁ᵀ], [0, Ω]]·h)` gives in its top-right
+//! block `Γ` with `x_{k+1} ∋ Γ [a, b]`. Since `F(t_{k+1}) = a cos ωh + b sin ωh`,
+//! `b` follows from the two held samples, and the force columns of `G₀` and
+//! `G₁` become `Γ₀ − Γ₁ cot ωh` and `Γ₁ / sin ωh` (ωh < π: a force at or
+//! above the Nyquist frequency is refused before any run).
+//!
 //! The model is the linear one: tyres stay bonded to the road. Under
 //! `--solver auto` a sample where a tyre would pull hands the run to the
 //! adaptive solver; under `--solver exact` the run goes on and counts such
@@ -70,6 +80,31 @@ pub fn discretise(vehicle: &Vehicle, force_x_m: f64, h_s: f64) -> Discrete {
     let g0 = (&p - &q) * &b0 - &p * &b1 / h_s;
     let g1 = &q * &b0 + &p * &b1 / h_s;
     Discrete { phi, g0, g1 }
+}
+
+/// As [`discretise`], with the body force a sinusoid of `force_hz`
+/// integrated exactly (see the module doc) instead of held first-order.
+/// `force_hz` must lie below the Nyquist frequency `1/(2h)`.
+pub fn discretise_harmonic(vehicle: &Vehicle, force_x_m: f64, force_hz: f64, h_s: f64) -> Discrete {
+    let mut d = discretise(vehicle, force_x_m, h_s);
+    let ss = vehicle.state_space(force_x_m);
+    let n = ss.a.nrows();
+    let w = 2.0 * std::f64::consts::PI * force_hz;
+    let mut big = DMatrix::zeros(n + 2, n + 2);
+    big.view_mut((0, 0), (n, n)).copy_from(&ss.a);
+    for r in 0..n {
+        big[(r, n)] = ss.b[(r, 4)];
+    }
+    big[(n, n + 1)] = w;
+    big[(n + 1, n)] = -w;
+    let e = (big * h_s).exp();
+    let (sin, cos) = (w * h_s).sin_cos();
+    for r in 0..n {
+        let (gamma_a, gamma_b) = (e[(r, n)], e[(r, n + 1)]);
+        d.g0[(r, 2)] = gamma_a - gamma_b * cos / sin;
+        d.g1[(r, 2)] = gamma_b / sin;
+    }
+    d
 }
 
 /// The discrete update in fixed-size, column-major arrays for a state of
@@ -146,7 +181,13 @@ pub(super) fn run(
     sink: &mut dyn SampleSink,
 ) -> Result<RunInfo, SolveError> {
     let dt = 1.0 / plan.output_rate_hz;
-    let d = discretise(vehicle, excitation.force_x_m(), dt);
+    let d = match excitation.force {
+        // Below the Nyquist frequency (as every command checks first).
+        Some(f) if f.frequency_hz > 0.0 && f.frequency_hz * dt < 0.5 => {
+            discretise_harmonic(vehicle, excitation.force_x_m(), f.frequency_hz, dt)
+        }
+        _ => discretise(vehicle, excitation.force_x_m(), dt),
+    };
     // One monomorphised loop per model size (2, 3 or 4 degrees of freedom),
     // so every size below is a constant and the loops unroll.
     let n = vehicle.dof_count();

@@ -26,7 +26,7 @@ mod adaptive;
 mod dopri5;
 mod exact;
 
-pub use exact::{Discrete, Step, discretise};
+pub use exact::{Discrete, Step, discretise, discretise_harmonic};
 
 use thiserror::Error;
 
@@ -211,55 +211,9 @@ pub fn plan(
     excitation: &Excitation<'_>,
     settings: &SolverSettings,
 ) -> Result<Plan, SolveError> {
+    check_settings(settings)?;
+    check_duration(excitation, settings)?;
     let bad = |m: String| Err(SolveError::Settings(m));
-    if !(settings.output_rate_hz.is_finite() && settings.output_rate_hz > 0.0) {
-        return bad(format!(
-            "--rate must be positive, got {}",
-            settings.output_rate_hz
-        ));
-    }
-    // DOPRI5 itself refuses a relative tolerance at or below 10 ε: no step
-    // can be checked that finely in double precision (Hairer, Nørsett &
-    // Wanner's code, "tolerances are too small").
-    let rtol_min = 10.0 * f64::EPSILON;
-    if !(settings.rtol > rtol_min && settings.rtol < 1.0) {
-        return bad(format!(
-            "--rtol must be between {rtol_min:.1e} (10 machine epsilons) and 1, got {:e}",
-            settings.rtol
-        ));
-    }
-    if !(settings.atol > 0.0 && settings.atol.is_finite()) {
-        return bad(format!("--atol must be positive, got {}", settings.atol));
-    }
-    if !(excitation.speed_m_s.is_finite() && excitation.speed_m_s > 0.0) {
-        return bad(format!(
-            "--speed must be positive, got {} m/s",
-            excitation.speed_m_s
-        ));
-    }
-    if settings.output_rate_hz > MAX_OUTPUT_RATE_HZ {
-        return bad(format!(
-            "--rate {} Hz is above the {MAX_OUTPUT_RATE_HZ} Hz this tool samples at",
-            settings.output_rate_hz
-        ));
-    }
-    // Count in floating point: an absurd duration must be refused, not
-    // wrap the integer sample count.
-    let samples = excitation.duration_s() * settings.output_rate_hz;
-    if !(samples < MAX_SAMPLES as f64) {
-        return bad(format!(
-            "the run would need {samples:.3e} output samples ({:.3e} s at {} Hz); at most {MAX_SAMPLES:.0e}: check --speed, the road length and --rate",
-            excitation.duration_s(),
-            settings.output_rate_hz
-        ));
-    }
-    if samples < 1.0 {
-        return bad(format!(
-            "the run lasts {:.3e} s, less than one output interval at {} Hz: the road is too short for this speed",
-            excitation.duration_s(),
-            settings.output_rate_hz
-        ));
-    }
     let (kind, fallback) = match settings.choice {
         SolverChoice::Auto if vehicle.is_linear() => (SolverKind::Exact, true),
         SolverChoice::Auto | SolverChoice::Adaptive => (SolverKind::Adaptive, false),
@@ -280,6 +234,69 @@ pub fn plan(
         max_step_s: excitation.profile.spacing_m / excitation.speed_m_s,
         restart_interval_s: settings.restart_interval_s.filter(|s| *s > 0.0),
     })
+}
+
+/// The solver settings and the speed within what the solvers can do.
+fn check_settings(settings: &SolverSettings) -> Result<(), SolveError> {
+    let bad = |m: String| Err(SolveError::Settings(m));
+    if !(settings.output_rate_hz.is_finite() && settings.output_rate_hz > 0.0) {
+        return bad(format!(
+            "--rate must be positive, got {}",
+            settings.output_rate_hz
+        ));
+    }
+    // DOPRI5 itself refuses a relative tolerance at or below 10 ε: no step
+    // can be checked that finely in double precision (Hairer, Nørsett &
+    // Wanner's code, "tolerances are too small").
+    let rtol_min = 10.0 * f64::EPSILON;
+    if !(settings.rtol > rtol_min && settings.rtol < 1.0) {
+        return bad(format!(
+            "--rtol must be between {rtol_min:.1e} (10 machine epsilons) and 1, got {:e}",
+            settings.rtol
+        ));
+    }
+    if !(settings.atol > 0.0 && settings.atol.is_finite()) {
+        return bad(format!("--atol must be positive, got {}", settings.atol));
+    }
+    if settings.output_rate_hz > MAX_OUTPUT_RATE_HZ {
+        return bad(format!(
+            "--rate {} Hz is above the {MAX_OUTPUT_RATE_HZ} Hz this tool samples at",
+            settings.output_rate_hz
+        ));
+    }
+    Ok(())
+}
+
+/// A run of at least one and at most [`MAX_SAMPLES`] output samples.
+fn check_duration(
+    excitation: &Excitation<'_>,
+    settings: &SolverSettings,
+) -> Result<(), SolveError> {
+    let bad = |m: String| Err(SolveError::Settings(m));
+    if !(excitation.speed_m_s.is_finite() && excitation.speed_m_s > 0.0) {
+        return bad(format!(
+            "--speed must be positive, got {} m/s",
+            excitation.speed_m_s
+        ));
+    }
+    // Count in floating point: an absurd duration must be refused, not
+    // wrap the integer sample count.
+    let samples = excitation.duration_s() * settings.output_rate_hz;
+    if !(samples < MAX_SAMPLES as f64) {
+        return bad(format!(
+            "the run would need {samples:.3e} output samples ({:.3e} s at {} Hz); at most {MAX_SAMPLES:.0e}: check --speed, the road length and --rate",
+            excitation.duration_s(),
+            settings.output_rate_hz
+        ));
+    }
+    if samples < 1.0 {
+        return bad(format!(
+            "the run lasts {:.3e} s, less than one output interval at {} Hz: the road is too short for this speed",
+            excitation.duration_s(),
+            settings.output_rate_hz
+        ));
+    }
+    Ok(())
 }
 
 /// One output sample.

@@ -432,6 +432,32 @@ fn exceeded_in_time_domain(optimum: &DesignValues) -> Vec<String> {
         .collect()
 }
 
+/// The evaluations that improved the best value, in order.
+fn history(keys: &[&Key], o: &Outcome, x_of: &dyn Fn(&Trial) -> Vec<f64>) -> Vec<HistoryEntry> {
+    o.history
+        .iter()
+        .map(|&i| HistoryEntry {
+            evaluation: i + 1,
+            objective: o.trials[i].objective,
+            values: values_map(keys, &x_of(&o.trials[i])),
+        })
+        .collect()
+}
+
+fn parameter_reports(p: &Problem<'_>, best_x: &[f64]) -> Vec<ParameterReport> {
+    p.parameters
+        .iter()
+        .zip(best_x)
+        .map(|(q, b)| ParameterReport {
+            key: q.key.to_string(),
+            lo: q.lo,
+            hi: q.hi,
+            start: q.start,
+            best: *b,
+        })
+        .collect()
+}
+
 fn report(
     p: &Problem<'_>,
     judge: &Judge<'_, '_>,
@@ -464,15 +490,7 @@ fn report(
         .map(|l| l.name.clone())
         .collect();
     let warnings = exceeded_in_time_domain(&optimum);
-    let history = o
-        .history
-        .iter()
-        .map(|&i| HistoryEntry {
-            evaluation: i + 1,
-            objective: o.trials[i].objective,
-            values: values_map(&keys, &x_of(&o.trials[i])),
-        })
-        .collect();
+    let history = history(&keys, o, x_of);
     let (_, tuned_file) = judge.vehicle(best_x)?;
     let cases = judge.roads.iter().map(Vec::len).sum::<usize>() * p.study.speeds.len();
     // (0 when nothing ran in the time domain.)
@@ -486,18 +504,7 @@ fn report(
         evaluations: o.trials.len(),
         starts: o.starts,
         cases,
-        parameters: p
-            .parameters
-            .iter()
-            .zip(best_x)
-            .map(|(q, b)| ParameterReport {
-                key: q.key.to_string(),
-                lo: q.lo,
-                hi: q.hi,
-                start: q.start,
-                best: *b,
-            })
-            .collect(),
+        parameters: parameter_reports(p, best_x),
         start,
         optimum,
         spectral,
