@@ -202,7 +202,8 @@ fn the_histogram_counts_every_sample_and_marks_the_median() {
         "{:?}",
         svg.texts
     );
-    assert!(has_text(&svg, "travel front (m)") && has_text(&svg, "samples per bin"));
+    // Travel in mm (a length in m is drawn in mm), percentiles too.
+    assert!(has_text(&svg, "travel front (mm)") && has_text(&svg, "samples per bin"));
     // The median drawn lies within one bin width (plus the label's four
     // significant figures) of the sample median, numpy's default definition
     // (Hyndman & Fan 1996, definition 7).
@@ -212,7 +213,8 @@ fn the_histogram_counts_every_sample_and_marks_the_median() {
     let median = sorted[h7 as usize]
         + (h7 - h7.floor())
             * (sorted[(h7 as usize + 1).min(sorted.len() - 1)] - sorted[h7 as usize]);
-    let width = (sorted[sorted.len() - 1] - sorted[0]) / 25.0;
+    let median = median * 1e3; // mm
+    let width = (sorted[sorted.len() - 1] - sorted[0]) / 25.0 * 1e3;
     let label = svg
         .texts
         .iter()

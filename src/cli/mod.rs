@@ -13,6 +13,7 @@ mod lifetime;
 mod modes;
 mod options;
 mod plot;
+mod plot_vehicle;
 mod profile;
 mod sweep;
 mod tradeoff;
