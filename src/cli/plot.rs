@@ -16,12 +16,13 @@ use roughride::road::read_profile_csv;
 /// time window of a history, or a road profile's PSD.
 #[derive(Debug, ClapArgs)]
 #[command(after_help = "Examples:\n  \
-roughride sweep --vehicle car.toml --classes A,B,C,D --speeds 10:40:5 --seeds 3 --length 1000 -o grid.csv\n  \
-roughride plot comfort grid.csv -o aw.svg\n  \
-roughride simulate --vehicle car.toml --class C --length 500 --speed 20 --history h.csv\n  \
+roughride plot comfort grid.csv --kmh -o aw.svg   (grid.csv from sweep)\n  \
 roughride plot histogram h.csv --column travel_front_m -o travel.svg\n  \
-roughride plot history h.csv --columns driver_accel_m_s2 --from 10 --to 15 -o window.svg\n  \
-roughride profile --class C --length 2000 -o road.csv && roughride plot psd road.csv -o psd.svg\n  \
+roughride plot history h.csv --columns driver_accel_m_s2 --from 10 --to 15\n  \
+roughride plot history h.csv --columns driver_accel_m_s2,travel_front_m\n  \
+   (h.csv from simulate --history; one panel per unit)\n  \
+roughride profile --class C --length 2000 -o road.csv\n  \
+roughride plot psd road.csv -o psd.svg\n  \
 roughride plot tradeoff study.csv -o tradeoff.svg   (a sweep with --vary)\n  \
 roughride plot frf --vehicle car.toml --speed 72kmh -o frf.svg\n  \
 roughride plot modes --vehicle car.toml -o modes.svg")]
