@@ -864,3 +864,58 @@ fn the_modes_picture_marks_each_node_where_modes_reports_it() {
     let at = first.split(", ").next().unwrap();
     assert!(t.iter().any(|x| *x == format!("node {at}")), "{t:?}");
 }
+
+#[test]
+fn the_vehicle_pictures_refuse_to_overwrite_their_vehicle_and_unknown_outputs() {
+    let dir = scratch();
+    let car = dir.path().join("v.toml");
+    std::fs::write(&car, SYMMETRIC).unwrap();
+    let v = car.to_str().unwrap();
+    let out = dir.path().join("x.svg");
+    for (args, needle) in [
+        (vec!["plot", "modes", "--vehicle", v, "-o", v], "--vehicle"),
+        (
+            vec!["plot", "frf", "--vehicle", v, "--speed", "20", "-o", v],
+            "--vehicle",
+        ),
+        (
+            vec![
+                "plot",
+                "frf",
+                "--vehicle",
+                v,
+                "--speed",
+                "20",
+                "--outputs",
+                "nose",
+                "-o",
+                out.to_str().unwrap(),
+            ],
+            "no output `nose`",
+        ),
+        (
+            vec![
+                "plot",
+                "frf",
+                "--vehicle",
+                v,
+                "--speed",
+                "20",
+                "--min-hz",
+                "9",
+                "--max-hz",
+                "2",
+                "-o",
+                out.to_str().unwrap(),
+            ],
+            "--min-hz/--max-hz",
+        ),
+    ] {
+        let o = roughride().args(&args).output().unwrap();
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert_eq!(o.status.code(), Some(2), "{args:?}: {err}");
+        assert!(err.contains(needle), "{args:?}: {err}");
+        assert_eq!(common::read(&car), SYMMETRIC, "vehicle file untouched");
+        assert!(!out.exists());
+    }
+}

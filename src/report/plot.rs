@@ -45,7 +45,9 @@
 //!
 //! Comfort (aw) against speed with the ISO 2631-1 Annex C comfort bands, a
 //! histogram of one quantity, a road profile's displacement PSD against the
-//! ISO 8608 class bands, and a time-history window. Every function takes
+//! ISO 8608 class bands, and a time-history window (one panel per unit).
+//! The design trade-off is in [`super::tradeoff`], the frequency response
+//! and mode shapes of a vehicle in [`super::vehicle_plot`]. Every function takes
 //! plain data (numbers and labels, or a [`Profile`]), does whatever
 //! reduction the picture needs (grouping over seeds, the Welch PSD,
 //! histogram bins, decimation) and returns the SVG document as a string;
@@ -1458,6 +1460,41 @@ mod tests {
         assert!(d.iter().any(|p| p.1 == 9.0) && d.iter().any(|p| p.1 == -9.0));
         assert!(d.windows(2).all(|w| w[0].0 < w[1].0), "time order");
         assert_eq!(decimate_min_max(&t[..10], &y[..10], 1000).len(), 10);
+    }
+
+    #[test]
+    fn history_series_group_by_unit_in_order_of_first_appearance() {
+        let ts = |c: &str| TimeSeries {
+            column: c.into(),
+            values: vec![0.0, 1.0],
+        };
+        let s = [ts("a_m_s2"), ts("b_m"), ts("c_m_s2"), ts("d"), ts("e")];
+        let g: Vec<Vec<&str>> = by_unit(&s)
+            .iter()
+            .map(|g| g.iter().map(|t| t.column.as_str()).collect())
+            .collect();
+        assert_eq!(g, [vec!["a_m_s2", "c_m_s2"], vec!["b_m"], vec!["d", "e"]]);
+        let svg = history_chart(&[0.0, 1.0], &s, "t").unwrap();
+        // One y-axis label per unit group (the second names its one column).
+        let t = texts(&svg);
+        assert!(t.iter().any(|x| x == "value (m/s²)") && t.iter().any(|x| x == "b (m)"));
+        assert!(t.iter().any(|x| x == "value"));
+    }
+
+    #[test]
+    fn the_valid_band_keeps_positive_points_inside_it() {
+        let pts = [
+            (0.0, 5.0),
+            (0.01, 1.0),
+            (0.02, 0.5),
+            (0.04, 0.0),
+            (0.08, 0.1),
+            (0.2, 0.1),
+        ];
+        assert_eq!(
+            valid_band(&pts, (0.01, 0.08)),
+            vec![(0.01, 1.0), (0.02, 0.5), (0.08, 0.1)]
+        );
     }
 
     #[test]

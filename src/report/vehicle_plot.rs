@@ -11,7 +11,7 @@ use plotters::style::text_anchor::{HPos, Pos, VPos};
 use super::ExportError;
 use super::plot::{
     Axes, Axis, Canvas, Chart, FONT, Frame, LABEL_DARK, LABEL_GREY, SIZE_PX, colour, decade_tick,
-    draw_err, legend_line, no_data,
+    draw_err, no_data,
 };
 use crate::vehicle::Vehicle;
 use crate::vehicle::modal::{ModalAnalysis, Mode};
@@ -24,6 +24,11 @@ pub const FRF_POINTS_PER_DECADE: usize = 100;
 /// Deepest a response panel reaches below its highest value (notches of
 /// the wheelbase filter would otherwise stretch it over many decades).
 const FRF_DECADES: f64 = 5.0;
+/// Top of a response panel over its highest value (1.3 decades: room for
+/// four staggered mode names above the curves).
+const FRF_HEADROOM: f64 = 20.0;
+/// Right margin of the response picture, for the names of the outputs, pixels.
+const FRF_LEGEND_PX: u32 = 180;
 /// Right margin of the mode-shape picture, for the labels of each mode, pixels.
 const MODE_LABEL_PX: u32 = 300;
 
@@ -117,12 +122,48 @@ pub fn frf_chart(
                 let col = colour(selected.iter().position(|s| *s == c).unwrap_or(0));
                 chart
                     .draw_series(LineSeries::new(pts, col.stroke_width(2)))
-                    .map_err(draw_err)?
-                    .label(response.channels[c].name.replace('_', " "))
-                    .legend(legend_line(col));
+                    .map_err(draw_err)?;
             }
-            Ok(())
+            side_legend(
+                chart,
+                canvas,
+                response,
+                &groups[p],
+                selected,
+                (f1, panels[p].y.range().1),
+            )
         })
+}
+
+/// The panel's outputs named in the right margin, each beside a sample of
+/// its line (outside the plot, so no curve and no mode label is covered).
+fn side_legend(
+    chart: &Chart<'_, '_>,
+    canvas: &Canvas<'_>,
+    response: &FrequencyResponse,
+    group: &[usize],
+    selected: &[usize],
+    top: (f64, f64),
+) -> Result<(), ExportError> {
+    let (px, py) = chart.backend_coord(&top);
+    let style = TextStyle::from((FONT, 13).into_font())
+        .color(&LABEL_DARK)
+        .pos(Pos::new(HPos::Left, VPos::Center));
+    for (k, &c) in group.iter().enumerate() {
+        let y = py + 10 + 20 * k as i32;
+        let col = colour(selected.iter().position(|s| *s == c).unwrap_or(0));
+        canvas
+            .draw(&PathElement::new(
+                vec![(px + 10, y), (px + 32, y)],
+                col.stroke_width(3),
+            ))
+            .map_err(draw_err)?;
+        let name = response.channels[c].name.replace('_', " ");
+        canvas
+            .draw(&Text::new(name, (px + 38, y), style.clone()))
+            .map_err(draw_err)?;
+    }
+    Ok(())
 }
 
 /// The selected channels grouped by unit, in order of first appearance.
@@ -158,13 +199,14 @@ fn frf_axes(
         return Err(no_data("no output with a response above zero"));
     }
     let lo = lo.max(hi * 10f64.powf(-FRF_DECADES));
-    let (y0, y1) = (lo / 3.0, (hi * 3.0).max(lo * 30.0));
+    // Room above the curves for the modes' names.
+    let (y0, y1) = (lo / 3.0, (hi * FRF_HEADROOM).max(lo * 30.0));
     let unit = response.channels[group[0]].unit.replace("^2", "²");
     Ok(Axes::new(
         Axis::log("frequency (Hz)", f0, f1),
         Axis::log(format!("magnitude ({unit} per m)"), y0, y1).ticks(decade_tick),
     )
-    .legend(SeriesLabelPosition::LowerLeft))
+    .margin_right(FRF_LEGEND_PX))
 }
 
 /// A dashed vertical line at each mode's undamped frequency inside the
@@ -354,6 +396,11 @@ fn label_mode(
         Some(n) => format!("node {}", n.description),
         None => "no node on the body".to_string(),
     };
+    let key = if m.shape.len() > 2 {
+        "bar: body, squares: wheels"
+    } else {
+        "bar: body"
+    };
     // The node's place and where it lies against the wheelbase, one line each.
     let (node_at, node_where) = node.split_once(", ").unwrap_or((node.as_str(), ""));
     let lines = [
@@ -370,7 +417,7 @@ fn label_mode(
         ),
         (node_at.to_string(), 12, &LABEL_GREY),
         (node_where.to_string(), 12, &LABEL_GREY),
-        ("bar: body, squares: wheels".to_string(), 12, &LABEL_GREY),
+        (key.to_string(), 12, &LABEL_GREY),
     ];
     let lines = lines.into_iter().filter(|l| !l.0.is_empty());
     for (k, (text, size, c)) in lines.enumerate() {
