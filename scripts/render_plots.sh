@@ -12,15 +12,19 @@ car="$here/profiles/vehicles/demo_hatchback.toml"
 
 "$rr" sweep --vehicle "$car" --classes A,B,C,D --speeds 10:40:5 --seeds 3 --length 500 -o "$out/grid.csv"
 "$rr" plot comfort "$out/grid.csv" -o "$out/comfort.svg"
+"$rr" plot comfort "$out/grid.csv" --kmh -o "$out/comfort_kmh.svg"
 "$rr" simulate --vehicle "$car" --class C --seed 1 --length 500 --speed 20 --history "$out/history.csv" > /dev/null
 "$rr" plot histogram "$out/history.csv" --column travel_front_m -o "$out/travel_front.svg"
 "$rr" plot history "$out/history.csv" --columns driver_accel_m_s2,rear_passenger_accel_m_s2 --from 10 --to 15 -o "$out/window.svg"
+"$rr" plot history "$out/history.csv" --columns driver_accel_m_s2,travel_front_m,tyre_load_front_n --from 10 --to 15 -o "$out/window_units.svg"
 "$rr" profile --class C --length 2000 --seed 3 -o "$out/road.csv" > /dev/null
 "$rr" plot psd "$out/road.csv" -o "$out/psd.svg"
 "$rr" sweep --vehicle "$here/profiles/vehicles/demo_minibus.toml" \
     --vary rear.damping='*0.6:*1.4:*0.2' --vary rear.spring_rate='*0.8:*1.2:*0.2' \
     --classes B,C,D --speeds 40kmh:80kmh:20kmh --seeds 2 --length 500 -o "$out/minibus_study.csv"
 "$rr" plot tradeoff "$out/minibus_study.csv" --seat 2 --axle rear -o "$out/tradeoff.svg" > /dev/null
+"$rr" plot frf --vehicle "$car" --speed 72kmh -o "$out/frf.svg"
+"$rr" plot modes --vehicle "$car" -o "$out/modes.svg"
 "$rr" lifetime --usage "$here/profiles/usage/delivery_van.toml" \
     --exceedance "$out/van_life_exceedance.csv" --matrix "$out/van_life_matrix.csv" > /dev/null
 "$rr" plot exceedance "$out/van_life_exceedance.csv" --axle rear --quantity force -o "$out/van_life_exceedance.svg"

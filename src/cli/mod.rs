@@ -14,6 +14,7 @@ mod lifetime;
 mod modes;
 mod options;
 mod plot;
+mod plot_vehicle;
 mod profile;
 mod sweep;
 mod tradeoff;

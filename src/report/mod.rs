@@ -10,6 +10,7 @@ pub mod plot;
 mod same_file;
 pub mod table;
 pub mod tradeoff;
+pub mod vehicle_plot;
 
 pub use files::{AtomicFile, discard_unfinished, write_atomic, write_to};
 pub use same_file::FilePlan;

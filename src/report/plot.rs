@@ -45,7 +45,9 @@
 //!
 //! Comfort (aw) against speed with the ISO 2631-1 Annex C comfort bands, a
 //! histogram of one quantity, a road profile's displacement PSD against the
-//! ISO 8608 class bands, and a time-history window. Every function takes
+//! ISO 8608 class bands, and a time-history window (one panel per unit).
+//! The design trade-off is in [`super::tradeoff`], the frequency response
+//! and mode shapes of a vehicle in [`super::vehicle_plot`]. Every function takes
 //! plain data (numbers and labels, or a [`Profile`]), does whatever
 //! reduction the picture needs (grouping over seeds, the Welch PSD,
 //! histogram bins, decimation) and returns the SVG document as a string;
@@ -65,7 +67,7 @@ use plotters::style::text_anchor::{HPos, Pos, VPos};
 use super::ExportError;
 use crate::comfort::{COMFORT_BANDS, HEALTH_CAUTION};
 use crate::road::Profile;
-use crate::road::classify::{classify, welch_segment_len};
+use crate::road::classify::{MIN_BINS_ABOVE_ZERO, classify, welch_segment_len};
 use crate::road::iso8608::{N0_CYCLE_M, RoadClass};
 use crate::road::psd::welch_psd;
 use crate::stats::Histogram;
@@ -353,49 +355,32 @@ impl Frame {
     /// Draws `panels` stacked top to bottom, equal heights, sharing the
     /// horizontal axis label (drawn under the lowest panel only); `body`
     /// gets each panel's index and chart in turn.
-    pub fn draw_stacked<F>(self, panels: &[Axes], mut body: F) -> Result<String, ExportError>
+    pub fn draw_stacked<F>(self, panels: &[Axes], body: F) -> Result<String, ExportError>
     where
         F: FnMut(usize, &mut Chart<'_, '_>, &Canvas<'_>) -> Result<(), ExportError>,
     {
-        if panels.is_empty() {
-            return Err(no_data("no panel"));
-        }
-        for p in panels {
-            p.x.check()?;
-            p.y.check()?;
-        }
-        let mut svg = String::new();
-        {
-            let root = SVGBackend::with_string(&mut svg, self.size_px).into_drawing_area();
-            root.fill(&WHITE).map_err(draw_err)?;
-            let foot_px = match self.footnotes.len() {
-                0 => 0,
-                n => 6 + FOOTNOTE_LINE_PX * n as u32,
-            };
-            let (upper, lower) = root.split_vertically(self.size_px.1 - foot_px);
-            let titled = upper
-                .margin(16, 0, 0, 0)
-                .titled(&self.title, (FONT, 22))
-                .map_err(draw_err)?;
-            self.draw_footnotes(&lower)?;
-            let areas = titled.split_evenly((panels.len(), 1));
-            for (i, (area, axes)) in areas.iter().zip(panels).enumerate() {
-                let lowest = i + 1 == panels.len();
-                let mut chart = panel(area, axes, lowest)?;
-                body(i, &mut chart, &root)?;
-                if let Some(at) = &axes.legend {
-                    draw_legend(&mut chart, at.clone())?;
-                }
-            }
-            root.present().map_err(draw_err)?;
-        }
-        Ok(svg)
+        self.render(panels, (panels.len(), 1), body)
     }
 
     /// Draws `panels` side by side, equal widths, each with its own axis
     /// labels (for planes that share nothing but the picture); `body` gets
     /// each panel's index and chart in turn.
-    pub fn draw_side_by_side<F>(self, panels: &[Axes], mut body: F) -> Result<String, ExportError>
+    pub fn draw_side_by_side<F>(self, panels: &[Axes], body: F) -> Result<String, ExportError>
+    where
+        F: FnMut(usize, &mut Chart<'_, '_>, &Canvas<'_>) -> Result<(), ExportError>,
+    {
+        self.render(panels, (1, panels.len()), body)
+    }
+
+    /// The one layout of every picture: white page, title, the panels in a
+    /// `(rows, columns)` grid, footnotes. The horizontal axis label goes
+    /// under the lowest row only.
+    fn render<F>(
+        self,
+        panels: &[Axes],
+        grid: (usize, usize),
+        mut body: F,
+    ) -> Result<String, ExportError>
     where
         F: FnMut(usize, &mut Chart<'_, '_>, &Canvas<'_>) -> Result<(), ExportError>,
     {
@@ -420,9 +405,10 @@ impl Frame {
                 .titled(&self.title, (FONT, 22))
                 .map_err(draw_err)?;
             self.draw_footnotes(&lower)?;
-            let areas = titled.split_evenly((1, panels.len()));
+            let areas = titled.split_evenly(grid);
             for (i, (area, axes)) in areas.iter().zip(panels).enumerate() {
-                let mut chart = panel(area, axes, true)?;
+                let lowest = i / grid.1 + 1 == grid.0;
+                let mut chart = panel(area, axes, lowest)?;
                 body(i, &mut chart, &root)?;
                 if let Some(at) = &axes.legend {
                     draw_legend(&mut chart, at.clone())?;
@@ -651,9 +637,22 @@ const BAND_SHADES: [RGBColor; 6] = [
 /// the smallest to the largest seed where there are several), over the
 /// comfort reactions of ISO 2631-1 Annex C shaded and labelled. The bands
 /// overlap in the standard, and overlapping shades show it. The footnote
-/// explains the bars and carries the health caution.
-pub fn comfort_chart(points: &[ComfortPoint], title: &str) -> Result<String, ExportError> {
-    let series = comfort_levels(points);
+/// explains the bars and carries the health caution. `speed_axis` is the
+/// unit of the speed axis (the points stay in m/s).
+pub fn comfort_chart(
+    points: &[ComfortPoint],
+    title: &str,
+    speed_axis: SpeedAxis,
+) -> Result<String, ExportError> {
+    let factor = speed_axis.per_m_s();
+    let shown: Vec<ComfortPoint> = points
+        .iter()
+        .map(|p| ComfortPoint {
+            speed_m_s: p.speed_m_s * factor,
+            ..p.clone()
+        })
+        .collect();
+    let series = comfort_levels(&shown);
     let (x0, x1, y1) = comfort_ranges(&series)?;
     let seeds = series
         .iter()
@@ -669,7 +668,7 @@ pub fn comfort_chart(points: &[ComfortPoint], title: &str) -> Result<String, Exp
         ));
     }
     let axes = Axes::new(
-        Axis::linear("speed (m/s)", x0, x1),
+        Axis::linear(speed_axis.label(), x0, x1),
         Axis::linear("seat aw, ISO 2631-1 Wk (m/s²)", 0.0, y1),
     )
     .margin_right(BAND_LABEL_PX)
@@ -679,6 +678,34 @@ pub fn comfort_chart(points: &[ComfortPoint], title: &str) -> Result<String, Exp
         draw_comfort_bands(chart, canvas, (x0, x1), y1)?;
         draw_comfort_series(chart, &series)
     })
+}
+
+/// The unit of a picture's speed axis.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum SpeedAxis {
+    /// m/s (the unit of every speed inside).
+    #[default]
+    MetresPerSecond,
+    /// km/h.
+    KilometresPerHour,
+}
+
+impl SpeedAxis {
+    /// Axis units per m/s (3.6 km/h = 1 m/s, exact by definition).
+    pub fn per_m_s(self) -> f64 {
+        match self {
+            SpeedAxis::MetresPerSecond => 1.0,
+            SpeedAxis::KilometresPerHour => 3.6,
+        }
+    }
+
+    /// The axis label.
+    pub fn label(self) -> &'static str {
+        match self {
+            SpeedAxis::MetresPerSecond => "speed (m/s)",
+            SpeedAxis::KilometresPerHour => "speed (km/h)",
+        }
+    }
 }
 
 /// Speed range (padded) and the top of the aw axis.
@@ -840,14 +867,17 @@ fn bin_values(finite: &[f64], bins: usize) -> Result<Bins, ExportError> {
 /// largest finite value (NaN and infinite values are left out and counted
 /// in the caption), as bars of sample counts with the 1st, 50th and 99th
 /// percentiles marked (from the histogram, resolution one bin width). `column`
-/// names the quantity with its unit suffix (e.g. `travel_front_m`).
+/// names the quantity with its unit suffix (e.g. `travel_front_m`); lengths
+/// in m are drawn and labelled in mm (travels are millimetres). The value
+/// axis leaves the top third free for the legend, so the legend covers no
+/// bar and no percentile line.
 pub fn histogram_chart(
     values: &[f64],
     bins: usize,
     column: &str,
     title: &str,
 ) -> Result<String, ExportError> {
-    let finite: Vec<f64> = values.iter().copied().filter(|v| v.is_finite()).collect();
+    let (finite, unit, label) = display_values(values, column);
     if finite.is_empty() {
         return Err(no_data(&format!("column {column} holds no finite value")));
     }
@@ -858,7 +888,6 @@ pub fn histogram_chart(
     let peak = b.counts.iter().copied().max().unwrap_or(0).max(1) as f64;
     let (x0, _) = b.hist.edges(0);
     let (_, x1) = b.hist.edges(b.counts.len() - 1);
-    let unit = unit_of(column).unwrap_or("");
     let skipped = values.len() - finite.len();
     let caption = if skipped > 0 {
         format!(
@@ -869,50 +898,89 @@ pub fn histogram_chart(
         format!("{title} ({} samples)", finite.len())
     };
     let axes = Axes::new(
-        Axis::linear(axis_label(column), x0, x1),
-        Axis::linear("samples per bin", 0.0, peak * 1.12).ticks(|v| format!("{v:.0}")),
+        Axis::linear(label, x0, x1),
+        Axis::linear("samples per bin", 0.0, peak * HISTOGRAM_HEADROOM)
+            .ticks(|v| format!("{v:.0}")),
     )
     .legend(SeriesLabelPosition::UpperRight);
     Frame::new(caption).draw(axes, |chart, _| {
-        let bar = colour(0);
-        chart
-            .draw_series(
-                b.counts
-                    .iter()
-                    .enumerate()
-                    .filter(|(_, c)| **c > 0)
-                    .map(|(i, c)| {
-                        let (lo, hi) = b.hist.edges(i);
-                        Rectangle::new([(lo, 0.0), (hi, *c as f64)], bar.mix(0.75).filled())
-                    }),
-            )
-            .map_err(draw_err)?
-            .label(format!(
-                "{} bins of {} {unit}",
-                b.counts.len(),
-                short(b.width)
-            ))
-            .legend(move |(x, y)| {
-                Rectangle::new([(x, y - 5), (x + 16, y + 5)], bar.mix(0.75).filled())
-            });
-        for (p, name, c) in [(1.0, "1st", 5), (50.0, "50th", 1), (99.0, "99th", 5)] {
-            let Some(v) = b.hist.percentile(p) else {
-                continue;
-            };
-            let col = colour(c);
-            chart
-                .draw_series(std::iter::once(PathElement::new(
-                    vec![(v, 0.0), (v, peak * 1.05)],
-                    col.stroke_width(2),
-                )))
-                .map_err(draw_err)?
-                .label(format!("{name} percentile {} {unit}", short(v)))
-                .legend(move |(x, y)| {
-                    PathElement::new(vec![(x, y), (x + 24, y)], col.stroke_width(2))
-                });
-        }
-        Ok(())
+        draw_bars(chart, &b, unit)?;
+        draw_percentiles(chart, &b, peak, unit)
     })
+}
+
+/// Top of a histogram's count axis over the highest bar: bars and
+/// percentile lines (up to 1.05 × the highest bar) fill the lower two
+/// thirds, the legend (four entries) the top third.
+const HISTOGRAM_HEADROOM: f64 = 1.6;
+
+/// The finite values as drawn, their unit and the axis label: lengths in m
+/// become mm, other units are kept.
+fn display_values(values: &[f64], column: &str) -> (Vec<f64>, &'static str, String) {
+    let finite = values.iter().copied().filter(|v| v.is_finite());
+    match split_unit(column) {
+        Some((stem, "m")) => (
+            finite.map(|v| v * 1e3).collect(),
+            "mm",
+            format!("{} (mm)", stem.replace('_', " ")),
+        ),
+        _ => (
+            finite.collect(),
+            unit_of(column).unwrap_or(""),
+            axis_label(column),
+        ),
+    }
+}
+
+/// The bars of the non-empty bins, labelled with the bin count and width.
+fn draw_bars(chart: &mut Chart<'_, '_>, b: &Bins, unit: &str) -> Result<(), ExportError> {
+    let bar = colour(0);
+    chart
+        .draw_series(
+            b.counts
+                .iter()
+                .enumerate()
+                .filter(|(_, c)| **c > 0)
+                .map(|(i, c)| {
+                    let (lo, hi) = b.hist.edges(i);
+                    Rectangle::new([(lo, 0.0), (hi, *c as f64)], bar.mix(0.75).filled())
+                }),
+        )
+        .map_err(draw_err)?
+        .label(format!(
+            "{} bins of {} {unit}",
+            b.counts.len(),
+            short(b.width)
+        ))
+        .legend(move |(x, y)| {
+            Rectangle::new([(x, y - 5), (x + 16, y + 5)], bar.mix(0.75).filled())
+        });
+    Ok(())
+}
+
+/// The 1st, 50th and 99th percentiles as vertical lines up to just over
+/// the highest bar, each with its value in the legend.
+fn draw_percentiles(
+    chart: &mut Chart<'_, '_>,
+    b: &Bins,
+    peak: f64,
+    unit: &str,
+) -> Result<(), ExportError> {
+    for (p, name, c) in [(1.0, "1st", 5), (50.0, "50th", 1), (99.0, "99th", 5)] {
+        let Some(v) = b.hist.percentile(p) else {
+            continue;
+        };
+        let col = colour(c);
+        chart
+            .draw_series(std::iter::once(PathElement::new(
+                vec![(v, 0.0), (v, peak * 1.05)],
+                col.stroke_width(2),
+            )))
+            .map_err(draw_err)?
+            .label(format!("{name} percentile {} {unit}", short(v)))
+            .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 24, y)], col.stroke_width(2)));
+    }
+    Ok(())
 }
 
 // -------------------------------------------------------------------- PSD
@@ -926,32 +994,38 @@ fn class_line(gd_n0: f64, n: f64) -> f64 {
 /// computes it) on log–log axes, over the ISO 8608 classes: boundaries
 /// `Gd(n) = bound·(n/n0)^−2` at the geometric midpoints between class means
 /// `16·4^k·10⁻⁶ m³` (ISO 8608 class table, w = 2), alternate classes shaded
-/// and lettered. The class fit of `classify` (w = 2) is drawn dashed.
+/// and lettered. The class fit of `classify` (w = 2) is drawn dashed. Only
+/// the estimate's valid band is drawn ([`valid_band`]), and the value axis
+/// spans that band's values.
 pub fn psd_chart(profile: &Profile, title: &str) -> Result<String, ExportError> {
     let seg = welch_segment_len(profile.len(), profile.spacing_m);
     let spectrum = welch_psd(profile, seg).map_err(draw_err)?;
-    let points: Vec<(f64, f64)> = spectrum
+    let all: Vec<(f64, f64)> = spectrum
         .frequency_cycle_m
         .iter()
-        .zip(&spectrum.gd_m3)
-        .skip(1) // DC has no place on a log axis
-        .map(|(n, g)| (*n, *g))
-        .filter(|(_, g)| *g > 0.0 && g.is_finite())
+        .copied()
+        .zip(spectrum.gd_m3.iter().copied())
         .collect();
-    if points.len() < 2 {
+    let fit = classify(profile).ok();
+    // The band classify fits (ISO 8608 octave bands the record resolves),
+    // else from the fourth bin (leakage) to the Nyquist frequency.
+    let band = match &fit {
+        Some(f) if f.fit_max_cycle_m > f.fit_min_cycle_m => (f.fit_min_cycle_m, f.fit_max_cycle_m),
+        _ => (
+            MIN_BINS_ABOVE_ZERO * spectrum.resolution_cycle_m,
+            0.5 / profile.spacing_m,
+        ),
+    };
+    let drawn = valid_band(&all, band);
+    if drawn.len() < 2 {
         return Err(no_data("the profile is too short for a PSD"));
     }
-    let fit = classify(profile).ok();
-    let x0 = points[0].0;
-    let x1 = points[points.len() - 1].0;
-    // Vertical range: the data, clipped from below at a hundredth of the
-    // class A mean at the highest frequency (a generated road has no power
-    // above its band edge, which would otherwise squash the picture).
-    let y0 = class_line(RoadClass::A.gd_n0_m3(), x1) / 100.0;
-    let data_max = points.iter().map(|p| p.1).fold(0.0, f64::max);
-    let y1 = (data_max * 4.0).max(y0 * 1e4);
-    // Bins below the floor (outside a generated road's band) are left out.
-    let drawn: Vec<(f64, f64)> = points.iter().copied().filter(|p| p.1 >= y0).collect();
+    let (x0, x1) = (drawn[0].0, drawn[drawn.len() - 1].0);
+    let (lo, hi) = drawn.iter().fold((f64::INFINITY, 0.0f64), |(a, b), p| {
+        (a.min(p.1), b.max(p.1))
+    });
+    // Half a decade of room each side of the data, at least two decades in all.
+    let (y0, y1) = (lo / 3.0, (hi * 3.0).max(lo * 30.0));
     let legend = format!(
         "Welch PSD ({} segments of {} m)",
         spectrum.segments,
@@ -975,6 +1049,22 @@ pub fn psd_chart(profile: &Profile, title: &str) -> Result<String, ExportError> 
         }
         Ok(())
     })
+}
+
+/// The points of a Welch estimate `(n, Gd)` inside `band` (cycle/m, ends
+/// included within rounding) with a positive, finite value. Outside it the
+/// estimate is not the road: below, window leakage and the detrend distort
+/// the lowest bins (and a generated road has no power below its `n_min`);
+/// above, a band-limited road (a generated one stops at its `n_max`) leaves
+/// only leakage decades below the content.
+pub fn valid_band(points: &[(f64, f64)], (lo, hi): (f64, f64)) -> Vec<(f64, f64)> {
+    points
+        .iter()
+        .copied()
+        .filter(|&(n, g)| {
+            n >= lo * (1.0 - 1e-9) && n <= hi * (1.0 + 1e-9) && g > 0.0 && g.is_finite()
+        })
+        .collect()
 }
 
 /// ISO 8608 class bands between boundary lines, alternate ones shaded, each
@@ -1020,26 +1110,37 @@ fn draw_class_bands(
                 ))
                 .map_err(draw_err)?;
         }
-        // The letter on the class mean line, placed where that line is
-        // inside the picture, preferably towards the right.
-        let mean = class.gd_n0_m3();
-        let candidates = [x1 / 1.8, x1 / 6.0, (x0 * x1).sqrt(), x0 * 3.0];
-        if let Some(n) = candidates.iter().copied().find(|&n| {
-            let g = class_line(mean, n);
-            g > y0 * 2.0 && g < y1 / 2.0
-        }) {
-            let style = TextStyle::from((FONT, 16).into_font())
-                .color(&RGBColor(80, 80, 80))
-                .pos(Pos::new(HPos::Center, VPos::Center));
-            chart
-                .draw_series(std::iter::once(Text::new(
-                    class.to_string(),
-                    (n, class_line(mean, n)),
-                    style,
-                )))
-                .map_err(draw_err)?;
-        }
+        draw_class_letter(chart, class, (x0, x1), (y0, y1))?;
     }
+    Ok(())
+}
+
+/// The class letter on its mean line, placed where that line is inside
+/// the picture, preferably towards the right.
+fn draw_class_letter(
+    chart: &mut Chart<'_, '_>,
+    class: RoadClass,
+    (x0, x1): (f64, f64),
+    (y0, y1): (f64, f64),
+) -> Result<(), ExportError> {
+    let mean = class.gd_n0_m3();
+    let candidates = [x1 / 1.8, x1 / 6.0, (x0 * x1).sqrt(), x0 * 3.0];
+    let Some(n) = candidates.iter().copied().find(|&n| {
+        let g = class_line(mean, n);
+        g > y0 * 2.0 && g < y1 / 2.0
+    }) else {
+        return Ok(());
+    };
+    let style = TextStyle::from((FONT, 16).into_font())
+        .color(&RGBColor(80, 80, 80))
+        .pos(Pos::new(HPos::Center, VPos::Center));
+    chart
+        .draw_series(std::iter::once(Text::new(
+            class.to_string(),
+            (n, class_line(mean, n)),
+            style,
+        )))
+        .map_err(draw_err)?;
     Ok(())
 }
 
@@ -1144,9 +1245,10 @@ fn value_range(series: &[&TimeSeries]) -> Result<(f64, f64), ExportError> {
     Ok((y0 - pad, y1 + pad))
 }
 
-/// The series against time, one line each, on one pair of axes. The
-/// vertical axis names the shared unit, or says "value" when the columns'
-/// units differ. Long windows are decimated per series
+/// The series against time, one line each, one panel per unit (in the
+/// order the units first appear), stacked on one time axis: m/s² and m on
+/// one axis would flatten the smaller. A panel names its unit, or the
+/// column when it holds one series. Long windows are decimated per series
 /// ([`decimate_min_max`], [`MAX_HISTORY_POINTS`]).
 pub fn history_chart(
     time_s: &[f64],
@@ -1162,39 +1264,68 @@ pub fn history_chart(
     if t1.partial_cmp(&t0) != Some(std::cmp::Ordering::Greater) {
         return Err(no_data("the time window has no length"));
     }
-    let all: Vec<&TimeSeries> = series.iter().collect();
-    let (y0, y1) = value_range(&all)?;
-    let units: Vec<Option<&str>> = series.iter().map(|s| unit_of(&s.column)).collect();
-    let y_desc = match units[0] {
-        Some(u) if units.iter().all(|x| *x == Some(u)) => {
-            if series.len() == 1 {
-                axis_label(&series[0].column)
-            } else {
-                format!("value ({u})")
+    let groups = by_unit(series);
+    let panels = groups
+        .iter()
+        .map(|g| history_axes(g, (t0, t1)))
+        .collect::<Result<Vec<_>, _>>()?;
+    // Extra height from the third panel on, so each keeps a readable height.
+    let height = SIZE_PX.1 + 200 * (panels.len().max(2) as u32 - 2);
+    Frame::new(title)
+        .size((SIZE_PX.0, height))
+        .draw_stacked(&panels, |p, chart, _| {
+            for s in &groups[p] {
+                let c = colour(series_index(series, s));
+                let pts: Vec<(f64, f64)> = decimate_min_max(time_s, &s.values, MAX_HISTORY_POINTS)
+                    .into_iter()
+                    .filter(|p| p.1.is_finite())
+                    .collect();
+                chart
+                    .draw_series(LineSeries::new(pts, c.stroke_width(1)))
+                    .map_err(draw_err)?
+                    .label(axis_label(&s.column))
+                    .legend(legend_line(c));
+            }
+            Ok(())
+        })
+}
+
+/// The series grouped by the unit of their column's suffix, groups in order
+/// of first appearance (columns without a known unit share one group).
+pub fn by_unit(series: &[TimeSeries]) -> Vec<Vec<&TimeSeries>> {
+    let mut units: Vec<Option<&str>> = Vec::new();
+    let mut groups: Vec<Vec<&TimeSeries>> = Vec::new();
+    for s in series {
+        let u = unit_of(&s.column);
+        match units.iter().position(|x| *x == u) {
+            Some(i) => groups[i].push(s),
+            None => {
+                units.push(u);
+                groups.push(vec![s]);
             }
         }
-        _ => "value (units in the legend)".to_string(),
+    }
+    groups
+}
+
+/// Where `s` stands in `series` (its colour follows the order given).
+fn series_index(series: &[TimeSeries], s: &TimeSeries) -> usize {
+    series.iter().position(|x| std::ptr::eq(x, s)).unwrap_or(0)
+}
+
+/// One history panel: the time axis and the group's value axis.
+fn history_axes(group: &[&TimeSeries], (t0, t1): (f64, f64)) -> Result<Axes, ExportError> {
+    let (y0, y1) = value_range(group)?;
+    let y_desc = match (group, unit_of(&group[0].column)) {
+        ([one], _) => axis_label(&one.column),
+        (_, Some(u)) => format!("value ({u})"),
+        (_, None) => "value".to_string(),
     };
-    let axes = Axes::new(
+    Ok(Axes::new(
         Axis::linear("time (s)", t0, t1),
         Axis::linear(y_desc, y0, y1),
     )
-    .legend(SeriesLabelPosition::UpperRight);
-    Frame::new(title).draw(axes, |chart, _| {
-        for (i, s) in series.iter().enumerate() {
-            let c = colour(i);
-            let pts: Vec<(f64, f64)> = decimate_min_max(time_s, &s.values, MAX_HISTORY_POINTS)
-                .into_iter()
-                .filter(|p| p.1.is_finite())
-                .collect();
-            chart
-                .draw_series(LineSeries::new(pts, c.stroke_width(1)))
-                .map_err(draw_err)?
-                .label(axis_label(&s.column))
-                .legend(legend_line(c));
-        }
-        Ok(())
-    })
+    .legend(SeriesLabelPosition::UpperRight))
 }
 
 #[cfg(test)]
@@ -1332,9 +1463,44 @@ mod tests {
     }
 
     #[test]
+    fn history_series_group_by_unit_in_order_of_first_appearance() {
+        let ts = |c: &str| TimeSeries {
+            column: c.into(),
+            values: vec![0.0, 1.0],
+        };
+        let s = [ts("a_m_s2"), ts("b_m"), ts("c_m_s2"), ts("d"), ts("e")];
+        let g: Vec<Vec<&str>> = by_unit(&s)
+            .iter()
+            .map(|g| g.iter().map(|t| t.column.as_str()).collect())
+            .collect();
+        assert_eq!(g, [vec!["a_m_s2", "c_m_s2"], vec!["b_m"], vec!["d", "e"]]);
+        let svg = history_chart(&[0.0, 1.0], &s, "t").unwrap();
+        // One y-axis label per unit group (the second names its one column).
+        let t = texts(&svg);
+        assert!(t.iter().any(|x| x == "value (m/s²)") && t.iter().any(|x| x == "b (m)"));
+        assert!(t.iter().any(|x| x == "value"));
+    }
+
+    #[test]
+    fn the_valid_band_keeps_positive_points_inside_it() {
+        let pts = [
+            (0.0, 5.0),
+            (0.01, 1.0),
+            (0.02, 0.5),
+            (0.04, 0.0),
+            (0.08, 0.1),
+            (0.2, 0.1),
+        ];
+        assert_eq!(
+            valid_band(&pts, (0.01, 0.08)),
+            vec![(0.01, 1.0), (0.02, 0.5), (0.08, 0.1)]
+        );
+    }
+
+    #[test]
     fn empty_data_is_refused_with_a_reason() {
         assert!(
-            comfort_chart(&[], "t")
+            comfort_chart(&[], "t", SpeedAxis::default())
                 .unwrap_err()
                 .to_string()
                 .contains("nothing to draw")

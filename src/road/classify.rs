@@ -33,7 +33,7 @@ const BAND_EXPONENTS: std::ops::RangeInclusive<i32> = -6..=1;
 /// Lower band edge of the lowest ISO band, cycle/m (1/64/√2).
 const LOWEST_EDGE_CYCLE_M: f64 = 0.011;
 /// A usable band's lower edge lies at least this many Welch bins above 0.
-const MIN_BINS_ABOVE_ZERO: f64 = 4.0;
+pub const MIN_BINS_ABOVE_ZERO: f64 = 4.0;
 
 /// The roughness summary of one profile (all values SI).
 #[derive(Debug, Clone, Serialize)]
