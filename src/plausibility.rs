@@ -469,7 +469,10 @@ pub fn energy_findings(ledger: &EnergyLedger, travel_extremes_m: [[f64; 2]; 2]) 
     } else {
         whole.max(local)
     };
-    let advice = " (try --solver adaptive with a tighter --rtol, and report the case)";
+    // The balance is added up on the output grid: a road whose own samples
+    // pass faster than the output rate (fine spacing, high speed) is not
+    // resolved there, and neither is the run's response to it.
+    let advice = " (if the road's samples pass faster than the output rate (spacing / speed below 1 / --rate), raise --rate; otherwise try --solver adaptive with a tighter --rtol, and report the case)";
     if !(worst <= ENERGY_IMPLAUSIBLE_FRACTION) {
         out.push(Finding::implausible("energy_balance", text + advice));
     } else if worst > ENERGY_WARNING_FRACTION {

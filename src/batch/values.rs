@@ -58,8 +58,9 @@ pub fn parse_speed_m_s(text: &str) -> Result<f64, ValueError> {
             format!(
                 "must lie between {} ({} to {} km/h)",
                 limits::SPEED.span(),
-                limits::show(limits::SPEED.min * 3.6),
-                limits::show(limits::SPEED.max * 3.6)
+                // fmt_grid: 0.01 m/s is 0.036 km/h, not 0.036000000000000004.
+                crate::report::fmt_grid(limits::SPEED.min * 3.6),
+                crate::report::fmt_grid(limits::SPEED.max * 3.6)
             ),
         ));
     }
@@ -298,6 +299,14 @@ impl Shard {
 
 #[cfg(test)]
 mod tests {
+    #[test]
+    fn a_speed_out_of_range_names_the_range_in_km_h_without_rounding_noise() {
+        // Found by tests/cli_fuzz.rs: the message read "0.036000000000000004
+        // to 1080 km/h". 0.01 m/s × 3.6 = 0.036 km/h (exact arithmetic).
+        let e = super::parse_speed_m_s("1e300").unwrap_err().to_string();
+        assert!(e.contains("(0.036 to 1080 km/h)"), "{e}");
+    }
+
     use super::*;
 
     #[test]

@@ -346,6 +346,12 @@ where
 {
     match path {
         Some(p) if p != Path::new("-") => write_atomic(p, fill),
+        _ if super::capturing() => {
+            let mut buf = Vec::new();
+            fill(&mut buf)?;
+            super::capture(&buf);
+            Ok(())
+        }
         _ => {
             let stdout = io::stdout();
             let mut lock = io::BufWriter::new(stdout.lock());

@@ -66,10 +66,53 @@ pub const STDOUT_NAME: &str = "<stdout>";
 /// panic. A closed pipe never gets here: SIGPIPE's default disposition ends
 /// the process quietly first (see `main.rs`).
 pub fn print_stdout(text: &str) -> Result<(), ExportError> {
+    if capture(text.as_bytes()) {
+        return Ok(());
+    }
     let mut out = io::stdout().lock();
     out.write_all(text.as_bytes())
         .and_then(|()| out.flush())
         .map_err(|e| io_error(Path::new(STDOUT_NAME), e))
+}
+
+thread_local! {
+    /// This thread's captured standard output, while [`capture_stdout`] runs.
+    static CAPTURED: std::cell::RefCell<Option<Vec<u8>>> = const { std::cell::RefCell::new(None) };
+}
+
+/// Runs `f` with everything [`print_stdout`] and [`write_to`] would print
+/// on this thread collected instead, and returns it with `f`'s result: for
+/// running commands in-process (the command-line fuzz test) and reading
+/// what they print. The capture ends even when `f` panics.
+pub fn capture_stdout<R>(f: impl FnOnce() -> R) -> (R, Vec<u8>) {
+    struct Guard(Option<Vec<u8>>);
+    impl Drop for Guard {
+        fn drop(&mut self) {
+            let previous = self.0.take();
+            CAPTURED.with(|c| *c.borrow_mut() = previous);
+        }
+    }
+    let guard = Guard(CAPTURED.with(|c| c.borrow_mut().replace(Vec::new())));
+    let r = f();
+    let out = CAPTURED.with(|c| c.borrow_mut().take()).unwrap_or_default();
+    drop(guard);
+    (r, out)
+}
+
+/// Whether [`capture_stdout`] is running on this thread.
+fn capturing() -> bool {
+    CAPTURED.with(|c| c.borrow().is_some())
+}
+
+/// Appends `bytes` to the capture and says so, if one is running.
+fn capture(bytes: &[u8]) -> bool {
+    CAPTURED.with(|c| match c.borrow_mut().as_mut() {
+        Some(buf) => {
+            buf.extend_from_slice(bytes);
+            true
+        }
+        None => false,
+    })
 }
 
 /// Serialises `value` as one JSON object on one line followed by a newline

@@ -112,7 +112,12 @@ fn read_plain(bytes: &[u8]) -> Option<Profile> {
         return None;
     }
     let spacing = uniform_spacing(&xs).filter(|s| SPACING.contains(*s))?;
-    Some(Profile::new(xs[0], spacing, zs))
+    let start = xs[0];
+    drop(xs);
+    // The capacity was a guess from the file size: the profile, held for
+    // the whole run, keeps only its samples.
+    zs.shrink_to_fit();
+    Some(Profile::new(start, spacing, zs))
 }
 
 /// The rows of `body` (whole lines, no trailing line end, at most `width`
