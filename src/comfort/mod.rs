@@ -13,7 +13,10 @@ mod measures;
 mod record;
 mod weighting;
 
-pub use guidance::{COMFORT_BANDS, CautionZone, ComfortBand, Guidance, HEALTH_CAUTION, guidance};
+pub use guidance::{
+    COMFORT_BANDS, COMFORT_SEAT_K, CautionZone, ComfortBand, Guidance, HEALTH_CAUTION,
+    HEALTH_SEAT_K, SeatTotals, guidance, seat_guidance, seat_totals, total_value,
+};
 pub use measures::{Measures, Meter};
 pub use record::{Record, read_record, read_record_from};
 pub use weighting::{Weighting, WeightingFilter};
