@@ -13,7 +13,9 @@ use std::sync::mpsc;
 
 use serde::Serialize;
 
-use crate::comfort::{Guidance, Measures, Meter, SeatTotals, Weighting, seat_guidance, seat_totals};
+use crate::comfort::{
+    Guidance, Measures, Meter, SeatTotals, Weighting, seat_guidance, seat_totals,
+};
 use crate::plausibility::{
     EnergyBalance, EnergyLedger, Engagement, Finding, energy_findings, gaps, non_finite_fields,
     spectral_findings,
@@ -150,7 +152,12 @@ pub struct SeatSummary {
 
 impl SeatSummary {
     /// The seat's evaluation from its finished vertical and fore-aft measures.
-    pub fn new(seat: &crate::vehicle::Seat, vertical: Measures, fore_aft: Measures, exposure_s: f64) -> Self {
+    pub fn new(
+        seat: &crate::vehicle::Seat,
+        vertical: Measures,
+        fore_aft: Measures,
+        exposure_s: f64,
+    ) -> Self {
         let SeatTotals {
             comfort_m_s2,
             health_m_s2,

@@ -432,7 +432,9 @@ fn fore_aft_table(s: &RunSummary) -> Table {
             sig(seat.total_value, 3),
         ]);
     }
-    t.note("total value: comfort factors kx = ky = kz = 1 on the seat surface (lateral not modelled).");
+    t.note(
+        "total value: comfort factors kx = ky = kz = 1 on the seat surface (lateral not modelled).",
+    );
     t
 }
 

@@ -414,6 +414,53 @@ mod tests {
     }
 
     #[test]
+    fn the_total_value_combines_the_axes_with_the_purposes_factors() {
+        // ISO 2631-1 6.5, by hand: awx = 0.3, awy = 0.4, awz = 1.2 m/s².
+        // Comfort, seat surface, k = 1 (8.2): √(0.09 + 0.16 + 1.44) = 1.3.
+        let aw = [0.3, 0.4, 1.2];
+        assert!((total_value(aw, COMFORT_SEAT_K) - 1.3).abs() < 1e-15);
+        // Health, kx = ky = 1.4, kz = 1 (7.2.3): √(0.1764 + 0.3136 + 1.44)
+        // = √1.93 = 1.389244398944980…
+        assert!((total_value(aw, HEALTH_SEAT_K) - 1.389_244_398_944_98).abs() < 1e-14);
+        // One axis alone is its own k·aw.
+        assert_eq!(total_value([0.0, 0.0, 0.61], COMFORT_SEAT_K), 0.61);
+        assert!((total_value([0.5, 0.0, 0.0], HEALTH_SEAT_K) - 0.7).abs() < 1e-15);
+    }
+
+    #[test]
+    fn seat_guidance_reads_comfort_from_the_total_and_health_from_the_dominant_axis() {
+        let z = measures("Wk", 0.6, 8.0, 3600.0);
+        let x = measures("Wd", 0.5, 6.0, 3600.0);
+        let g = seat_guidance(&z, &x, 8.0 * 3600.0);
+        // Comfort: √(0.5² + 0.6²) = 0.781 m/s², Annex C: fairly uncomfortable
+        // only (0.6 alone would also be "a little uncomfortable").
+        assert!((g.comfort_value_m_s2.unwrap() - 0.61f64.sqrt()).abs() < 1e-15);
+        assert_eq!(g.comfort_reactions, ["fairly uncomfortable"]);
+        assert_eq!(
+            guidance(&z, 8.0 * 3600.0).comfort_reactions,
+            ["a little uncomfortable", "fairly uncomfortable"]
+        );
+        // Health: 1.4·0.5 = 0.7 > 1·0.6, so fore-aft governs (7.2.3), with
+        // A(8) = 1.4·0.5 at 8 h and the daily VDV 1.4·6·8^¼ (Directive
+        // 2002/44/EC Annex A.1).
+        assert_eq!(g.health_axis, Some("fore_aft"));
+        assert_eq!(g.health_k, 1.4);
+        assert!((g.a8_m_s2 - 0.7).abs() < 1e-15);
+        assert!((g.vdv_exposure_m_s175 - 1.4 * 6.0 * 8f64.powf(0.25)).abs() < 1e-12);
+        // A smaller fore-aft aw leaves health on the vertical axis.
+        let x = measures("Wd", 0.4, 6.0, 3600.0);
+        let g = seat_guidance(&z, &x, 8.0 * 3600.0);
+        assert_eq!(g.health_axis, Some("vertical"));
+        assert!((g.a8_m_s2 - 0.6).abs() < 1e-15);
+        // No fore-aft motion: the vertical guidance, number for number.
+        let g = seat_guidance(&z, &measures("Wd", 0.0, 0.0, 3600.0), 3600.0);
+        let plain = guidance(&z, 3600.0);
+        assert_eq!(g.comfort_value_m_s2, Some(0.6));
+        assert_eq!(g.comfort_label, plain.comfort_label);
+        assert_eq!(g.a8_m_s2.to_bits(), plain.a8_m_s2.to_bits());
+    }
+
+    #[test]
     fn the_caution_says_estimate_and_names_the_standard() {
         assert!(HEALTH_CAUTION.contains("estimates"));
         assert!(HEALTH_CAUTION.contains("ISO 2631-1"));
