@@ -14,7 +14,8 @@ use std::sync::mpsc;
 use serde::Serialize;
 
 use crate::comfort::{
-    Guidance, Measures, Meter, SeatTotals, Weighting, seat_guidance, seat_totals,
+    FORE_AFT_WEIGHTING, Guidance, Measures, Meter, SeatTotals, Weighting, seat_guidance,
+    seat_totals,
 };
 use crate::plausibility::{
     EnergyBalance, EnergyLedger, Engagement, Finding, energy_findings, gaps, non_finite_fields,
@@ -646,10 +647,6 @@ impl<'h> Evaluators<'h> {
         }
     }
 }
-
-/// The fore-aft seat weighting: Wd (ISO 2631-1 Table 3, x and y on the
-/// seat surface, health and comfort).
-pub const FORE_AFT_WEIGHTING: Weighting = Weighting::Wd;
 
 /// Fore-aft acceleration (positive forward) of a body point `height_m`
 /// above the CG, m/s²: a point at `(x, h)` turned nose-up by a small `θ`

@@ -23,6 +23,10 @@ pub use weighting::{Weighting, WeightingFilter};
 
 use std::path::PathBuf;
 
+/// The weighting of a seat's fore-aft acceleration: Wd (ISO 2631-1
+/// Table 3 / clause 8.2: x and y on the seat surface, health and comfort).
+pub const FORE_AFT_WEIGHTING: Weighting = Weighting::Wd;
+
 use thiserror::Error;
 
 /// A measured acceleration record or its evaluation was refused.
