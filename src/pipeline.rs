@@ -719,41 +719,50 @@ impl SampleSink for Evaluators<'_> {
         self.pitch.push(s.q[1]);
         self.heave_acc.push(s.qdd[0]);
         self.pitch_acc.push(s.qdd[1]);
-        if let Some(h) = self.history.as_deref_mut() {
-            use std::fmt::Write as _;
-            let line = &mut self.line;
-            line.clear();
-            let _ = write!(
-                line,
-                "{},{},{:e},{:e},{:e},{:e},{:e},{:e}",
-                fmt_micro(s.time_s),
-                fmt_micro(s.inputs.distance_m),
-                s.inputs.road.elevation_m[0],
-                s.inputs.road.elevation_m[1],
-                s.q[0],
-                s.q[1],
-                s.qdd[0],
-                s.qdd[1]
-            );
-            for x in &self.seat_x_m {
-                let _ = write!(line, ",{:e}", s.body_point_accel_m_s2(*x));
-            }
-            for h in &self.seat_h_m {
-                let _ = write!(line, ",{:e}", fore_aft_accel_m_s2(s, *h));
-            }
-            for v in s
-                .elements
-                .travel_m
-                .iter()
-                .chain(&s.elements.suspension_n)
-                .chain(&s.elements.contact_n)
-            {
-                let _ = write!(line, ",{v:e}");
-            }
-            line.push('\n');
-            h.write_all(line.as_bytes())
-                .map_err(|e| history_error(h, e))?;
+        self.write_history(s)
+    }
+}
+
+impl Evaluators<'_> {
+    /// Writes one history row (when a history is being written).
+    #[inline]
+    fn write_history(&mut self, s: &Sample) -> Result<(), SolveError> {
+        let Some(h) = self.history.as_deref_mut() else {
+            return Ok(());
+        };
+        use std::fmt::Write as _;
+        let line = &mut self.line;
+        line.clear();
+        let _ = write!(
+            line,
+            "{},{},{:e},{:e},{:e},{:e},{:e},{:e}",
+            fmt_micro(s.time_s),
+            fmt_micro(s.inputs.distance_m),
+            s.inputs.road.elevation_m[0],
+            s.inputs.road.elevation_m[1],
+            s.q[0],
+            s.q[1],
+            s.qdd[0],
+            s.qdd[1]
+        );
+        for x in &self.seat_x_m {
+            let _ = write!(line, ",{:e}", s.body_point_accel_m_s2(*x));
         }
+        for height in &self.seat_h_m {
+            let _ = write!(line, ",{:e}", fore_aft_accel_m_s2(s, *height));
+        }
+        for v in s
+            .elements
+            .travel_m
+            .iter()
+            .chain(&s.elements.suspension_n)
+            .chain(&s.elements.contact_n)
+        {
+            let _ = write!(line, ",{v:e}");
+        }
+        line.push('\n');
+        h.write_all(line.as_bytes())
+            .map_err(|e| history_error(h, e))?;
         Ok(())
     }
 }
