@@ -99,6 +99,8 @@ pub const CLEARANCE: Range = r("bump_clearance, rebound_clearance", "m", 1e-4, 1
 pub const STOP_RATE: Range = r("stop_rate", "N/m", 1.0, 1e10);
 /// A seat's `x`, and `--force`'s X (ahead of the CG).
 pub const BODY_X: Range = r("seat x, --force X, --force-x", "m", -50.0, 50.0);
+/// A seat's `height` above the CG (a point below it is not modelled).
+pub const SEAT_HEIGHT: Range = r("seat height", "m", 0.0, 20.0);
 
 // Road profiles, generated and read.
 /// `distance_m` of a profile row.
@@ -165,6 +167,7 @@ pub const ALL: &[Range] = &[
     CLEARANCE,
     STOP_RATE,
     BODY_X,
+    SEAT_HEIGHT,
     DISTANCE,
     ELEVATION,
     SPACING,

@@ -13,7 +13,10 @@ use std::sync::mpsc;
 
 use serde::Serialize;
 
-use crate::comfort::{Guidance, Measures, Meter, Weighting, guidance};
+use crate::comfort::{
+    FORE_AFT_WEIGHTING, Guidance, Measures, Meter, SeatTotals, Weighting, seat_guidance,
+    seat_totals,
+};
 use crate::plausibility::{
     EnergyBalance, EnergyLedger, Engagement, Finding, energy_findings, gaps, non_finite_fields,
     spectral_findings,
@@ -31,7 +34,7 @@ use crate::stats::durability::{
     write_travel_histograms,
 };
 use crate::vehicle::response::{PredictedRms, SpectralSettings, predicted_rms_with};
-use crate::vehicle::{AXLE_NAMES, Vehicle};
+use crate::vehicle::{AXLE_NAMES, FORE_AFT_SUFFIX, Vehicle};
 
 /// Everything a run needs besides the vehicle and road.
 #[derive(Debug, Clone)]
@@ -121,19 +124,56 @@ impl Checks {
     }
 }
 
-/// ISO 2631-1 evaluation of one seat's vertical acceleration.
+/// ISO 2631-1 evaluation of one seat: vertical and fore-aft acceleration
+/// and their total value.
 #[derive(Debug, Clone, Serialize)]
 pub struct SeatSummary {
     /// Label from the vehicle file.
     pub name: String,
     /// Position ahead of the CG, m.
     pub x_m: f64,
-    /// The measures (accel_rms, aw, vdv, mtvv, crest_factor, …), flattened.
+    /// Height above the CG, m.
+    pub height_m: f64,
+    /// The vertical measures (accel_rms, aw, vdv, mtvv, crest_factor, …),
+    /// flattened.
     #[serde(flatten)]
     pub measures: Measures,
-    /// Comfort (Annex C) and health (Annex B, Directive 2002/44/EC)
-    /// guidance for the run's exposure duration: estimates, not measurements.
+    /// The fore-aft measures (Wd), of `−height·θ̈`.
+    pub fore_aft: Measures,
+    /// The vibration total value with the comfort factors, m/s²
+    /// (ISO 2631-1 6.5; the value the comfort reaction is read from).
+    pub total_value: f64,
+    /// The total value with the health factors, m/s² (for information).
+    pub total_value_health: f64,
+    /// Comfort (Annex C, from `total_value`) and health (Annex B, Directive
+    /// 2002/44/EC, dominant axis) guidance for the run's exposure duration:
+    /// estimates, not measurements.
     pub guidance: Guidance,
+}
+
+impl SeatSummary {
+    /// The seat's evaluation from its finished vertical and fore-aft measures.
+    pub fn new(
+        seat: &crate::vehicle::Seat,
+        vertical: Measures,
+        fore_aft: Measures,
+        exposure_s: f64,
+    ) -> Self {
+        let SeatTotals {
+            comfort_m_s2,
+            health_m_s2,
+        } = seat_totals(&vertical, &fore_aft);
+        SeatSummary {
+            name: seat.name.clone(),
+            x_m: seat.x_m,
+            height_m: seat.height_m,
+            guidance: seat_guidance(&vertical, &fore_aft, exposure_s),
+            measures: vertical,
+            fore_aft,
+            total_value: comfort_m_s2,
+            total_value_health: health_m_s2,
+        }
+    }
 }
 
 /// Front and rear axle results.
@@ -454,9 +494,11 @@ impl Durability {
 /// The streaming evaluators of one run.
 struct Evaluators<'h> {
     seat_x_m: Vec<f64>,
+    seat_h_m: Vec<f64>,
     weighting: Weighting,
     rate_hz: f64,
     seats: Vec<Meter>,
+    fore_aft: Vec<Meter>,
     travel: [Moments; 2],
     suspension: [Moments; 2],
     contact: [Moments; 2],
@@ -486,6 +528,11 @@ impl<'h> Evaluators<'h> {
             .iter()
             .map(|_| Meter::new(options.weighting, rate_hz))
             .collect::<Result<Vec<_>, _>>()?;
+        let fore_aft = vehicle
+            .seats
+            .iter()
+            .map(|_| Meter::new(FORE_AFT_WEIGHTING, rate_hz))
+            .collect::<Result<Vec<_>, _>>()?;
         let clearances = [0, 1].map(|i| {
             vehicle.axles[i].stops.map_or((None, None), |s| {
                 (s.bump_clearance_m, s.rebound_clearance_m)
@@ -501,9 +548,11 @@ impl<'h> Evaluators<'h> {
             durability_settings: options.durability.clone(),
             clearances,
             seat_x_m: vehicle.seats.iter().map(|s| s.x_m).collect(),
+            seat_h_m: vehicle.seats.iter().map(|s| s.height_m).collect(),
             weighting: options.weighting,
             rate_hz,
             seats,
+            fore_aft,
             travel: Default::default(),
             suspension: Default::default(),
             contact: Default::default(),
@@ -523,6 +572,10 @@ impl<'h> Evaluators<'h> {
         for m in &mut self.seats {
             // Rates were validated when the meters were first built.
             *m = Meter::new(self.weighting, self.rate_hz)
+                .map_err(|e| SolveError::Settings(e.to_string()))?;
+        }
+        for m in &mut self.fore_aft {
+            *m = Meter::new(FORE_AFT_WEIGHTING, self.rate_hz)
                 .map_err(|e| SolveError::Settings(e.to_string()))?;
         }
         for i in 0..2 {
@@ -572,16 +625,8 @@ impl<'h> Evaluators<'h> {
             seats: vehicle
                 .seats
                 .iter()
-                .zip(&self.seats)
-                .map(|(s, m)| {
-                    let measures = m.finish();
-                    SeatSummary {
-                        name: s.name.clone(),
-                        x_m: s.x_m,
-                        guidance: guidance(&measures, exposure_s),
-                        measures,
-                    }
-                })
+                .zip(self.seats.iter().zip(&self.fore_aft))
+                .map(|(s, (z, x))| SeatSummary::new(s, z.finish(), x.finish(), exposure_s))
                 .collect(),
             axles: Axles {
                 front: axle(0),
@@ -603,6 +648,17 @@ impl<'h> Evaluators<'h> {
     }
 }
 
+/// Fore-aft acceleration (positive forward) of a body point `height_m`
+/// above the CG, m/s²: a point at `(x, h)` turned nose-up by a small `θ`
+/// moves by `(−h·θ, x·θ)`, so its fore-aft acceleration is `−h·θ̈`
+/// (rigid body, small angles, no surge; the centripetal `−x·θ̇²` and the
+/// tilt of gravity `g·θ` are left out, as gravity is for the vertical).
+#[inline]
+pub fn fore_aft_accel_m_s2(s: &Sample, height_m: f64) -> f64 {
+    // `0 − …` rather than `−…`: a seat at height 0 gives +0, not −0.
+    0.0 - height_m * s.qdd[1]
+}
+
 /// Header of the time-history CSV; units in every column name.
 pub fn history_header(vehicle: &Vehicle) -> String {
     let mut h = String::from(
@@ -610,6 +666,9 @@ pub fn history_header(vehicle: &Vehicle) -> String {
     );
     for s in &vehicle.seats {
         h.push_str(&format!(",{}_accel_m_s2", s.name));
+    }
+    for s in &vehicle.seats {
+        h.push_str(&format!(",{}{FORE_AFT_SUFFIX}_accel_m_s2", s.name));
     }
     for a in AXLE_NAMES {
         h.push_str(&format!(",travel_{a}_m"));
@@ -639,6 +698,9 @@ impl SampleSink for Evaluators<'_> {
         for (m, x) in self.seats.iter_mut().zip(&self.seat_x_m) {
             m.push(s.body_point_accel_m_s2(*x));
         }
+        for (m, h) in self.fore_aft.iter_mut().zip(&self.seat_h_m) {
+            m.push(fore_aft_accel_m_s2(s, *h));
+        }
         for i in 0..2 {
             self.travel[i].push(s.elements.travel_m[i]);
             self.suspension[i].push(s.elements.suspension_n[i]);
@@ -657,38 +719,50 @@ impl SampleSink for Evaluators<'_> {
         self.pitch.push(s.q[1]);
         self.heave_acc.push(s.qdd[0]);
         self.pitch_acc.push(s.qdd[1]);
-        if let Some(h) = self.history.as_deref_mut() {
-            use std::fmt::Write as _;
-            let line = &mut self.line;
-            line.clear();
-            let _ = write!(
-                line,
-                "{},{},{:e},{:e},{:e},{:e},{:e},{:e}",
-                fmt_micro(s.time_s),
-                fmt_micro(s.inputs.distance_m),
-                s.inputs.road.elevation_m[0],
-                s.inputs.road.elevation_m[1],
-                s.q[0],
-                s.q[1],
-                s.qdd[0],
-                s.qdd[1]
-            );
-            for x in &self.seat_x_m {
-                let _ = write!(line, ",{:e}", s.body_point_accel_m_s2(*x));
-            }
-            for v in s
-                .elements
-                .travel_m
-                .iter()
-                .chain(&s.elements.suspension_n)
-                .chain(&s.elements.contact_n)
-            {
-                let _ = write!(line, ",{v:e}");
-            }
-            line.push('\n');
-            h.write_all(line.as_bytes())
-                .map_err(|e| history_error(h, e))?;
+        self.write_history(s)
+    }
+}
+
+impl Evaluators<'_> {
+    /// Writes one history row (when a history is being written).
+    #[inline]
+    fn write_history(&mut self, s: &Sample) -> Result<(), SolveError> {
+        let Some(h) = self.history.as_deref_mut() else {
+            return Ok(());
+        };
+        use std::fmt::Write as _;
+        let line = &mut self.line;
+        line.clear();
+        let _ = write!(
+            line,
+            "{},{},{:e},{:e},{:e},{:e},{:e},{:e}",
+            fmt_micro(s.time_s),
+            fmt_micro(s.inputs.distance_m),
+            s.inputs.road.elevation_m[0],
+            s.inputs.road.elevation_m[1],
+            s.q[0],
+            s.q[1],
+            s.qdd[0],
+            s.qdd[1]
+        );
+        for x in &self.seat_x_m {
+            let _ = write!(line, ",{:e}", s.body_point_accel_m_s2(*x));
         }
+        for height in &self.seat_h_m {
+            let _ = write!(line, ",{:e}", fore_aft_accel_m_s2(s, *height));
+        }
+        for v in s
+            .elements
+            .travel_m
+            .iter()
+            .chain(&s.elements.suspension_n)
+            .chain(&s.elements.contact_n)
+        {
+            let _ = write!(line, ",{v:e}");
+        }
+        line.push('\n');
+        h.write_all(line.as_bytes())
+            .map_err(|e| history_error(h, e))?;
         Ok(())
     }
 }

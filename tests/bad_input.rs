@@ -134,6 +134,24 @@ const CAR_EDITS: &[CarEdit] = &[
         fragment: "`seat[0].name` must not contain ','",
     },
     CarEdit {
+        what: "a seat below the CG (negative height)",
+        from: "[[seat]]\nx = 0.3\n",
+        to: "[[seat]]\nx = 0.3\nheight = -0.4\n",
+        fragment: "`seat[0].height` must lie between 0 and 20 m, got -0.4",
+    },
+    CarEdit {
+        what: "a seat height given as text",
+        from: "[[seat]]\nx = 0.3\n",
+        to: "[[seat]]\nx = 0.3\nheight = \"0.8 m\"\n",
+        fragment: "height",
+    },
+    CarEdit {
+        what: "a seat name whose fore-aft column is another seat's column",
+        from: "[[seat]]\nx = 0.3\n",
+        to: "[[seat]]\nx = 0.3\nname = \"d\"\n[[seat]]\nx = -0.5\nname = \"d_fore_aft\"\n",
+        fragment: "`seat[1].name` \"d_fore_aft\" and seat[0]'s name \"d\" would head the same history column",
+    },
+    CarEdit {
         what: "broken TOML syntax",
         from: "[body]",
         to: "[body",

@@ -57,6 +57,7 @@ fn pointer_of(col: &str) -> Option<String> {
     if let Some(rest) = col.strip_prefix("seat") {
         if let Some((i, m)) = rest.split_once('_') {
             if let Ok(i) = i.parse::<usize>() {
+                let m = if m == "fore_aft_aw" { "fore_aft/aw" } else { m };
                 return Some(format!("/seats/{}/{m}", i - 1));
             }
         }
@@ -302,6 +303,48 @@ fn two_varied_keys_on_a_vehicle_with_stops_equal_simulate_and_shards_concatenate
 }
 
 #[test]
+fn a_varied_seat_height_equals_simulate_with_the_height_written_in() {
+    // The file gives no height (0 by default): `--vary` inserts the key,
+    // and each row must equal simulate on a file with `height` written by
+    // hand under the first `[[seat]]`. Height 0 must give zero fore-aft aw
+    // and a total value equal to the vertical aw; a real height must not.
+    let car = demo("vehicles/demo_hatchback.toml");
+    let car_text = std::fs::read_to_string(&car).unwrap();
+    let dir = scratch();
+    let out = ok(&[
+        "sweep",
+        "--vehicle",
+        car.to_str().unwrap(),
+        "--vary",
+        "seat.driver.height=0,0.8",
+        "--classes",
+        "C",
+        "--speeds",
+        "20",
+        "--length",
+        "80",
+    ]);
+    let (header, rows) = csv_table(&out);
+    assert_eq!(header[2], "seat.driver.height");
+    let col = |name: &str| header.iter().position(|h| h == name).unwrap();
+    let checks = col("checks");
+    assert_eq!(header[checks - 1], "seat2_total_value", "before checks");
+    let f = |r: &Vec<String>, c: &str| r[col(c)].parse::<f64>().unwrap();
+    assert_eq!(f(&rows[0], "seat1_fore_aft_aw"), 0.0);
+    assert_eq!(f(&rows[0], "seat1_total_value"), f(&rows[0], "seat1_aw"));
+    assert!(f(&rows[1], "seat1_fore_aft_aw") > 0.0);
+    assert!(f(&rows[1], "seat1_total_value") > f(&rows[1], "seat1_aw"));
+    // The height moves no vertical value.
+    assert_eq!(rows[0][col("seat1_aw")], rows[1][col("seat1_aw")]);
+    check_rows_against_simulate(&header, &rows, "80", |c| {
+        let h = c["seat.driver.height"];
+        let text = car_text.replacen("[[seat]]\n", &format!("[[seat]]\nheight = {h}\n"), 1);
+        assert_ne!(text, car_text);
+        write_edited(dir.path(), &format!("car_h{}.toml", c["case"]), &text)
+    });
+}
+
+#[test]
 fn bad_keys_and_values_are_refused_before_any_case_with_status_2() {
     let car = demo("vehicles/demo_hatchback.toml");
     let car = car.to_str().unwrap();
@@ -314,6 +357,8 @@ fn bad_keys_and_values_are_refused_before_any_case_with_status_2() {
         ("rear.damping=", "no values given"),
         ("rear.damping=3000:1000:500", "the end is below the start"),
         ("seat.pilot.x=0.1", "no seat is named \"pilot\""),
+        ("seat.driver.height=-0.5,1", "the value -0.5 is refused"),
+        ("seat.driver.heigth=1", "unknown key `seat.driver.heigth`"),
         ("front.tyre_damping=*2", "needs the key in the file"),
         ("front.damping_bump=1000", "cannot be combined"),
         ("rear.damping", "expected KEY=VALUES"),

@@ -13,7 +13,9 @@
 //! dynamic_load_coefficient_{axle},time_off_ground_fraction_{axle},
 //! time_past_bump_fraction_{axle},time_past_rebound_fraction_{axle}` (the
 //! last two empty for an axle without that stop), then `heave_accel_rms_m_s2,
-//! pitch_accel_rms_rad_s2,duration_s,length_m,solver,checks`.
+//! pitch_accel_rms_rad_s2,duration_s,length_m,solver`, then per seat
+//! `seat{i}_fore_aft_aw,seat{i}_total_value` (Wd aw of the fore-aft
+//! acceleration and the comfort total value, m/s²), then `checks`.
 //!
 //! `checks` is `ok` when the plausibility checks found nothing, else
 //! `warning:` or `implausible:` followed by the finding codes joined by `;`
@@ -90,10 +92,14 @@ pub fn columns(seats: usize, varied: &[String]) -> Vec<String> {
         "duration_s",
         "length_m",
         "solver",
-        "checks",
     ] {
         c.push(s.to_string());
     }
+    for i in 1..=seats {
+        c.push(format!("seat{i}_fore_aft_aw"));
+        c.push(format!("seat{i}_total_value"));
+    }
+    c.push("checks".to_string());
     c
 }
 
@@ -156,8 +162,14 @@ pub fn cells(grid: &Grid, case: &Case, s: &RunSummary, seats: usize) -> Vec<Cell
             }
             .to_string(),
         ),
-        Cell::Text(checks_cell(&s.checks.findings)),
     ]);
+    for i in 0..seats {
+        match s.seats.get(i) {
+            Some(x) => r.extend([x.fore_aft.aw, x.total_value].map(Cell::Num)),
+            None => r.extend(std::iter::repeat_n(Cell::Empty, 2)),
+        }
+    }
+    r.push(Cell::Text(checks_cell(&s.checks.findings)));
     r
 }
 

@@ -357,6 +357,10 @@ fn render(o: &Output<'_>) -> String {
         durability_table(s),
         body_table(s),
     ];
+    // Seats at the CG's height have no fore-aft motion to show.
+    if s.seats.iter().any(|x| x.height_m > 0.0) {
+        tables.insert(1, fore_aft_table(s));
+    }
     tables.extend(s.predicted.as_ref().map(|p| prediction_table(p, s)));
     tables.extend(o.harmonic_force.as_ref().map(harmonic_table));
     for t in &tables {
@@ -425,6 +429,38 @@ fn seats_table(s: &RunSummary) -> Table {
         ]);
     }
     seats
+}
+
+/// ISO 2631-1 fore-aft measures (from pitch) and the total value per seat.
+fn fore_aft_table(s: &RunSummary) -> Table {
+    let mut t = Table::new(
+        "Seats: fore-aft acceleration −h·θ̈ (Wd) and vibration total value (ISO 2631-1 6.5)",
+    )
+    .with_header([
+        "seat",
+        "height m",
+        "aw m/s²",
+        "VDV m/s^1.75",
+        "MTVV m/s²",
+        "crest",
+        "total value m/s²",
+    ]);
+    for seat in &s.seats {
+        let m = &seat.fore_aft;
+        t.row([
+            seat.name.clone(),
+            sig(seat.height_m, 3),
+            sig(m.aw, 3),
+            sig(m.vdv, 3),
+            sig(m.mtvv, 3),
+            sig(m.crest_factor, 3),
+            sig(seat.total_value, 3),
+        ]);
+    }
+    t.note(
+        "total value: comfort factors kx = ky = kz = 1 on the seat surface (lateral not modelled).",
+    );
+    t
 }
 
 /// Travel and road contact per axle.
@@ -592,6 +628,7 @@ fn guidance_table(s: &RunSummary) -> Table {
     .with_header([
         "seat",
         "comfort reaction",
+        "health axis",
         "A(8) m/s²",
         "A(8) status",
         "caution zone (B.1)",
@@ -601,11 +638,15 @@ fn guidance_table(s: &RunSummary) -> Table {
         guide.row([
             seat.name.clone(),
             g.comfort_label.clone(),
+            g.health_axis.unwrap_or("vertical").replace('_', "-"),
             sig(g.a8_m_s2, 3),
             g.a8_status.to_string(),
             g.caution_zone_b1.position.to_string(),
         ]);
     }
+    guide.note(
+        "comfort reaction from the total value; health from the axis with the largest k·aw (kx = 1.4, kz = 1).",
+    );
     guide.note(HEALTH_CAUTION);
     guide
 }

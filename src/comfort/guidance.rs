@@ -8,6 +8,21 @@
 //! Wd (x, y, k = 1.4) (ISO 2631-1 7.2.3; EU Directive 2002/44/EC Annex A);
 //! for the other weightings they are computed with k = 1 and flagged as
 //! outside their scope.
+//!
+//! # Several axes at one seat ([`seat_guidance`])
+//! The vibration total value of ISO 2631-1 6.5 combines the axes,
+//! `a_v = (kx²·awx² + ky²·awy² + kz²·awz²)^½` ([`total_value`]). Which
+//! factors and which rule apply depends on the purpose (ISO 2631-1:1997;
+//! the clause numbers and factors are from memory):
+//! - comfort (clause 8.2): on the seat surface kx = ky = kz = 1
+//!   ([`COMFORT_SEAT_K`]); the comfort reaction of Annex C is read from the
+//!   total value with these factors;
+//! - health (clause 7.2.3): kx = ky = 1.4, kz = 1 ([`HEALTH_SEAT_K`]), and
+//!   the assessment is made for each axis independently, against the axis
+//!   with the highest k·aw (the dominant-axis rule). The standard notes
+//!   that the vector sum is sometimes used when two or more axes are
+//!   comparable; [`SeatTotals::health_m_s2`] reports it for information,
+//!   but the health guidance follows the dominant axis.
 
 use serde::Serialize;
 
@@ -131,6 +146,84 @@ pub struct Guidance {
     pub vdv_status: &'static str,
     /// [`HEALTH_CAUTION`].
     pub caution: &'static str,
+    /// For a seat evaluated in several axes ([`seat_guidance`]): the axis
+    /// whose k·aw is largest, on which the health statements rest.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub health_axis: Option<&'static str>,
+    /// For a seat evaluated in several axes: the value the comfort reaction
+    /// was read from (the comfort total value), m/s².
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub comfort_value_m_s2: Option<f64>,
+}
+
+/// Multiplying factors (kx, ky, kz) on the seat surface for comfort
+/// (ISO 2631-1 clause 8.2; from memory).
+pub const COMFORT_SEAT_K: [f64; 3] = [1.0, 1.0, 1.0];
+/// Multiplying factors (kx, ky, kz) on the seat surface for health
+/// (ISO 2631-1 clause 7.2.3; EU Directive 2002/44/EC Annex A.1).
+pub const HEALTH_SEAT_K: [f64; 3] = [1.4, 1.4, 1.0];
+
+/// The vibration total value `(Σ kᵢ²·awᵢ²)^½` of ISO 2631-1 6.5 for the
+/// axes' aw `[x, y, z]` and factors `k`, m/s².
+pub fn total_value(aw_xyz_m_s2: [f64; 3], k: [f64; 3]) -> f64 {
+    aw_xyz_m_s2
+        .iter()
+        .zip(k)
+        .map(|(a, k)| (k * a) * (k * a))
+        .sum::<f64>()
+        .sqrt()
+}
+
+/// A seat's vibration total values, m/s².
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct SeatTotals {
+    /// With the comfort factors ([`COMFORT_SEAT_K`]): the `total_value`.
+    pub comfort_m_s2: f64,
+    /// With the health factors ([`HEALTH_SEAT_K`]); for information, the
+    /// health guidance uses the dominant axis.
+    pub health_m_s2: f64,
+}
+
+/// The total values of a seat from its fore-aft (x) and vertical (z)
+/// evaluations; the lateral axis (y) is not modelled and counts as 0.
+pub fn seat_totals(vertical: &Measures, fore_aft: &Measures) -> SeatTotals {
+    let aw = [fore_aft.aw, 0.0, vertical.aw];
+    SeatTotals {
+        comfort_m_s2: total_value(aw, COMFORT_SEAT_K),
+        health_m_s2: total_value(aw, HEALTH_SEAT_K),
+    }
+}
+
+/// The guidance for a seat evaluated vertically and fore and aft: health
+/// statements for the dominant axis (largest k·aw, ISO 2631-1 7.2.3; the
+/// vertical axis on a tie), the comfort reaction for the comfort total
+/// value (ISO 2631-1 6.5 and 8.2). With no fore-aft motion this is
+/// [`guidance`] of the vertical channel, number for number.
+pub fn seat_guidance(vertical: &Measures, fore_aft: &Measures, exposure_s: f64) -> Guidance {
+    let k_of = |m: &Measures| guidance_k(m.weighting.parse::<Weighting>().ok());
+    let fore_aft_dominates = k_of(fore_aft) * fore_aft.aw > k_of(vertical) * vertical.aw;
+    let (axis, m) = if fore_aft_dominates {
+        ("fore_aft", fore_aft)
+    } else {
+        ("vertical", vertical)
+    };
+    let mut g = guidance(m, exposure_s);
+    let comfort = seat_totals(vertical, fore_aft).comfort_m_s2;
+    g.comfort_reactions = comfort_reactions(comfort);
+    g.comfort_label = g.comfort_reactions.join(" / ");
+    g.health_axis = Some(axis);
+    g.comfort_value_m_s2 = Some(comfort);
+    g
+}
+
+/// The health factor k of a weighting: 1.4 for Wd (x, y), else 1
+/// (ISO 2631-1 7.2.3: kz = 1 for Wk).
+fn guidance_k(w: Option<Weighting>) -> f64 {
+    if w == Some(Weighting::Wd) {
+        HEALTH_SEAT_K[0]
+    } else {
+        HEALTH_SEAT_K[2]
+    }
 }
 
 /// The Annex C bands that hold `aw_m_s2`.
@@ -181,7 +274,7 @@ pub fn guidance(m: &Measures, exposure_s: f64) -> Guidance {
     let w = m.weighting.parse::<Weighting>().ok();
     let health_applicable = matches!(w, Some(Weighting::Wk | Weighting::Wd));
     // ISO 2631-1 7.2.3: kx = ky = 1.4 (Wd), kz = 1 (Wk), seated.
-    let health_k = if w == Some(Weighting::Wd) { 1.4 } else { 1.0 };
+    let health_k = guidance_k(w);
     let aw_k = health_k * m.aw;
     let reactions = comfort_reactions(m.aw);
     let a8 = aw_k * (exposure_s / REFERENCE_DAY_S).sqrt();
@@ -208,6 +301,8 @@ pub fn guidance(m: &Measures, exposure_s: f64) -> Guidance {
         vdv_limit_m_s175: VDV_LIMIT_M_S175,
         vdv_status: status(vdv_exposure, VDV_ACTION_M_S175, VDV_LIMIT_M_S175),
         caution: HEALTH_CAUTION,
+        health_axis: None,
+        comfort_value_m_s2: None,
     }
 }
 
@@ -316,6 +411,53 @@ mod tests {
                 .time_to_lower_s
                 .is_none()
         );
+    }
+
+    #[test]
+    fn the_total_value_combines_the_axes_with_the_purposes_factors() {
+        // ISO 2631-1 6.5, by hand: awx = 0.3, awy = 0.4, awz = 1.2 m/s².
+        // Comfort, seat surface, k = 1 (8.2): √(0.09 + 0.16 + 1.44) = 1.3.
+        let aw = [0.3, 0.4, 1.2];
+        assert!((total_value(aw, COMFORT_SEAT_K) - 1.3).abs() < 1e-15);
+        // Health, kx = ky = 1.4, kz = 1 (7.2.3): √(0.1764 + 0.3136 + 1.44)
+        // = √1.93 = 1.389244398944980…
+        assert!((total_value(aw, HEALTH_SEAT_K) - 1.389_244_398_944_98).abs() < 1e-14);
+        // One axis alone is its own k·aw.
+        assert_eq!(total_value([0.0, 0.0, 0.61], COMFORT_SEAT_K), 0.61);
+        assert!((total_value([0.5, 0.0, 0.0], HEALTH_SEAT_K) - 0.7).abs() < 1e-15);
+    }
+
+    #[test]
+    fn seat_guidance_reads_comfort_from_the_total_and_health_from_the_dominant_axis() {
+        let z = measures("Wk", 0.6, 8.0, 3600.0);
+        let x = measures("Wd", 0.5, 6.0, 3600.0);
+        let g = seat_guidance(&z, &x, 8.0 * 3600.0);
+        // Comfort: √(0.5² + 0.6²) = 0.781 m/s², Annex C: fairly uncomfortable
+        // only (0.6 alone would also be "a little uncomfortable").
+        assert!((g.comfort_value_m_s2.unwrap() - 0.61f64.sqrt()).abs() < 1e-15);
+        assert_eq!(g.comfort_reactions, ["fairly uncomfortable"]);
+        assert_eq!(
+            guidance(&z, 8.0 * 3600.0).comfort_reactions,
+            ["a little uncomfortable", "fairly uncomfortable"]
+        );
+        // Health: 1.4·0.5 = 0.7 > 1·0.6, so fore-aft governs (7.2.3), with
+        // A(8) = 1.4·0.5 at 8 h and the daily VDV 1.4·6·8^¼ (Directive
+        // 2002/44/EC Annex A.1).
+        assert_eq!(g.health_axis, Some("fore_aft"));
+        assert_eq!(g.health_k, 1.4);
+        assert!((g.a8_m_s2 - 0.7).abs() < 1e-15);
+        assert!((g.vdv_exposure_m_s175 - 1.4 * 6.0 * 8f64.powf(0.25)).abs() < 1e-12);
+        // A smaller fore-aft aw leaves health on the vertical axis.
+        let x = measures("Wd", 0.4, 6.0, 3600.0);
+        let g = seat_guidance(&z, &x, 8.0 * 3600.0);
+        assert_eq!(g.health_axis, Some("vertical"));
+        assert!((g.a8_m_s2 - 0.6).abs() < 1e-15);
+        // No fore-aft motion: the vertical guidance, number for number.
+        let g = seat_guidance(&z, &measures("Wd", 0.0, 0.0, 3600.0), 3600.0);
+        let plain = guidance(&z, 3600.0);
+        assert_eq!(g.comfort_value_m_s2, Some(0.6));
+        assert_eq!(g.comfort_label, plain.comfort_label);
+        assert_eq!(g.a8_m_s2.to_bits(), plain.a8_m_s2.to_bits());
     }
 
     #[test]

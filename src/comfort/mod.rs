@@ -13,12 +13,19 @@ mod measures;
 mod record;
 mod weighting;
 
-pub use guidance::{COMFORT_BANDS, CautionZone, ComfortBand, Guidance, HEALTH_CAUTION, guidance};
+pub use guidance::{
+    COMFORT_BANDS, COMFORT_SEAT_K, CautionZone, ComfortBand, Guidance, HEALTH_CAUTION,
+    HEALTH_SEAT_K, SeatTotals, guidance, seat_guidance, seat_totals, total_value,
+};
 pub use measures::{Measures, Meter};
 pub use record::{Record, read_record, read_record_from};
 pub use weighting::{Weighting, WeightingFilter};
 
 use std::path::PathBuf;
+
+/// The weighting of a seat's fore-aft acceleration: Wd (ISO 2631-1
+/// Table 3 / clause 8.2: x and y on the seat surface, health and comfort).
+pub const FORE_AFT_WEIGHTING: Weighting = Weighting::Wd;
 
 use thiserror::Error;
 

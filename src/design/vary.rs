@@ -4,8 +4,9 @@
 //! # Keys
 //! A key is the dotted path of a number in the vehicle file:
 //! `body.mass`, `body.pitch_inertia`, `front.KEY` / `rear.KEY` for every
-//! numeric axle key ([`AXLE_KEYS`]), and `seat.NAME.x` or `seat.N.x` for a
-//! seat by its name or its 1-based position in the file.
+//! numeric axle key ([`AXLE_KEYS`]), and `seat.NAME.KEY` or `seat.N.KEY`
+//! ([`SEAT_KEYS`]: `x`, `height`) for a seat by its name or its 1-based
+//! position in the file.
 //!
 //! # Values
 //! As for `--speeds`: `start:end:step` (inclusive, `start + i·step`) or a
@@ -47,6 +48,9 @@ pub const AXLE_KEYS: [&str; 11] = [
     "stop_rate",
 ];
 
+/// The numeric keys of a `[[seat]]`.
+pub const SEAT_KEYS: [&str; 2] = ["x", "height"];
+
 /// Most vehicle variants one study may make (a typo guard; sweeps also
 /// refuse grids beyond [`crate::batch::grid::MAX_CASES`] cases).
 pub const MAX_VARIANTS: usize = 100_000;
@@ -64,7 +68,7 @@ pub enum SeatRef {
 enum Target {
     Body(&'static str),
     Axle(&'static str, &'static str),
-    SeatX(SeatRef),
+    Seat(SeatRef, &'static str),
 }
 
 /// A numeric key of the vehicle file.
@@ -76,10 +80,17 @@ pub struct Key {
 
 fn key_list() -> String {
     format!(
-        "body.{{{}}}, front.KEY or rear.KEY with KEY one of {}, seat.NAME.x or seat.N.x",
+        "body.{{{}}}, front.KEY or rear.KEY with KEY one of {}, seat.NAME.KEY or seat.N.KEY with KEY one of {}",
         BODY_KEYS.join(","),
-        AXLE_KEYS.join(", ")
+        AXLE_KEYS.join(", "),
+        SEAT_KEYS.join(", ")
     )
+}
+
+/// `NAME.KEY` split at the last dot, with KEY one of [`SEAT_KEYS`].
+fn seat_key(rest: &str) -> Option<(&str, &'static str)> {
+    let (seat, k) = rest.rsplit_once('.')?;
+    SEAT_KEYS.iter().find(|s| **s == k).map(|k| (seat, *k))
 }
 
 impl Key {
@@ -100,12 +111,17 @@ impl Key {
         };
         let target = match target {
             Some(t) => t,
-            None => match t.strip_prefix("seat.").and_then(|s| s.strip_suffix(".x")) {
-                Some(seat) if !seat.is_empty() => Target::SeatX(match seat.parse::<usize>() {
-                    Ok(0) => return Err("seats are numbered from 1 (seat.1.x is the first)".into()),
-                    Ok(n) => SeatRef::Position(n),
-                    Err(_) => SeatRef::Name(seat.to_string()),
-                }),
+            None => match t.strip_prefix("seat.").and_then(seat_key) {
+                Some((seat, k)) if !seat.is_empty() => Target::Seat(
+                    match seat.parse::<usize>() {
+                        Ok(0) => {
+                            return Err("seats are numbered from 1 (seat.1.x is the first)".into());
+                        }
+                        Ok(n) => SeatRef::Position(n),
+                        Err(_) => SeatRef::Name(seat.to_string()),
+                    },
+                    k,
+                ),
                 _ if t == "name" || t.ends_with(".name") => {
                     return Err(format!("`{t}` is text, not a number"));
                 }
@@ -404,22 +420,22 @@ impl VehicleDocument {
         match target {
             Target::Body(k) => Some((root.get_mut("body")?.as_table_like_mut()?, k)),
             Target::Axle(a, k) => Some((root.get_mut(a)?.as_table_like_mut()?, k)),
-            Target::SeatX(_) => {
+            Target::Seat(_, k) => {
                 let i = seat?;
                 let item = root.get_mut("seat")?;
                 if item.is_array_of_tables() {
                     let aot = item.as_array_of_tables_mut()?;
-                    return Some((aot.get_mut(i)? as &mut dyn toml_edit::TableLike, "x"));
+                    return Some((aot.get_mut(i)? as &mut dyn toml_edit::TableLike, k));
                 }
                 let inline = item.as_array_mut()?.get_mut(i)?.as_inline_table_mut()?;
-                Some((inline as &mut dyn toml_edit::TableLike, "x"))
+                Some((inline as &mut dyn toml_edit::TableLike, k))
             }
         }
     }
 
     fn seat_of(&self, key: &Key) -> Result<Option<usize>, String> {
         match &key.target {
-            Target::SeatX(s) => self.seat_index(s).map(Some),
+            Target::Seat(s, _) => self.seat_index(s).map(Some),
             _ => Ok(None),
         }
     }

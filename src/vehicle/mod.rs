@@ -30,7 +30,7 @@ pub mod modal;
 pub mod response;
 mod spec;
 
-pub use spec::{VehicleError, parse_vehicle, read_vehicle};
+pub use spec::{FORE_AFT_SUFFIX, VehicleError, parse_vehicle, read_vehicle};
 
 use nalgebra::{DMatrix, DVector};
 
@@ -151,6 +151,10 @@ impl Stops {
 pub struct Seat {
     /// Position ahead of the CG, m.
     pub x_m: f64,
+    /// Height above the CG (the pitch axis), m; 0 unless the file gives
+    /// `height`. A point this high moves `−h·θ` fore and aft when the body
+    /// pitches by `θ` (small angles; x forward, pitch positive nose-up).
+    pub height_m: f64,
     /// Label for tables and history columns.
     pub name: String,
 }

@@ -502,6 +502,9 @@ pub struct SeatRms {
     pub accel_rms: f64,
     /// Weighted acceleration r.m.s. (the weighting in [`PredictedRms::weighting`]), m/s².
     pub aw: f64,
+    /// Wd-weighted r.m.s. of the fore-aft acceleration `−height·θ̈`, m/s²
+    /// (0 for a seat at the CG's height).
+    pub fore_aft_aw: f64,
 }
 
 /// Predicted r.m.s. of one axle.
@@ -650,6 +653,12 @@ pub fn predicted_rms_with(
     // Mean squares per channel, then weighted seats.
     let mut ms = vec![0.0; nch];
     let mut ms_w = vec![0.0; nseat];
+    // Wd-weighted mean square of θ̈; a seat's fore-aft value is height² times it.
+    let mut ms_pitch_wd = 0.0;
+    let pitch_ch = model
+        .channels
+        .iter()
+        .position(|c| c.quantity == Quantity::PitchAccel);
     for pair in edges.windows(2) {
         gauss_panel(pair[0], pair[1], |f, w| {
             let n = f / speed_m_s;
@@ -667,6 +676,10 @@ pub fn predicted_rms_with(
             let wk2 = weighting.magnitude(f).powi(2);
             for (s, acc) in ms_w.iter_mut().enumerate() {
                 *acc += w * h[s].norm_sqr() * gz * wk2;
+            }
+            if let Some(p) = pitch_ch {
+                let wd2 = crate::comfort::FORE_AFT_WEIGHTING.magnitude(f).powi(2);
+                ms_pitch_wd += w * h[p].norm_sqr() * gz * wd2;
             }
         });
     }
@@ -686,6 +699,7 @@ pub fn predicted_rms_with(
             x_m: s.x_m,
             accel_rms: rms(Quantity::SeatAccel(i)),
             aw: ms_w[i].sqrt(),
+            fore_aft_aw: s.height_m * ms_pitch_wd.sqrt(),
         })
         .collect();
     let axle = |i| AxleRms {

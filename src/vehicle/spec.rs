@@ -11,6 +11,10 @@ use thiserror::Error;
 use super::{Axle, Damper, Seat, Stops, Tyre, Vehicle};
 use crate::limits::{self, Range};
 
+/// What a seat's fore-aft history column adds to its name (before the
+/// unit `_accel_m_s2`).
+pub const FORE_AFT_SUFFIX: &str = "_fore_aft";
+
 /// Longest vehicle or seat name, characters.
 pub const MAX_NAME_CHARS: usize = 120;
 
@@ -93,6 +97,7 @@ struct RawAxle {
 #[serde(deny_unknown_fields)]
 struct RawSeat {
     x: f64,
+    height: Option<f64>,
     name: Option<String>,
 }
 
@@ -145,29 +150,7 @@ pub fn parse_vehicle(text: &str, path: &Path) -> Result<Vehicle, VehicleError> {
     )?;
     let front = v.axle("front", &raw.front, 1.0)?;
     let rear = v.axle("rear", &raw.rear, -1.0)?;
-    if raw.seat.is_empty() {
-        return Err(v.invalid(
-            "seat",
-            "is missing: give at least one [[seat]] with its x (m, positive ahead of the CG)",
-        ));
-    }
-    let mut seats: Vec<Seat> = Vec::with_capacity(raw.seat.len());
-    for (i, s) in raw.seat.iter().enumerate() {
-        let x_m = v.within(&format!("seat[{i}].x"), &limits::BODY_X, s.x)?;
-        let key = format!("seat[{i}].name");
-        let name = match &s.name {
-            Some(n) => v.name(&key, n, true)?,
-            None => format!("seat{}", i + 1),
-        };
-        // Seat names head the history's columns: each must be its own.
-        if let Some(j) = seats.iter().position(|o| o.name == name) {
-            return Err(v.invalid(
-                &key,
-                format!("{name:?} is already the name of seat[{j}]; give each seat its own name"),
-            ));
-        }
-        seats.push(Seat { x_m, name });
-    }
+    let seats = v.seats(&raw.seat)?;
     let name = match &raw.name {
         Some(n) => v.name("name", n, false)?,
         None => path
@@ -243,6 +226,62 @@ impl Validator<'_> {
             return Err(self.invalid(key, format!("must not contain {c:?} ({why})")));
         }
         Ok(name.to_string())
+    }
+
+    /// The `[[seat]]` entries: at least one, each name its own (and not
+    /// clashing with another seat's history columns).
+    fn seats(&self, raw: &[RawSeat]) -> Result<Vec<Seat>, VehicleError> {
+        if raw.is_empty() {
+            return Err(self.invalid(
+                "seat",
+                "is missing: give at least one [[seat]] with its x (m, positive ahead of the CG)",
+            ));
+        }
+        let mut seats: Vec<Seat> = Vec::with_capacity(raw.len());
+        for (i, s) in raw.iter().enumerate() {
+            let x_m = self.within(&format!("seat[{i}].x"), &limits::BODY_X, s.x)?;
+            let height_m = self.within(
+                &format!("seat[{i}].height"),
+                &limits::SEAT_HEIGHT,
+                s.height.unwrap_or(0.0),
+            )?;
+            let key = format!("seat[{i}].name");
+            let name = match &s.name {
+                Some(n) => self.name(&key, n, true)?,
+                None => format!("seat{}", i + 1),
+            };
+            // Seat names head the history's columns: each must be its own.
+            if let Some(j) = seats.iter().position(|o| o.name == name) {
+                return Err(self.invalid(
+                    &key,
+                    format!(
+                        "{name:?} is already the name of seat[{j}]; give each seat its own name"
+                    ),
+                ));
+            }
+            // `A_fore_aft_accel_m_s2` is seat A's fore-aft column and would
+            // also be the vertical column of a seat named `A_fore_aft`.
+            let clash = |a: &str, b: &str| a.strip_suffix(FORE_AFT_SUFFIX) == Some(b);
+            if let Some(j) = seats
+                .iter()
+                .position(|o| clash(&name, &o.name) || clash(&o.name, &name))
+            {
+                return Err(self.invalid(
+                    &key,
+                    format!(
+                        "{name:?} and seat[{j}]'s name {:?} would head the same history column \
+                     (a seat's fore-aft column is NAME{FORE_AFT_SUFFIX}_accel_m_s2); rename one",
+                        seats[j].name
+                    ),
+                ));
+            }
+            seats.push(Seat {
+                x_m,
+                height_m,
+                name,
+            });
+        }
+        Ok(seats)
     }
 
     /// `sign` is +1 for the front axle (ahead of the CG), −1 for the rear.
