@@ -14,7 +14,7 @@
 //!   sample. Not timed: post-processing, road generation, vehicle parsing.
 //! - `simulate_3_exact_pipeline/<length>`: `pipeline::simulate` with the exact
 //!   solver, no history file: the solver plus the streaming evaluators (Wk
-//!   meters per seat, axle and body statistics). Not timed: reading the
+//!   vertical and Wd fore-aft meters per seat, axle and body statistics). Not timed: reading the
 //!   vehicle and generating the road.
 //! - `simulate_4_adaptive_solver/<length>`: `solve::run` with Dormand–Prince
 //!   into the same sink (shorter roads: it is far slower). Not timed: as for
