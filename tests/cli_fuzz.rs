@@ -491,16 +491,20 @@ fn join(parts: Vec<Vec<String>>) -> Vec<String> {
 
 // ------------------------------------------------------------ running
 
-/// The files of one case, in a directory of its property.
+/// The files of one case, in a directory of its property (removed when
+/// the property ends).
 struct Files {
     dir: PathBuf,
+    _keep: tempfile::TempDir,
 }
 
 impl Files {
     fn new(name: &str) -> Files {
-        let dir = scratch().join(name);
-        std::fs::create_dir_all(&dir).unwrap();
-        Files { dir }
+        let keep = tempfile::Builder::new().prefix(name).tempdir().unwrap();
+        Files {
+            dir: keep.path().to_path_buf(),
+            _keep: keep,
+        }
     }
     fn path(&self, name: &str) -> String {
         self.dir.join(name).to_string_lossy().into_owned()
@@ -531,12 +535,6 @@ impl Files {
         v.sort();
         v
     }
-}
-
-/// One scratch directory for the whole test binary.
-fn scratch() -> &'static Path {
-    static DIR: OnceLock<tempfile::TempDir> = OnceLock::new();
-    DIR.get_or_init(|| tempfile::tempdir().unwrap()).path()
 }
 
 /// How a command ended, as the binary would report it.
