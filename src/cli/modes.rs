@@ -5,6 +5,7 @@
 use std::path::PathBuf;
 
 use clap::Args as ClapArgs;
+use roughride::report::plot::wrap;
 use roughride::report::{self, Table, sig};
 use roughride::vehicle::modal::{self, ModalAnalysis};
 use roughride::vehicle::read_vehicle;
@@ -61,13 +62,16 @@ fn modes_table(a: &ModalAnalysis) -> Table {
         "undamped Hz",
         "damped Hz",
         "damping ratio",
-        "node",
+        "node x m",
+        "node lies",
     ]);
     for (i, m) in a.modes.iter().enumerate() {
-        let node = match &m.node {
-            Some(n) => n.description.clone(),
-            None if m.kind == "bounce" || m.kind == "pitch" => "none (pure heave)".to_string(),
-            None => "-".to_string(),
+        let (node_x, node) = match &m.node {
+            Some(n) => (sig(n.x_m, 4), node_place(n).to_string()),
+            None if m.kind == "bounce" || m.kind == "pitch" => {
+                ("-".to_string(), "none (pure heave)".to_string())
+            }
+            None => ("-".to_string(), "-".to_string()),
         };
         let damped = if m.overdamped {
             "overdamped".to_string()
@@ -80,12 +84,12 @@ fn modes_table(a: &ModalAnalysis) -> Table {
             sig(m.undamped_frequency_hz, 4),
             damped,
             sig(m.damping_ratio, 3),
+            node_x,
             node,
         ]);
     }
-    t.note(
-        "Node: the body point that does not move vertically (x = -z/theta from the CG, + ahead).",
-    );
+    t.note("Node: the body point that does not move vertically (x = -z/theta from the CG,");
+    t.note("+ ahead; `modes --json` gives it in words too).");
     if a.modes.iter().any(|m| m.overdamped) {
         t.note("Overdamped: two real roots; damping ratio -(l1+l2)/(2*sqrt(l1*l2)) > 1.");
     }
@@ -99,7 +103,9 @@ fn shapes_table(a: &ModalAnalysis) -> Table {
         header.push(format!("{d} {unit}"));
     }
     header.push("energy % (by coordinate)".to_string());
-    let mut t = Table::new("Undamped mode shapes (dominant coordinate = 1)").with_header(header);
+    let mut t =
+        Table::new("Undamped mode shapes (scaled to 1 in the coordinate of largest energy)")
+            .with_header(header);
     for (i, m) in a.modes.iter().enumerate() {
         let mut row = vec![(i + 1).to_string(), m.kind.to_string()];
         for c in &m.shape {
@@ -146,8 +152,20 @@ fn ride_table(a: &ModalAnalysis) -> Table {
         sig(a.dynamic_index, 3),
         String::new(),
     ]);
+    // Notes wrapped so the report stays within 100 columns.
     for g in &a.guidance {
-        t.note(format!("- {g}"));
+        for (k, line) in wrap(g, 94).into_iter().enumerate() {
+            t.note(format!("{} {line}", if k == 0 { "-" } else { " " }));
+        }
     }
     t
+}
+
+/// Where a node lies, in a few words (the table's last column).
+fn node_place(n: &roughride::vehicle::modal::Node) -> &'static str {
+    match (n.outside_wheelbase, n.x_m > 0.0) {
+        (false, _) => "inside the wheelbase",
+        (true, true) => "ahead of the front axle",
+        (true, false) => "behind the rear axle",
+    }
 }
