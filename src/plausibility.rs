@@ -51,7 +51,8 @@ pub struct Finding {
 }
 
 impl Finding {
-    fn warning(code: &'static str, message: String) -> Self {
+    /// A finding that is reported but does not refuse the result.
+    pub fn warning(code: &'static str, message: String) -> Self {
         Finding {
             severity: Severity::Warning,
             code,
@@ -645,13 +646,23 @@ pub fn spectral_findings(
     }
     (
         format!(
-            "{size}; the prediction is linear (mean damper rate, no stops, tyres on the road) while this run spent {:.2} % of the time with a tyre off the ground and {:.2} % past a stop, with rebound/bump damping up to {:.2}:1 (which shifts the mean travel), so a gap is expected and the time-domain values are the ones to use",
+            "{size}; the prediction is linear (mean damper rate, no stops, tyres on the road) while this run spent {:.2} % of the time with a tyre off the ground and {:.2} % past a stop, with dampers {} (which shifts the mean travel), so a gap is expected and the time-domain values are the ones to use",
             100.0 * engagement.off_ground,
             100.0 * engagement.past_stops,
-            engagement.damper_asymmetry
+            asymmetry_words(engagement.damper_asymmetry)
         ),
         Vec::new(),
     )
+}
+
+/// The dampers' rebound/bump asymmetry in words; a damper with no damping
+/// in one direction has no finite ratio (found by the command-line fuzz).
+fn asymmetry_words(ratio: f64) -> String {
+    if ratio.is_finite() {
+        format!("up to {ratio:.2}:1 between rebound and bump")
+    } else {
+        "undamped in one direction (bump or rebound damping 0)".to_string()
+    }
 }
 
 /// Paths (`seats[0].vdv`, `axles.front.durability.travel_percentiles_m[4][1]`)

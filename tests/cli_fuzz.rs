@@ -29,7 +29,7 @@ use std::sync::OnceLock;
 
 use proptest::prelude::*;
 use proptest::strategy::ValueTree;
-use proptest::test_runner::{Config, TestCaseError, TestRunner};
+use proptest::test_runner::{Config, RngAlgorithm, TestCaseError, TestRng, TestRunner};
 
 /// Cases per property (they add up to `TOTAL_CASES`).
 const MODES_CASES: u32 = 25_000;
@@ -268,7 +268,9 @@ fn run_vehicle_file() -> impl Strategy<Value = String> {
 
 fn vehicle_file_w(wild: f64) -> impl Strategy<Value = String> {
     (
-        prop::option::of("car[a-z ]{0,20}"),
+        // No `i` or `n`: a name must never spell `inf` or `nan`, which the
+        // finite-number check would take for a printed number.
+        prop::option::of("car[a-hj-mo-z ]{0,20}"),
         lines_table("body", BODY, wild),
         axle("front", wild),
         axle("rear", wild),
@@ -773,12 +775,22 @@ fn fuzz<S: Strategy>(
         .ok()
         .and_then(|s| s.parse().ok())
         .unwrap_or(1.0);
-    let mut runner = TestRunner::new(Config {
+    // The same cases on every run, so CI is repeatable;
+    // ROUGHRIDE_FUZZ_SEED=N draws another set (a new hunt).
+    let seed: u64 = std::env::var("ROUGHRIDE_FUZZ_SEED")
+        .ok()
+        .and_then(|s| s.parse().ok())
+        .unwrap_or(0x5eed_2026);
+    let mut seed_bytes = [0u8; 32];
+    seed_bytes[..8].copy_from_slice(&seed.to_le_bytes());
+    let rng = TestRng::from_seed(RngAlgorithm::ChaCha, &seed_bytes);
+    let config = Config {
         cases: ((f64::from(cases) * scale).round() as u32).max(1),
         failure_persistence: None,
         max_shrink_iters: 200,
         ..Config::default()
-    });
+    };
+    let mut runner = TestRunner::new_with_rng(config, rng);
     TALLY.with(|t| t.set([0; 3]));
     let started = std::time::Instant::now();
     if let Err(e) = runner.run(&strategy, body) {
