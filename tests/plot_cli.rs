@@ -259,22 +259,22 @@ fn the_history_window_holds_exactly_the_samples_inside_it() {
     assert!(has_text(&svg, "driver accel (m/s²)") && has_text(&svg, "rear passenger accel (m/s²)"));
 }
 
-#[test]
-fn the_psd_picture_shows_the_class_the_profile_was_made_with() {
-    let dir = scratch();
-    let road = dir.path().join("road.csv");
+/// Generates a class C road (`profile`) and draws its PSD picture; returns
+/// the picture's path.
+fn class_c_psd(dir: &std::path::Path, length_m: &str, seed: &str) -> std::path::PathBuf {
+    let road = dir.join("road.csv");
     ok(&[
         "profile",
         "--class",
         "C",
         "--length",
-        "800",
+        length_m,
         "--seed",
-        "4",
+        seed,
         "-o",
         road.to_str().unwrap(),
     ]);
-    let svg_path = dir.path().join("psd.svg");
+    let svg_path = dir.join("psd.svg");
     ok(&[
         "plot",
         "psd",
@@ -282,6 +282,13 @@ fn the_psd_picture_shows_the_class_the_profile_was_made_with() {
         "-o",
         svg_path.to_str().unwrap(),
     ]);
+    svg_path
+}
+
+#[test]
+fn the_psd_picture_shows_the_class_the_profile_was_made_with() {
+    let dir = scratch();
+    let svg_path = class_c_psd(dir.path(), "800", "4");
     let svg = parse_svg(&svg_path);
     assert!(has_text(&svg, "spatial frequency n (cycle/m)") && has_text(&svg, "Gd(n) (m³)"));
     let fit = svg
@@ -633,26 +640,7 @@ fn the_comfort_picture_in_kmh_is_the_same_picture_with_a_kmh_axis() {
 #[test]
 fn the_psd_picture_spans_only_the_band_of_the_estimate() {
     let dir = scratch();
-    let road = dir.path().join("road.csv");
-    ok(&[
-        "profile",
-        "--class",
-        "C",
-        "--length",
-        "1000",
-        "--seed",
-        "3",
-        "-o",
-        road.to_str().unwrap(),
-    ]);
-    let svg_path = dir.path().join("psd.svg");
-    ok(&[
-        "plot",
-        "psd",
-        road.to_str().unwrap(),
-        "-o",
-        svg_path.to_str().unwrap(),
-    ]);
+    let svg_path = class_c_psd(dir.path(), "1000", "3");
     let els = elements(&svg_path);
     // The generated road holds power from 0.011 to 2.83 cycle/m (the
     // defaults of `profile`). Class C's mean line Gd = 256e-6·(n/0.1)^-2 m³

@@ -8,7 +8,7 @@ use clap::Args as ClapArgs;
 use super::plot::Out;
 use roughride::Error;
 use roughride::lifetime::tables::{QUANTITIES, read_exceedance, read_matrix};
-use roughride::report::life_plot::{RangeAxis, exceedance_chart, range_mean_chart};
+use roughride::report::life_plot::{RangeAxis, exceedance_chart, quantity_words, range_mean_chart};
 
 /// Which axle and quantity of a life spectra file to draw.
 #[derive(Debug, ClapArgs)]
@@ -68,14 +68,6 @@ pub struct RangeMeanArgs {
     pub out: Out,
 }
 
-fn words(quantity: &str) -> &'static str {
-    match quantity {
-        "travel_m" => "suspension travel",
-        "suspension_force_n" => "suspension force",
-        _ => "tyre load",
-    }
-}
-
 /// The exceedance picture's SVG and its output options.
 pub fn exceedance(a: ExceedanceArgs) -> Result<(String, Out), Error> {
     let s = &a.select;
@@ -84,7 +76,7 @@ pub fn exceedance(a: ExceedanceArgs) -> Result<(String, Out), Error> {
         format!(
             "Life exceedance spectrum, {} axle {}",
             s.axle,
-            words(&s.quantity)
+            quantity_words(&s.quantity)
         )
     });
     Ok((
@@ -101,7 +93,7 @@ pub fn range_mean(a: RangeMeanArgs) -> Result<(String, Out), Error> {
         format!(
             "Life range–mean matrix, {} axle {}",
             s.axle,
-            words(&s.quantity)
+            quantity_words(&s.quantity)
         )
     });
     Ok((range_mean_chart(&cells, &s.quantity, &title)?, a.out))

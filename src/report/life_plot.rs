@@ -23,6 +23,11 @@ struct Shown {
     factor: f64,
 }
 
+/// The words for a life-spectra quantity (`travel_m` → "suspension travel").
+pub fn quantity_words(quantity: &str) -> &'static str {
+    shown(quantity).words
+}
+
 fn shown(quantity: &str) -> Shown {
     match quantity {
         "travel_m" => Shown {
