@@ -412,16 +412,23 @@ fn run_streaming(
     if samples < 4 * CHUNK_SAMPLES || !second_core || rayon::current_thread_index().is_some() {
         return solve::run(vehicle, excitation, plan, sink);
     }
-    std::thread::scope(|scope| {
+    // The energy ledger runs beside the solver, not with the other
+    // evaluators: the evaluators cost twice what the exact solver does per
+    // sample, and the ledger about a fifth of them, so this evens out the
+    // two threads. It sees the same samples in the same order.
+    let mut energy = sink.energy.clone();
+    sink.energy_here = false;
+    let evaluators = &mut *sink;
+    let result = std::thread::scope(|scope| {
         let (tx, rx) = mpsc::sync_channel::<Handover>(CHUNKS_IN_FLIGHT);
         let (back_tx, back_rx) = mpsc::sync_channel::<Vec<Sample>>(CHUNKS_IN_FLIGHT + 2);
         let evaluator = scope.spawn(move || -> Result<(), SolveError> {
             for item in rx {
                 match item {
-                    Handover::Start(kind) => sink.start(kind)?,
+                    Handover::Start(kind) => evaluators.start(kind)?,
                     Handover::Samples(chunk) => {
                         for s in &chunk {
-                            sink.accept(s)?;
+                            evaluators.accept(s)?;
                         }
                         // Back for reuse, empty; a full return queue only
                         // means one buffer fewer to reuse.
@@ -437,6 +444,7 @@ fn run_streaming(
             tx,
             back: back_rx,
             chunk: Vec::with_capacity(CHUNK_SAMPLES),
+            energy: &mut energy,
         };
         let solved = solve::run(vehicle, excitation, plan, &mut feed).and_then(|info| {
             feed.hand_over()?;
@@ -450,7 +458,10 @@ fn run_streaming(
             Ok(Err(e)) => Err(e),
             Ok(Ok(())) => solved,
         }
-    })
+    });
+    sink.energy = energy;
+    sink.energy_here = true;
+    result
 }
 
 /// What the solver hands to the evaluator thread, in order.
@@ -462,13 +473,15 @@ enum Handover {
 }
 
 /// The solver's side of [`run_streaming`]: collects samples into chunks.
-struct Feed {
+struct Feed<'e> {
     tx: mpsc::SyncSender<Handover>,
     back: mpsc::Receiver<Vec<Sample>>,
     chunk: Vec<Sample>,
+    /// The energy ledger, kept on this thread.
+    energy: &'e mut EnergyLedger,
 }
 
-impl Feed {
+impl Feed<'_> {
     fn send(&self, item: Handover) -> Result<(), SolveError> {
         self.tx.send(item).map_err(|_| {
             SolveError::Settings("the evaluator thread stopped before the run ended".to_string())
@@ -489,15 +502,17 @@ impl Feed {
     }
 }
 
-impl SampleSink for Feed {
+impl SampleSink for Feed<'_> {
     fn start(&mut self, solver: SolverKind) -> Result<(), SolveError> {
         // Samples not yet handed over belong to the run being discarded.
         self.chunk.clear();
+        self.energy.start(solver);
         self.send(Handover::Start(solver))
     }
 
     #[inline]
     fn accept(&mut self, sample: &Sample) -> Result<(), SolveError> {
+        self.energy.push(sample);
         self.chunk.push(*sample);
         if self.chunk.len() >= CHUNK_SAMPLES {
             self.hand_over()?;
@@ -559,6 +574,9 @@ struct Evaluators<'h> {
     header: String,
     line: String,
     energy: EnergyLedger,
+    /// False while the ledger is kept on the solver's thread instead (see
+    /// [`run_streaming`]).
+    energy_here: bool,
 }
 
 impl<'h> Evaluators<'h> {
@@ -610,6 +628,7 @@ impl<'h> Evaluators<'h> {
             header: history_header(vehicle),
             line: String::with_capacity(256),
             energy: EnergyLedger::new(vehicle, options.force.map_or(0.0, |f| f.x_m)),
+            energy_here: true,
         })
     }
 
@@ -646,6 +665,10 @@ impl<'h> Evaluators<'h> {
         exposure_s: f64,
     ) -> RunSummary {
         let statics = vehicle.static_contact_n();
+        for (x, z) in self.fore_aft.iter_mut().zip(&self.seats) {
+            // The zeros of seats at height 0 (see `accept`).
+            x.push_zeros(z.samples() - x.samples());
+        }
         let durability = [self.durability[0].finish(), self.durability[1].finish()];
         let axle = |i: usize| {
             let n = self.travel[i].count().max(1) as f64;
@@ -730,7 +753,9 @@ pub fn history_header(vehicle: &Vehicle) -> String {
 impl SampleSink for Evaluators<'_> {
     fn start(&mut self, solver: SolverKind) -> Result<(), SolveError> {
         self.reset()?;
-        self.energy.start(solver);
+        if self.energy_here {
+            self.energy.start(solver);
+        }
         if let Some(h) = self.history.as_deref_mut() {
             h.rewind()?;
             writeln!(h, "{}", self.header).map_err(|e| history_error(h, e))?;
@@ -744,7 +769,11 @@ impl SampleSink for Evaluators<'_> {
             m.push(s.body_point_accel_m_s2(*x));
         }
         for (m, h) in self.fore_aft.iter_mut().zip(&self.seat_h_m) {
-            m.push(fore_aft_accel_m_s2(s, *h));
+            // A seat at height 0 moves +0 fore and aft: its zeros are
+            // counted in `summary` (`Meter::push_zeros`), not filtered.
+            if *h != 0.0 {
+                m.push(fore_aft_accel_m_s2(s, *h));
+            }
         }
         for i in 0..2 {
             self.travel[i].push(s.elements.travel_m[i]);
@@ -759,7 +788,9 @@ impl SampleSink for Evaluators<'_> {
                 self.off_ground[i] += 1;
             }
         }
-        self.energy.push(s);
+        if self.energy_here {
+            self.energy.push(s);
+        }
         self.heave.push(s.q[0]);
         self.pitch.push(s.q[1]);
         self.heave_acc.push(s.qdd[0]);

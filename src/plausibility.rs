@@ -92,6 +92,9 @@ struct AxleEnergy {
     wheel: Option<(usize, f64)>,
     /// Static force the contact carries (a tyre's, or the spring's without one), N.
     static_contact_n: f64,
+    /// Where the contact lets go ([`AxleEnergy::release_point`]), worked
+    /// out once: the divisions cost more per sample than the rest of a term.
+    release_m: f64,
 }
 
 impl AxleEnergy {
@@ -318,7 +321,7 @@ impl EnergyLedger {
                 .wheel_dof(i)
                 .zip(a.tyre.as_ref())
                 .map(|(w, t)| (w, t.rate_n_m));
-            AxleEnergy {
+            let mut axle = AxleEnergy {
                 spring_n_m: a.spring_n_m,
                 stops: a.stops,
                 wheel,
@@ -327,7 +330,10 @@ impl EnergyLedger {
                 } else {
                     static_s[i]
                 },
-            }
+                release_m: 0.0,
+            };
+            axle.release_m = axle.release_point(wheel.map(|(_, kt)| kt));
+            axle
         });
         EnergyLedger {
             axles,
@@ -368,7 +374,7 @@ impl EnergyLedger {
                     let (v, elastic) = if self.bonded {
                         (0.5 * kt * e * e, kt * e)
                     } else {
-                        let release = a.release_point(Some(kt));
+                        let release = a.release_m;
                         (
                             clamped(e, release, s_n, |x| 0.5 * kt * x * x),
                             (kt * e).max(-s_n),
@@ -381,7 +387,7 @@ impl EnergyLedger {
                     let (v, elastic) = if self.bonded {
                         (a.suspension_j(d), a.elastic_n(d))
                     } else {
-                        let release = a.release_point(None);
+                        let release = a.release_m;
                         (
                             clamped(d, release, s_n, |x| a.suspension_j(x)),
                             a.elastic_n(d).max(-s_n),

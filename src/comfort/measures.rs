@@ -171,6 +171,30 @@ impl Meter {
     pub fn samples(&self) -> u64 {
         self.n
     }
+
+    /// Adds `count` samples of zero acceleration, giving what `count` calls
+    /// of `push(0.0)` would. While the meter has seen nothing but zeros (its
+    /// filter at rest, every sum zero) zeros change only the sample count and
+    /// the ring position, so they are taken without filtering: a seat at
+    /// height 0 has a fore-aft acceleration of +0 throughout, and filtering a
+    /// million zeros per run cost about a sixth of the evaluators' time.
+    pub fn push_zeros(&mut self, count: u64) {
+        let at_rest = self.filter.is_at_rest()
+            && self.sum_x2 == 0.0
+            && self.sum_w2 == 0.0
+            && self.sum_w4 == 0.0
+            && self.peak_w == 0.0
+            && self.ring_sum == 0.0
+            && self.max_window_sum == 0.0;
+        if !at_rest {
+            (0..count).for_each(|_| self.push(0.0));
+            return;
+        }
+        let len = self.ring.len() as u64;
+        self.n += count;
+        self.ring_pos = ((self.ring_pos as u64 + count) % len) as usize;
+        self.since_resum = ((self.since_resum as u64 + count) % len) as usize;
+    }
 }
 
 #[cfg(test)]
@@ -188,6 +212,36 @@ mod tests {
 
     fn rel(a: f64, b: f64) -> f64 {
         (a / b - 1.0).abs()
+    }
+
+    /// `push_zeros` must be indistinguishable from pushing the zeros: at
+    /// rest (the fast path) and after a signal (the slow path).
+    #[test]
+    fn pushing_zeros_in_bulk_equals_pushing_them_one_by_one() {
+        let fs = 1000.0;
+        for signal in [0usize, 1500] {
+            let mut bulk = Meter::new(Weighting::Wd, fs).unwrap();
+            let mut single = bulk.clone();
+            for i in 0..signal {
+                let x = (i as f64 * 0.037).sin();
+                bulk.push(x);
+                single.push(x);
+            }
+            bulk.push_zeros(2345);
+            (0..2345).for_each(|_| single.push(0.0));
+            let (b, s) = (bulk.finish(), single.finish());
+            assert_eq!(bulk.samples(), single.samples());
+            for (x, y) in [
+                (b.aw, s.aw),
+                (b.vdv, s.vdv),
+                (b.mtvv, s.mtvv),
+                (b.crest_factor, s.crest_factor),
+                (b.accel_rms, s.accel_rms),
+                (b.duration_s, s.duration_s),
+            ] {
+                assert_eq!(x.to_bits(), y.to_bits(), "signal {signal}: {x} vs {y}");
+            }
+        }
     }
 
     #[test]

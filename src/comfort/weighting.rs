@@ -398,6 +398,11 @@ impl WeightingFilter {
         y
     }
 
+    /// True while every stage's state is zero (as before the first sample).
+    pub fn is_at_rest(&self) -> bool {
+        self.stages.iter().all(|st| st.s == [0.0, 0.0])
+    }
+
     /// Clears the filter state (as at rest before the first sample).
     pub fn reset(&mut self) {
         for st in &mut self.stages {
