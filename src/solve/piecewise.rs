@@ -429,7 +429,8 @@ fn run_fixed<const N: usize>(
         let mut qd = [0.0; MAX_DOF];
         q[..n].copy_from_slice(&x[..n]);
         qd[..n].copy_from_slice(&x[n..]);
-        let sample = Sample::from_inputs(&walk.model, force_x_m, t, inputs, q, qd, Contact::LiftOff);
+        let sample =
+            Sample::from_inputs(&walk.model, force_x_m, t, inputs, q, qd, Contact::LiftOff);
         if k % super::CANCEL_CHECK_SAMPLES == 1 {
             if !all_finite(&x) {
                 return Err(SolveError::NonFinite {
