@@ -324,16 +324,17 @@ fn check(
     let mut findings = energy_findings(energy, axles.map(|a| [a.travel_min, a.travel_max]));
     if road_rate_hz > s.solver.output_rate_hz {
         unresolved_road(&mut findings, road_rate_hz, s.solver.output_rate_hz);
-        if s.solver.solver == SolverKind::Exact {
+        if matches!(s.solver.solver, SolverKind::Exact | SolverKind::Piecewise) {
             // The hold between output samples aliases such a road: on a
             // white-noise profile at 4× the output rate aw came out twice
             // the adaptive solver's.
             findings.push(Finding::warning(
                 "road_unresolved",
                 format!(
-                    "the road's samples pass at {} Hz, faster than the {} Hz output rate, and the exact solver holds the road linear between output samples, so it sees an aliased road and its results can be far off; raise --rate to at least {} Hz or use --solver adaptive",
+                    "the road's samples pass at {} Hz, faster than the {} Hz output rate, and the {} solver holds the road linear between output samples, so it sees an aliased road and its results can be far off; raise --rate to at least {} Hz or use --solver adaptive",
                     crate::report::sig(road_rate_hz, 4),
                     crate::report::sig(s.solver.output_rate_hz, 4),
+                    s.solver.solver.name(),
                     (road_rate_hz.ceil() as u64).max(1)
                 ),
             ));

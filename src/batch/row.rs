@@ -38,7 +38,6 @@
 use std::fmt::Write as _;
 
 use crate::pipeline::{AxleSummary, RunSummary};
-use crate::solve::SolverKind;
 use crate::stats::durability::PERCENTILES;
 
 use super::grid::{Case, Grid};
@@ -155,13 +154,7 @@ pub fn cells(grid: &Grid, case: &Case, s: &RunSummary, seats: usize) -> Vec<Cell
         Cell::Num(s.body.pitch_accel_rms),
         Cell::Num(s.duration_s),
         Cell::Num(s.length_m),
-        Cell::Text(
-            match s.solver.solver {
-                SolverKind::Exact => "exact",
-                SolverKind::Adaptive => "adaptive",
-            }
-            .to_string(),
-        ),
+        Cell::Text(s.solver.solver.name().to_string()),
     ]);
     for i in 0..seats {
         match s.seats.get(i) {

@@ -10,7 +10,8 @@ use roughride::solve::{DEFAULT_OUTPUT_RATE_HZ, SolverChoice, SolverSettings};
 /// Solver and seat-weighting options.
 #[derive(Debug, Clone, Args)]
 pub struct SolverArgs {
-    /// Solver: auto (exact for linear vehicles), exact, or adaptive.
+    /// Solver: auto (exact for linear vehicles, piecewise for ones with
+    /// asymmetric dampers or stops), exact, piecewise, or adaptive.
     #[arg(long, default_value = "auto", value_parser = parse_solver)]
     pub solver: SolverChoice,
     /// Output sample rate, Hz (1 to 1e6).

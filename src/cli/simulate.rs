@@ -388,10 +388,7 @@ fn render_heading(s: &RunSummary, road: &RoadInfo) -> String {
         road,
         s.length_m,
         sig(s.duration_s, 4),
-        match s.solver.solver {
-            roughride::solve::SolverKind::Exact => "exact",
-            roughride::solve::SolverKind::Adaptive => "adaptive",
-        },
+        s.solver.solver.name(),
         s.solver.samples,
         sig(s.solver.output_rate_hz, 4),
     )

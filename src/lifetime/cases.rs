@@ -16,7 +16,7 @@ use crate::comfort::Weighting;
 use crate::pipeline::{self, Durability, RunOptions, RunSummary};
 use crate::road::Profile;
 use crate::road::iso8608::generate;
-use crate::solve::{self, Excitation, SolverKind, SolverSettings};
+use crate::solve::{self, Excitation, SolverSettings};
 use crate::stats::ResidueMethod;
 use crate::stats::durability::{DurabilitySettings, Quantity};
 
@@ -244,10 +244,7 @@ impl CaseResult {
             index,
             length_m: summary.length_m,
             duration_s: summary.duration_s,
-            solver: match summary.solver.solver {
-                SolverKind::Exact => "exact".into(),
-                SolverKind::Adaptive => "adaptive".into(),
-            },
+            solver: summary.solver.solver.name().into(),
             fallback: summary.solver.fallback.clone(),
             tyre_tension_samples: summary.solver.bonded_pull_samples,
             axles,

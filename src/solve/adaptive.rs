@@ -336,6 +336,7 @@ fn run_info(solver: &Dopri5<N>, out: &Output<'_>, plan: &Plan) -> RunInfo {
         steps_rejected: counts.rejected,
         fallback: None,
         bonded_pull_samples: [0; 2],
+        piecewise: None,
     }
 }
 

@@ -22,7 +22,7 @@
 //!
 //! The model is the linear one: tyres stay bonded to the road. Under
 //! `--solver auto` a sample where a tyre would pull hands the run to the
-//! adaptive solver; under `--solver exact` the run goes on and counts such
+//! piecewise-exact solver (`piecewise.rs`); under `--solver exact` the run goes on and counts such
 //! samples, so the user sees how far the linear model was stretched.
 //!
 //! The result is exact for inputs that are linear between output samples.
@@ -37,7 +37,7 @@ use super::{
     Excitation, Inputs, Plan, RunInfo, Sample, SampleSink, SolveError, SolverKind, all_finite,
     instability_hint, sample_count,
 };
-use crate::vehicle::{AXLE_NAMES, Contact, MAX_DOF, Vehicle};
+use crate::vehicle::{AXLE_NAMES, Contact, MAX_DOF, StateSpace, Vehicle};
 
 /// The discrete model for one output interval.
 #[derive(Debug, Clone)]
@@ -52,7 +52,12 @@ pub struct Discrete {
 
 /// Discretises `vehicle` (body force at `force_x_m`) for step `h_s`.
 pub fn discretise(vehicle: &Vehicle, force_x_m: f64, h_s: f64) -> Discrete {
-    let ss = vehicle.state_space(force_x_m);
+    discretise_state_space(&vehicle.state_space(force_x_m), h_s).0
+}
+
+/// [`discretise`] of a first-order form, with `P = ∫₀ʰ e^{Aσ} dσ` (which
+/// maps a constant term of `ẋ` onto the update).
+pub(super) fn discretise_state_space(ss: &StateSpace, h_s: f64) -> (Discrete, DMatrix<f64>) {
     let n = ss.a.nrows();
     // B₀ acts on [r_f, r_r, F]; B₁ on their rates [ṙ_f, ṙ_r, 0].
     let mut b0 = DMatrix::zeros(n, 3);
@@ -79,7 +84,7 @@ pub fn discretise(vehicle: &Vehicle, force_x_m: f64, h_s: f64) -> Discrete {
     let q = e.view((0, 2 * n), (n, n)).into_owned() / h_s;
     let g0 = (&p - &q) * &b0 - &p * &b1 / h_s;
     let g1 = &q * &b0 + &p * &b1 / h_s;
-    Discrete { phi, g0, g1 }
+    (Discrete { phi, g0, g1 }, p)
 }
 
 /// As [`discretise`], with the body force a sinusoid of `force_hz`
@@ -87,7 +92,12 @@ pub fn discretise(vehicle: &Vehicle, force_x_m: f64, h_s: f64) -> Discrete {
 /// `force_hz` must lie below the Nyquist frequency `1/(2h)`.
 pub fn discretise_harmonic(vehicle: &Vehicle, force_x_m: f64, force_hz: f64, h_s: f64) -> Discrete {
     let mut d = discretise(vehicle, force_x_m, h_s);
-    let ss = vehicle.state_space(force_x_m);
+    harmonic_columns(&vehicle.state_space(force_x_m), force_hz, h_s, &mut d);
+    d
+}
+
+/// Replaces the force columns of `d` by those of a sinusoid of `force_hz`.
+pub(super) fn harmonic_columns(ss: &StateSpace, force_hz: f64, h_s: f64, d: &mut Discrete) {
     let n = ss.a.nrows();
     let w = 2.0 * std::f64::consts::PI * force_hz;
     let mut big = DMatrix::zeros(n + 2, n + 2);
@@ -104,7 +114,6 @@ pub fn discretise_harmonic(vehicle: &Vehicle, force_x_m: f64, force_hz: f64, h_s
         d.g0[(r, 2)] = gamma_a - gamma_b * cos / sin;
         d.g1[(r, 2)] = gamma_b / sin;
     }
-    d
 }
 
 /// The discrete update in fixed-size, column-major arrays for a state of
@@ -232,7 +241,7 @@ fn run_fixed<const N: usize>(
         let sample = Sample::from_inputs(&model, force_x_m, t, inputs, q, qd, Contact::Bonded);
         for (i, in_contact) in sample.elements.in_contact.iter().enumerate() {
             if !in_contact {
-                if plan.fallback_to_adaptive {
+                if plan.fallback_on_lift_off {
                     return Err(SolveError::LiftOff {
                         axle: AXLE_NAMES[i],
                         time_s: t,
@@ -277,6 +286,7 @@ fn run_fixed<const N: usize>(
         steps_rejected: 0,
         fallback: None,
         bonded_pull_samples: pulls,
+        piecewise: None,
     })
 }
 

@@ -1,15 +1,23 @@
 //! Time-domain runs of a [`Vehicle`] over a road at constant speed.
 //!
-//! Two solvers share one model and one output grid:
+//! Three solvers share one model and one output grid:
 //! - **adaptive**: Dormand–Prince 5(4) with error control on the full
 //!   nonlinear element model ([`Vehicle::evaluate`]), one integration from
 //!   start to end with steps ending on the road's sample points, and dense
-//!   output onto the grid. Needed for asymmetric dampers, stops and tyre
-//!   lift-off.
+//!   output onto the grid. Works for any element characteristic.
 //! - **exact**: for linear vehicles, the state-space model discretised once
 //!   per run (matrix exponential with a first-order hold on the inputs,
 //!   Franklin, Powell & Workman, *Digital Control of Dynamic Systems*,
 //!   3rd ed., §6.3), then one matrix–vector update per output sample.
+//! - **piecewise**: for piecewise-linear vehicles (asymmetric dampers,
+//!   stops, tyre lift-off), the exact update of each linear regime,
+//!   discretised when first met and cached, with every switch located
+//!   inside the output interval by bisection on dyadic sub-steps (see
+//!   `piecewise.rs`).
+//!
+//! Under `auto`, a linear vehicle runs exact and, if a tyre leaves the
+//! road, is re-run piecewise; any other piecewise-linear vehicle runs
+//! piecewise; the adaptive solver is kept for anything else and on request.
 //!
 //! The choice is made first, as a plain [`Plan`] value ([`plan`]), and run
 //! second ([`run`]). Results stream out sample by sample to a caller's
@@ -25,8 +33,10 @@
 mod adaptive;
 mod dopri5;
 mod exact;
+mod piecewise;
 
 pub use exact::{Discrete, Step, discretise, discretise_harmonic};
+pub use piecewise::{MAX_LEVEL, MAX_SWITCHES_PER_INTERVAL, PiecewiseStats};
 
 use thiserror::Error;
 
@@ -122,12 +132,14 @@ impl Excitation<'_> {
 /// Which solver the user asked for.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum SolverChoice {
-    /// Exact for linear vehicles (falling back to adaptive if a tyre leaves
-    /// the road), adaptive otherwise.
+    /// Exact for linear vehicles (re-run piecewise if a tyre leaves the
+    /// road), piecewise for piecewise-linear ones, adaptive otherwise.
     #[default]
     Auto,
     /// Always the exact discrete path (refused for nonlinear vehicles).
     Exact,
+    /// Always the piecewise-exact path (refused unless piecewise linear).
+    Piecewise,
     /// Always the adaptive Dormand–Prince path.
     Adaptive,
 }
@@ -139,7 +151,10 @@ impl std::str::FromStr for SolverChoice {
             "auto" => Ok(SolverChoice::Auto),
             "exact" => Ok(SolverChoice::Exact),
             "adaptive" => Ok(SolverChoice::Adaptive),
-            _ => Err(format!("unknown solver {s:?}: use auto, exact or adaptive")),
+            "piecewise" => Ok(SolverChoice::Piecewise),
+            _ => Err(format!(
+                "unknown solver {s:?}: use auto, exact, piecewise or adaptive"
+            )),
         }
     }
 }
@@ -152,6 +167,19 @@ pub enum SolverKind {
     Exact,
     /// Dormand–Prince 5(4) with error control.
     Adaptive,
+    /// Exact update per linear regime, switches located (piecewise-linear vehicles).
+    Piecewise,
+}
+
+impl SolverKind {
+    /// The name used in tables, JSON and `--solver`.
+    pub fn name(self) -> &'static str {
+        match self {
+            SolverKind::Exact => "exact",
+            SolverKind::Adaptive => "adaptive",
+            SolverKind::Piecewise => "piecewise",
+        }
+    }
 }
 
 /// User-settable solver options.
@@ -188,8 +216,9 @@ impl Default for SolverSettings {
 pub struct Plan {
     /// The solver to run first.
     pub kind: SolverKind,
-    /// Whether an exact run that finds a tyre off the road is re-run adaptively.
-    pub fallback_to_adaptive: bool,
+    /// Whether an exact run that finds a tyre off the road is re-run on the
+    /// piecewise-exact path (which models lift-off).
+    pub fallback_on_lift_off: bool,
     /// Output grid rate, Hz.
     pub output_rate_hz: f64,
     /// Relative tolerance (adaptive).
@@ -216,7 +245,15 @@ pub fn plan(
     let bad = |m: String| Err(SolveError::Settings(m));
     let (kind, fallback) = match settings.choice {
         SolverChoice::Auto if vehicle.is_linear() => (SolverKind::Exact, true),
+        SolverChoice::Auto if vehicle.is_piecewise_linear() => (SolverKind::Piecewise, false),
         SolverChoice::Auto | SolverChoice::Adaptive => (SolverKind::Adaptive, false),
+        SolverChoice::Piecewise if vehicle.is_piecewise_linear() => (SolverKind::Piecewise, false),
+        SolverChoice::Piecewise => {
+            return bad(
+                "--solver piecewise needs a piecewise-linear vehicle; use adaptive or auto"
+                    .to_string(),
+            );
+        }
         SolverChoice::Exact if vehicle.is_linear() => (SolverKind::Exact, false),
         SolverChoice::Exact => {
             return bad(
@@ -227,7 +264,7 @@ pub fn plan(
     };
     Ok(Plan {
         kind,
-        fallback_to_adaptive: fallback,
+        fallback_on_lift_off: fallback,
         output_rate_hz: settings.output_rate_hz,
         rtol: settings.rtol,
         atol: settings.atol,
@@ -399,6 +436,9 @@ pub struct RunInfo {
     /// (front, rear): non-zero only for `--solver exact`, whose linear model
     /// keeps the tyre bonded; the physical model would have lifted it.
     pub bonded_pull_samples: [u64; 2],
+    /// Regimes, switches and events of a piecewise-exact run (`None` for
+    /// the other solvers).
+    pub piecewise: Option<PiecewiseStats>,
 }
 
 /// [`RunInfo`] as written to JSON.
@@ -416,6 +456,10 @@ pub struct RunInfoJson {
     tyre_tension_samples: [u64; 2],
     /// The same counts under their former name, kept for one release.
     bonded_pull_samples: [u64; 2],
+    /// Piecewise-exact runs only: regimes met, switches located, stop
+    /// engagements and lift-offs per axle, chattering intervals.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    piecewise: Option<PiecewiseStats>,
 }
 
 impl From<RunInfo> for RunInfoJson {
@@ -429,6 +473,7 @@ impl From<RunInfo> for RunInfoJson {
             steps_rejected,
             fallback,
             bonded_pull_samples,
+            piecewise,
         } = r;
         RunInfoJson {
             solver,
@@ -439,6 +484,7 @@ impl From<RunInfo> for RunInfoJson {
             fallback,
             tyre_tension_samples: bonded_pull_samples,
             bonded_pull_samples,
+            piecewise,
         }
     }
 }
@@ -539,14 +585,18 @@ pub fn run(
             sink.start(SolverKind::Adaptive)?;
             adaptive::run(vehicle, excitation, plan, sink)
         }
+        SolverKind::Piecewise => {
+            sink.start(SolverKind::Piecewise)?;
+            piecewise::run(vehicle, excitation, plan, sink)
+        }
         SolverKind::Exact => {
             sink.start(SolverKind::Exact)?;
             match exact::run(vehicle, excitation, plan, sink) {
-                Err(SolveError::LiftOff { axle, time_s }) if plan.fallback_to_adaptive => {
-                    sink.start(SolverKind::Adaptive)?;
-                    let mut info = adaptive::run(vehicle, excitation, plan, sink)?;
+                Err(SolveError::LiftOff { axle, time_s }) if plan.fallback_on_lift_off => {
+                    sink.start(SolverKind::Piecewise)?;
+                    let mut info = piecewise::run(vehicle, excitation, plan, sink)?;
                     info.fallback = Some(format!(
-                        "the {axle} tyre left the road at t = {time_s:.3} s, so the run was repeated with the adaptive solver"
+                        "the {axle} tyre left the road at t = {time_s:.3} s, so the run was repeated with the piecewise-exact solver (which models lift-off)"
                     ));
                     Ok(info)
                 }

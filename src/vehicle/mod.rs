@@ -146,6 +146,75 @@ impl Stops {
     }
 }
 
+/// Which side of a damper acts in a linear regime.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum DamperSide {
+    /// The mean of bump and rebound (the linear model; exact for a symmetric damper).
+    Mean,
+    /// Compression rate (travel rate ≥ 0).
+    Bump,
+    /// Extension rate (travel rate < 0).
+    Rebound,
+}
+
+/// Which stop is engaged in a linear regime.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum StopSide {
+    /// Neither (travel within the clearances).
+    Free,
+    /// The bump stop (travel past the bump clearance).
+    Bump,
+    /// The rebound stop (travel past the rebound clearance, extension).
+    Rebound,
+}
+
+/// One axle's elements in one linear regime of the piecewise-linear
+/// model: between two switches (a damper changing side, a stop engaging or
+/// releasing, a tyre leaving or touching the road) the element model is
+/// affine in the state and the road.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub struct AxleRegime {
+    /// Damper side.
+    pub damper: DamperSide,
+    /// Stop engaged.
+    pub stop: StopSide,
+    /// Tyre (or, without a tyre, the spring) on the road.
+    pub on_road: bool,
+}
+
+impl AxleRegime {
+    /// The linear model's regime: mean damper, no stop, on the road.
+    pub const LINEAR: AxleRegime = AxleRegime {
+        damper: DamperSide::Mean,
+        stop: StopSide::Free,
+        on_road: true,
+    };
+
+    /// Suspension spring rate, damper rate and constant force (compression
+    /// positive) of `axle` in this regime: a stop engaged past clearance `c`
+    /// adds `k_s (δ ∓ c)`, i.e. rate `k_s` and offset `∓k_s c`.
+    pub fn suspension(&self, axle: &Axle) -> (f64, f64, f64) {
+        let cs = match self.damper {
+            DamperSide::Mean => axle.damper.linear_n_s_m(),
+            DamperSide::Bump => axle.damper.bump_n_s_m,
+            DamperSide::Rebound => axle.damper.rebound_n_s_m,
+        };
+        let stop = axle.stops.as_ref();
+        let (ks, offset) = match (self.stop, stop) {
+            (StopSide::Bump, Some(s)) => (
+                axle.spring_n_m + s.rate_n_m,
+                -s.rate_n_m * s.bump_clearance_m.unwrap_or(0.0),
+            ),
+            (StopSide::Rebound, Some(s)) => (
+                axle.spring_n_m + s.rate_n_m,
+                s.rate_n_m * s.rebound_clearance_m.unwrap_or(0.0),
+            ),
+            _ => (axle.spring_n_m, 0.0),
+        };
+        (ks, cs, offset)
+    }
+}
+
 /// An evaluation point on the body.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Seat {
@@ -258,6 +327,16 @@ impl Vehicle {
             .all(|a| !a.damper.is_asymmetric() && a.stops.is_none())
     }
 
+    /// True when the element model is linear between switches (every
+    /// element of this file format is: linear spring, damper linear on each
+    /// side, stops linear past their clearance, tyre linear while on the
+    /// road), so the piecewise-exact solver applies. An element with a
+    /// curved characteristic would make this false and leave such a
+    /// vehicle to the adaptive solver.
+    pub fn is_piecewise_linear(&self) -> bool {
+        true
+    }
+
     /// Static suspension force of each axle, N: the body weight shared by
     /// moment balance about the CG (`W·b/L` front, `W·a/L` rear).
     pub fn static_suspension_n(&self) -> [f64; 2] {
@@ -298,6 +377,15 @@ impl Vehicle {
     /// `k_t e_w` to the road input; an axle without a wheel adds `k e_b e_bᵀ`
     /// and `k e_b` to the road input (same for the dampers).
     pub fn matrices(&self) -> Matrices {
+        self.matrices_in(&[AxleRegime::LINEAR; 2]).0
+    }
+
+    /// [`Vehicle::matrices`] with each axle's elements in the linear regime
+    /// `regime` (damper side, stop engaged or not, on or off the road), and
+    /// the constant generalised force of that regime (a stop's offset
+    /// `∓k_s c`, a lifted tyre's `−static load`): in one regime the element
+    /// model is `M q̈ + C q̇ + K q = K_r r + C_r ṙ + f_b F + f_c` exactly.
+    pub fn matrices_in(&self, regime: &[AxleRegime; 2]) -> (Matrices, DVector<f64>) {
         let n = self.dof_count();
         let mut m = DMatrix::zeros(n, n);
         for (j, v) in self.mass_diagonal().iter().take(n).enumerate() {
@@ -307,40 +395,60 @@ impl Vehicle {
         let mut c = DMatrix::zeros(n, n);
         let mut k_road = DMatrix::zeros(n, 2);
         let mut c_road = DMatrix::zeros(n, 2);
+        let mut f_const = DVector::zeros(n);
+        let static_s = self.static_suspension_n();
+        let static_c = self.static_contact_n();
         for (i, axle) in self.axles.iter().enumerate() {
+            let r = regime[i];
             let mut e = DVector::zeros(n);
             e[0] = 1.0;
             e[1] = axle.x_m;
-            let (ks, cs) = (axle.spring_n_m, axle.damper.linear_n_s_m());
+            let (ks, cs, offset) = r.suspension(axle);
             match (self.wheel_dof(i), &axle.tyre) {
                 (Some(w), Some(t)) => {
                     e[w] = -1.0; // e_b − e_w
                     let outer = &e * e.transpose();
                     k += &outer * ks;
                     c += &outer * cs;
-                    k[(w, w)] += t.rate_n_m;
-                    c[(w, w)] += t.damping_n_s_m;
-                    k_road[(w, i)] += t.rate_n_m;
-                    c_road[(w, i)] += t.damping_n_s_m;
+                    // A suspension force f acts as +f on the body point and
+                    // −f on the wheel: generalised force e·f.
+                    if offset != 0.0 {
+                        f_const += &e * offset;
+                    }
+                    if r.on_road {
+                        k[(w, w)] += t.rate_n_m;
+                        c[(w, w)] += t.damping_n_s_m;
+                        k_road[(w, i)] += t.rate_n_m;
+                        c_road[(w, i)] += t.damping_n_s_m;
+                    } else {
+                        // Off the road the tyre's total force is zero.
+                        f_const[w] -= static_c[i];
+                    }
                 }
-                _ => {
+                _ if r.on_road => {
                     let outer = &e * e.transpose();
                     k += &outer * ks;
                     c += &outer * cs;
+                    if offset != 0.0 {
+                        f_const += &e * offset;
+                    }
                     for r in 0..n {
                         k_road[(r, i)] += ks * e[r];
                         c_road[(r, i)] += cs * e[r];
                     }
                 }
+                // A spring resting on the road, lifted: total force zero.
+                _ => f_const -= &e * static_s[i],
             }
         }
-        Matrices {
+        let mats = Matrices {
             m,
             c,
             k,
             k_road,
             c_road,
-        }
+        };
+        (mats, f_const)
     }
 
     /// Generalised force of a vertical force on the body at `x_m`: heave 1,
@@ -354,8 +462,27 @@ impl Vehicle {
 
     /// The first-order form with a body force applied at `force_x_m`.
     pub fn state_space(&self, force_x_m: f64) -> StateSpace {
+        self.state_space_of(&self.matrices(), force_x_m)
+    }
+
+    /// The first-order form of regime `regime` ([`Vehicle::matrices_in`]),
+    /// with its constant term `ẋ ∋ [0; M⁻¹ f_c]`.
+    pub fn state_space_in(
+        &self,
+        regime: &[AxleRegime; 2],
+        force_x_m: f64,
+    ) -> (StateSpace, DVector<f64>) {
+        let (mats, f_const) = self.matrices_in(regime);
         let n = self.dof_count();
-        let mats = self.matrices();
+        let mut c = DVector::zeros(2 * n);
+        for j in 0..n {
+            c[n + j] = f_const[j] / mats.m[(j, j)];
+        }
+        (self.state_space_of(&mats, force_x_m), c)
+    }
+
+    fn state_space_of(&self, mats: &Matrices, force_x_m: f64) -> StateSpace {
+        let n = self.dof_count();
         let minv = DMatrix::from_diagonal(&mats.m.diagonal().map(|v| 1.0 / v));
         let mut a = DMatrix::zeros(2 * n, 2 * n);
         a.view_mut((0, n), (n, n)).fill_with_identity();
