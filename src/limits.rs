@@ -101,6 +101,12 @@ pub const STOP_RATE: Range = r("stop_rate", "N/m", 1.0, 1e10);
 pub const BODY_X: Range = r("seat x, --force X, --force-x", "m", -50.0, 50.0);
 /// A seat's `height` above the CG (a point below it is not modelled).
 pub const SEAT_HEIGHT: Range = r("seat height", "m", 0.0, 20.0);
+/// `seat.suspension.mass` (also below `body.mass`).
+pub const SEAT_MASS: Range = r("seat suspension mass", "kg", 0.1, 1e5);
+/// `seat.suspension.rate`.
+pub const SEAT_RATE: Range = r("seat suspension rate", "N/m", 1.0, 1e9);
+/// `seat.suspension.damping`.
+pub const SEAT_DAMPING: Range = r("seat suspension damping", "N s/m", 0.0, 1e8);
 
 // Road profiles, generated and read.
 /// `distance_m` of a profile row.
@@ -168,6 +174,9 @@ pub const ALL: &[Range] = &[
     STOP_RATE,
     BODY_X,
     SEAT_HEIGHT,
+    SEAT_MASS,
+    SEAT_RATE,
+    SEAT_DAMPING,
     DISTANCE,
     ELEVATION,
     SPACING,

@@ -34,7 +34,7 @@ use crate::stats::durability::{
     write_travel_histograms,
 };
 use crate::vehicle::response::{PredictedRms, SpectralSettings, predicted_rms_with};
-use crate::vehicle::{AXLE_NAMES, FORE_AFT_SUFFIX, Vehicle};
+use crate::vehicle::{AXLE_NAMES, FLOOR_SUFFIX, FORE_AFT_SUFFIX, Vehicle};
 
 /// Everything a run needs besides the vehicle and road.
 #[derive(Debug, Clone)]
@@ -138,8 +138,21 @@ pub struct SeatSummary {
     /// flattened.
     #[serde(flatten)]
     pub measures: Measures,
-    /// The fore-aft measures (Wd), of `−height·θ̈`.
+    /// The fore-aft measures (Wd), of `−height·θ̈`: the body point's, also
+    /// for a suspended seat (its suspension is vertical only).
     pub fore_aft: Measures,
+    /// A suspended seat's floor: the vertical measures of the body point
+    /// beneath it (the seat's own `measures` are at the seat surface).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub floor: Option<Measures>,
+    /// SEAT, the seat effective amplitude transmissibility of a suspended
+    /// seat: `100·aw(seat surface)/aw(floor)`, % (both with the seat's
+    /// weighting; common practice, the ratio ISO 10326-1 seat tests report).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub seat_effective_amplitude_transmissibility_pct: Option<f64>,
+    /// A suspended seat's travel (floor minus seat mass, compression positive).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub suspension_travel: Option<SeatTravel>,
     /// The vibration total value with the comfort factors, m/s²
     /// (ISO 2631-1 6.5; the value the comfort reaction is read from).
     pub total_value: f64,
@@ -151,7 +164,37 @@ pub struct SeatSummary {
     pub guidance: Guidance,
 }
 
+/// Travel of a seat suspension over a run.
+#[derive(Debug, Clone, Serialize)]
+pub struct SeatTravel {
+    /// R.m.s., m.
+    pub rms_m: f64,
+    /// Smallest (largest extension), m.
+    pub min_m: f64,
+    /// Largest (largest compression), m.
+    pub max_m: f64,
+}
+
+/// `100·aw_seat/aw_floor`, % (SEAT); `None` when the floor's aw is 0, so a
+/// non-number is never printed as one.
+pub fn seat_pct(seat: &Measures, floor: &Measures) -> Option<f64> {
+    (floor.aw > 0.0).then(|| 100.0 * seat.aw / floor.aw)
+}
+
 impl SeatSummary {
+    /// A suspended seat's floor measures, SEAT and travel added to its
+    /// evaluation.
+    pub fn with_suspension(mut self, floor: Measures, travel: &Moments) -> Self {
+        self.seat_effective_amplitude_transmissibility_pct = seat_pct(&self.measures, &floor);
+        self.floor = Some(floor);
+        self.suspension_travel = Some(SeatTravel {
+            rms_m: travel.rms(),
+            min_m: travel.min(),
+            max_m: travel.max(),
+        });
+        self
+    }
+
     /// The seat's evaluation from its finished vertical and fore-aft measures.
     pub fn new(
         seat: &crate::vehicle::Seat,
@@ -170,6 +213,9 @@ impl SeatSummary {
             guidance: seat_guidance(&vertical, &fore_aft, exposure_s),
             measures: vertical,
             fore_aft,
+            floor: None,
+            seat_effective_amplitude_transmissibility_pct: None,
+            suspension_travel: None,
             total_value: comfort_m_s2,
             total_value_health: health_m_s2,
         }
@@ -556,6 +602,11 @@ impl Durability {
 struct Evaluators<'h> {
     seat_x_m: Vec<f64>,
     seat_h_m: Vec<f64>,
+    /// Per seat: its coordinate and its slot among the suspended seats
+    /// (`None` for a seat on the floor).
+    seat_dof: Vec<Option<(usize, usize)>>,
+    /// Per seat: the floor meter and travel of a suspended seat.
+    floor: Vec<Option<(Meter, Moments)>>,
     weighting: Weighting,
     rate_hz: f64,
     seats: Vec<Meter>,
@@ -597,6 +648,16 @@ impl<'h> Evaluators<'h> {
             .iter()
             .map(|_| Meter::new(FORE_AFT_WEIGHTING, rate_hz))
             .collect::<Result<Vec<_>, _>>()?;
+        let seat_dof: Vec<_> = (0..vehicle.seats.len())
+            .map(|i| vehicle.seat_dof(i).zip(vehicle.seat_slot(i)))
+            .collect();
+        let floor = seat_dof
+            .iter()
+            .map(|d| {
+                d.map(|_| Meter::new(options.weighting, rate_hz).map(|m| (m, Moments::default())))
+                    .transpose()
+            })
+            .collect::<Result<Vec<_>, _>>()?;
         let clearances = [0, 1].map(|i| {
             vehicle.axles[i].stops.map_or((None, None), |s| {
                 (s.bump_clearance_m, s.rebound_clearance_m)
@@ -613,6 +674,8 @@ impl<'h> Evaluators<'h> {
             clearances,
             seat_x_m: vehicle.seats.iter().map(|s| s.x_m).collect(),
             seat_h_m: vehicle.seats.iter().map(|s| s.height_m).collect(),
+            seat_dof,
+            floor,
             weighting: options.weighting,
             rate_hz,
             seats,
@@ -642,6 +705,11 @@ impl<'h> Evaluators<'h> {
         for m in &mut self.fore_aft {
             *m = Meter::new(FORE_AFT_WEIGHTING, self.rate_hz)
                 .map_err(|e| SolveError::Settings(e.to_string()))?;
+        }
+        for (m, travel) in self.floor.iter_mut().flatten() {
+            *m = Meter::new(self.weighting, self.rate_hz)
+                .map_err(|e| SolveError::Settings(e.to_string()))?;
+            *travel = Moments::default();
         }
         for i in 0..2 {
             self.durability[i] = AxleDurability::new(&self.durability_settings, self.clearances[i])
@@ -695,7 +763,14 @@ impl<'h> Evaluators<'h> {
                 .seats
                 .iter()
                 .zip(self.seats.iter().zip(&self.fore_aft))
-                .map(|(s, (z, x))| SeatSummary::new(s, z.finish(), x.finish(), exposure_s))
+                .zip(&self.floor)
+                .map(|((s, (z, x)), floor)| {
+                    let seat = SeatSummary::new(s, z.finish(), x.finish(), exposure_s);
+                    match floor {
+                        Some((m, travel)) => seat.with_suspension(m.finish(), travel),
+                        None => seat,
+                    }
+                })
                 .collect(),
             axles: Axles {
                 front: axle(0),
@@ -728,7 +803,20 @@ pub fn fore_aft_accel_m_s2(s: &Sample, height_m: f64) -> f64 {
     0.0 - height_m * s.qdd[1]
 }
 
-/// Header of the time-history CSV; units in every column name.
+/// Vertical acceleration of seat `i`'s surface, m/s²: the seat mass's for
+/// a suspended seat (`dof` its coordinate), else the body point's.
+#[inline]
+pub fn seat_accel_m_s2(s: &Sample, x_m: f64, dof: Option<usize>) -> f64 {
+    match dof {
+        Some(d) => s.qdd[d],
+        None => s.body_point_accel_m_s2(x_m),
+    }
+}
+
+/// Header of the time-history CSV; units in every column name. A seat's
+/// `NAME_accel_m_s2` is at the seat surface; a suspended seat adds, after
+/// the tyre loads, `NAME_floor_accel_m_s2` (the body point beneath it) and
+/// `NAME_seat_travel_m` (its suspension travel, compression positive).
 pub fn history_header(vehicle: &Vehicle) -> String {
     let mut h = String::from(
         "time_s,distance_m,road_front_m,road_rear_m,heave_m,pitch_rad,heave_accel_m_s2,pitch_accel_rad_s2",
@@ -748,6 +836,12 @@ pub fn history_header(vehicle: &Vehicle) -> String {
     for a in AXLE_NAMES {
         h.push_str(&format!(",tyre_load_{a}_n"));
     }
+    for (i, _, _) in vehicle.suspended_seats() {
+        let name = &vehicle.seats[i].name;
+        h.push_str(&format!(
+            ",{name}{FLOOR_SUFFIX}_accel_m_s2,{name}_seat_travel_m"
+        ));
+    }
     h
 }
 
@@ -766,8 +860,24 @@ impl SampleSink for Evaluators<'_> {
 
     #[inline]
     fn accept(&mut self, s: &Sample) -> Result<(), SolveError> {
-        for (m, x) in self.seats.iter_mut().zip(&self.seat_x_m) {
-            m.push(s.body_point_accel_m_s2(*x));
+        for ((m, x), d) in self
+            .seats
+            .iter_mut()
+            .zip(&self.seat_x_m)
+            .zip(&self.seat_dof)
+        {
+            m.push(seat_accel_m_s2(s, *x, d.map(|d| d.0)));
+        }
+        for ((f, x), d) in self
+            .floor
+            .iter_mut()
+            .zip(&self.seat_x_m)
+            .zip(&self.seat_dof)
+        {
+            if let (Some((m, travel)), Some((_, slot))) = (f, d) {
+                m.push(s.body_point_accel_m_s2(*x));
+                travel.push(s.elements.seat_travel_m[*slot]);
+            }
         }
         for (m, h) in self.fore_aft.iter_mut().zip(&self.seat_h_m) {
             // A seat at height 0 moves +0 fore and aft: its zeros are
@@ -822,8 +932,8 @@ impl Evaluators<'_> {
             s.qdd[0],
             s.qdd[1]
         );
-        for x in &self.seat_x_m {
-            let _ = write!(line, ",{:e}", s.body_point_accel_m_s2(*x));
+        for (x, d) in self.seat_x_m.iter().zip(&self.seat_dof) {
+            let _ = write!(line, ",{:e}", seat_accel_m_s2(s, *x, d.map(|d| d.0)));
         }
         for height in &self.seat_h_m {
             let _ = write!(line, ",{:e}", fore_aft_accel_m_s2(s, *height));
@@ -836,6 +946,12 @@ impl Evaluators<'_> {
             .chain(&s.elements.contact_n)
         {
             let _ = write!(line, ",{v:e}");
+        }
+        for (x, d) in self.seat_x_m.iter().zip(&self.seat_dof) {
+            if let Some((_, slot)) = d {
+                let floor = s.body_point_accel_m_s2(*x);
+                let _ = write!(line, ",{floor:e},{:e}", s.elements.seat_travel_m[*slot]);
+            }
         }
         line.push('\n');
         h.write_all(line.as_bytes())

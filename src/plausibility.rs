@@ -26,7 +26,7 @@ use serde::Serialize;
 
 use crate::solve::{Sample, SolverKind};
 use crate::vehicle::response::PredictedRms;
-use crate::vehicle::{AXLE_NAMES, MAX_DOF, Stops, Vehicle};
+use crate::vehicle::{AXLE_NAMES, MAX_DOF, MAX_SUSPENDED_SEATS, Stops, Vehicle};
 
 /// How much a finding matters.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
@@ -151,7 +151,8 @@ fn clamped(x: f64, release: f64, static_n: f64, v: impl Fn(f64) -> f64) -> f64 {
 /// Streams the energy balance of a run from its output samples.
 ///
 /// Energy terms (dynamic coordinates, static equilibrium = 0):
-/// `E = ½ q̇ᵀ M q̇ + Σ V_suspension(d) + Σ V_tyre(e)`, with the tyre
+/// `E = ½ q̇ᵀ M q̇ + Σ V_suspension(d) + Σ V_tyre(e) + Σ ½ k_s d_s²` (the last over
+/// the seat suspensions, travel `d_s`), with the tyre
 /// deflection `e = r − z_w`. `dE/dt = P_road + P_force − P_damping`, where
 /// `P_road = Σ F_contact · ṙ`, `P_force = F·(ż + x_F θ̇)`, and the damping
 /// power is the part of each element force that is not elastic times its
@@ -162,6 +163,8 @@ fn clamped(x: f64, release: f64, static_n: f64, v: impl Fn(f64) -> f64) -> f64 {
 pub struct EnergyLedger {
     axles: [AxleEnergy; 2],
     masses_kg: [f64; MAX_DOF],
+    /// Spring rate of each seat suspension (0 for an absent one), N/m.
+    seat_rates_n_m: [f64; MAX_SUSPENDED_SEATS],
     force_x_m: f64,
     /// Tyres kept on the road (the exact solver's linear model).
     bonded: bool,
@@ -202,8 +205,9 @@ impl Sums {
 struct Work {
     /// Road under the front and rear axle, body force.
     input: [(f64, f64); 3],
-    /// Damping part of the suspension and tyre forces of each axle.
-    damping: [(f64, f64); 4],
+    /// Damping part of the suspension and tyre forces of each axle, then
+    /// of each seat suspension.
+    damping: [(f64, f64); 4 + MAX_SUSPENDED_SEATS],
 }
 
 impl Work {
@@ -338,6 +342,13 @@ impl EnergyLedger {
         EnergyLedger {
             axles,
             masses_kg: vehicle.mass_diagonal(),
+            seat_rates_n_m: {
+                let mut k = [0.0; MAX_SUSPENDED_SEATS];
+                for (slot, (_, p, _)) in k.iter_mut().zip(vehicle.suspended_seats()) {
+                    *slot = p.rate_n_m;
+                }
+                k
+            },
             force_x_m,
             bonded: false,
             sums: Sums::default(),
@@ -396,6 +407,14 @@ impl EnergyLedger {
                     stored += v;
                     w.damping[2 * i] = (el.suspension_n[i] - elastic, d);
                 }
+            }
+        }
+        // Seat suspensions: linear, always in contact.
+        for (k, &ks) in self.seat_rates_n_m.iter().enumerate() {
+            if ks > 0.0 {
+                let d = el.seat_travel_m[k];
+                stored += 0.5 * ks * d * d;
+                w.damping[4 + k] = (el.seat_force_n[k] - ks * d, d);
             }
         }
         (stored, w)

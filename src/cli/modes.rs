@@ -78,9 +78,13 @@ fn modes_table(a: &ModalAnalysis) -> Table {
         } else {
             sig(m.damped_frequency_hz, 4)
         };
+        let kind = match &m.seat {
+            Some(name) => format!("{} ({name})", m.kind),
+            None => m.kind.to_string(),
+        };
         t.row([
             (i + 1).to_string(),
-            m.kind.to_string(),
+            kind,
             sig(m.undamped_frequency_hz, 4),
             damped,
             sig(m.damping_ratio, 3),

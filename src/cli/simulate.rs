@@ -361,6 +361,9 @@ fn render(o: &Output<'_>) -> String {
     if s.seats.iter().any(|x| x.height_m > 0.0) {
         tables.insert(1, fore_aft_table(s));
     }
+    if s.seats.iter().any(|x| x.floor.is_some()) {
+        tables.insert(1, suspended_seats_table(s));
+    }
     tables.extend(s.predicted.as_ref().map(|p| prediction_table(p, s)));
     tables.extend(o.harmonic_force.as_ref().map(harmonic_table));
     for t in &tables {
@@ -426,6 +429,38 @@ fn seats_table(s: &RunSummary) -> Table {
         ]);
     }
     seats
+}
+
+/// Suspended seats: seat-surface against floor aw, SEAT and travel.
+fn suspended_seats_table(s: &RunSummary) -> Table {
+    let mut t = Table::new("Suspended seats: seat surface against the floor beneath it (SEAT)")
+        .with_header([
+            "seat",
+            "floor aw m/s²",
+            "seat aw m/s²",
+            "SEAT %",
+            "travel rms mm",
+            "min mm",
+            "max mm",
+        ]);
+    for seat in &s.seats {
+        let (Some(floor), Some(travel)) = (&seat.floor, &seat.suspension_travel) else {
+            continue;
+        };
+        t.row([
+            seat.name.clone(),
+            sig(floor.aw, 3),
+            sig(seat.measures.aw, 3),
+            seat.seat_effective_amplitude_transmissibility_pct
+                .map_or("-".to_string(), |p| sig(p, 3)),
+            sig(1e3 * travel.rms_m, 3),
+            sig(1e3 * travel.min_m, 3),
+            sig(1e3 * travel.max_m, 3),
+        ]);
+    }
+    t.note("SEAT = 100·aw(seat surface)/aw(floor), both weighted as the seats (common practice; the ratio ISO 10326-1 seat tests report). Below 100 % the seat isolates.");
+    t.note(HEALTH_CAUTION);
+    t
 }
 
 /// ISO 2631-1 fore-aft measures (from pitch) and the total value per seat.

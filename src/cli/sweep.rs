@@ -52,7 +52,8 @@ pub struct Args {
     /// slowest). KEY: body.mass, body.pitch_inertia, front.KEY or rear.KEY
     /// (spring_rate, damping, damping_bump, damping_rebound, cg_distance,
     /// unsprung_mass, tyre_rate, tyre_damping, bump_clearance,
-    /// rebound_clearance, stop_rate), seat.NAME.KEY or seat.N.KEY (x, height). VALUES as for
+    /// rebound_clearance, stop_rate), seat.NAME.KEY or seat.N.KEY (x, height, and suspension.mass,
+    /// suspension.rate, suspension.damping of a suspended seat). VALUES as for
     /// --speeds, in the file's SI units: start:end:step or a comma list; *F
     /// is F times the file's value (*0.8:*1.2:*0.1 is 80 % to 120 % in 10 %
     /// steps). Each row gets a column named KEY after `vehicle`.

@@ -5,8 +5,9 @@
 //! A key is the dotted path of a number in the vehicle file:
 //! `body.mass`, `body.pitch_inertia`, `front.KEY` / `rear.KEY` for every
 //! numeric axle key ([`AXLE_KEYS`]), and `seat.NAME.KEY` or `seat.N.KEY`
-//! ([`SEAT_KEYS`]: `x`, `height`) for a seat by its name or its 1-based
-//! position in the file.
+//! ([`SEAT_KEYS`]: `x`, `height`, and `suspension.mass`, `suspension.rate`,
+//! `suspension.damping` of a seat with a `[seat.suspension]`) for a seat by
+//! its name or its 1-based position in the file.
 //!
 //! # Values
 //! As for `--speeds`: `start:end:step` (inclusive, `start + i·step`) or a
@@ -48,8 +49,15 @@ pub const AXLE_KEYS: [&str; 11] = [
     "stop_rate",
 ];
 
-/// The numeric keys of a `[[seat]]`.
-pub const SEAT_KEYS: [&str; 2] = ["x", "height"];
+/// The numeric keys of a `[[seat]]` (those with a dot are in its
+/// `[seat.suspension]`).
+pub const SEAT_KEYS: [&str; 5] = [
+    "x",
+    "height",
+    "suspension.mass",
+    "suspension.rate",
+    "suspension.damping",
+];
 
 /// Most vehicle variants one study may make (a typo guard; sweeps also
 /// refuse grids beyond [`crate::batch::grid::MAX_CASES`] cases).
@@ -87,10 +95,13 @@ fn key_list() -> String {
     )
 }
 
-/// `NAME.KEY` split at the last dot, with KEY one of [`SEAT_KEYS`].
+/// `NAME.KEY` split before KEY, with KEY one of [`SEAT_KEYS`] (which may
+/// itself hold a dot: `driver.suspension.rate`).
 fn seat_key(rest: &str) -> Option<(&str, &'static str)> {
-    let (seat, k) = rest.rsplit_once('.')?;
-    SEAT_KEYS.iter().find(|s| **s == k).map(|k| (seat, *k))
+    SEAT_KEYS.iter().find_map(|k| {
+        let seat = rest.strip_suffix(k)?.strip_suffix('.')?;
+        Some((seat, *k))
+    })
 }
 
 impl Key {
@@ -423,12 +434,16 @@ impl VehicleDocument {
             Target::Seat(_, k) => {
                 let i = seat?;
                 let item = root.get_mut("seat")?;
-                if item.is_array_of_tables() {
-                    let aot = item.as_array_of_tables_mut()?;
-                    return Some((aot.get_mut(i)? as &mut dyn toml_edit::TableLike, k));
+                let table: &mut dyn toml_edit::TableLike = if item.is_array_of_tables() {
+                    item.as_array_of_tables_mut()?.get_mut(i)?
+                } else {
+                    item.as_array_mut()?.get_mut(i)?.as_inline_table_mut()?
+                };
+                match k.split_once('.') {
+                    // A suspension key: only in a seat that has a suspension.
+                    Some((sub, name)) => Some((table.get_mut(sub)?.as_table_like_mut()?, name)),
+                    None => Some((table, k)),
                 }
-                let inline = item.as_array_mut()?.get_mut(i)?.as_inline_table_mut()?;
-                Some((inline as &mut dyn toml_edit::TableLike, k))
             }
         }
     }
@@ -462,7 +477,7 @@ impl VehicleDocument {
         for (key, x) in assignments {
             let seat = self.seat_of(key)?;
             let (table, name) = Self::slot(&mut doc, &key.target, seat).ok_or_else(|| {
-                format!("the file has no table for `{key}` (it needs [body], [front], [rear] and [[seat]] as tables)")
+                format!("the file has no table for `{key}` (it needs [body], [front], [rear] and [[seat]] as tables, and a [seat.suspension] for a seat's suspension keys)")
             })?;
             let mut value = Value::from(*x);
             match table.get_mut(name) {

@@ -197,13 +197,15 @@ pub(super) fn run(
         }
         _ => discretise(vehicle, excitation.force_x_m(), dt),
     };
-    // One monomorphised loop per model size (2, 3 or 4 degrees of freedom),
+    // One monomorphised loop per model size (2 to MAX_DOF degrees of freedom),
     // so every size below is a constant and the loops unroll.
     let n = vehicle.dof_count();
     let out = match n {
         2 => Step::<4>::new(&d).map(|s| run_fixed(vehicle, excitation, plan, sink, &s)),
         3 => Step::<6>::new(&d).map(|s| run_fixed(vehicle, excitation, plan, sink, &s)),
         4 => Step::<8>::new(&d).map(|s| run_fixed(vehicle, excitation, plan, sink, &s)),
+        5 => Step::<10>::new(&d).map(|s| run_fixed(vehicle, excitation, plan, sink, &s)),
+        6 => Step::<12>::new(&d).map(|s| run_fixed(vehicle, excitation, plan, sink, &s)),
         _ => None,
     };
     out.unwrap_or_else(|| {

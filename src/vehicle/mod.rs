@@ -30,15 +30,22 @@ pub mod modal;
 pub mod response;
 mod spec;
 
-pub use spec::{FORE_AFT_SUFFIX, VehicleError, parse_vehicle, read_vehicle};
+pub use spec::{FLOOR_SUFFIX, FORE_AFT_SUFFIX, VehicleError, parse_vehicle, read_vehicle};
 
 use nalgebra::{DMatrix, DVector};
 
 /// Standard gravity, m/s² (ISO 80000-3).
 pub const GRAVITY_M_S2: f64 = 9.80665;
 
-/// Most degrees of freedom a vehicle can have (heave, pitch, two wheels).
-pub const MAX_DOF: usize = 4;
+/// Most degrees of freedom a vehicle can have (heave, pitch, two wheels,
+/// [`MAX_SUSPENDED_SEATS`] suspended seats).
+pub const MAX_DOF: usize = 4 + MAX_SUSPENDED_SEATS;
+
+/// Most suspended seats a vehicle can have (one degree of freedom each).
+pub const MAX_SUSPENDED_SEATS: usize = 2;
+
+/// Names of the suspended seats' coordinates in `q`, in seat order.
+pub const SEAT_DOF_NAMES: [&str; MAX_SUSPENDED_SEATS] = ["suspended_seat_1", "suspended_seat_2"];
 
 /// Front (index 0) and rear (index 1).
 pub const AXLE_NAMES: [&str; 2] = ["front", "rear"];
@@ -226,6 +233,22 @@ pub struct Seat {
     pub height_m: f64,
     /// Label for tables and history columns.
     pub name: String,
+    /// The seat's own suspension, if it has one: the seat surface then
+    /// moves on it, not with the body point (the floor).
+    pub suspension: Option<SeatSuspension>,
+}
+
+/// A suspended seat: the moving mass (occupant and seat top together) on a
+/// linear spring and damper standing on the body point `z + x·θ` beneath it.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SeatSuspension {
+    /// Moving mass (the part of the occupant and seat the suspension
+    /// carries), kg; carried in addition to `body.mass`.
+    pub mass_kg: f64,
+    /// Spring rate, N/m.
+    pub rate_n_m: f64,
+    /// Damping, N s/m.
+    pub damping_n_s_m: f64,
 }
 
 /// The linear model's matrices, `M q̈ + C q̇ + K q = K_r r + C_r ṙ + f_b F`.
@@ -286,6 +309,13 @@ pub struct ElementState {
     pub contact_n: [f64; 2],
     /// False while the tyre (or the spring, without a tyre) is off the road.
     pub in_contact: [bool; 2],
+    /// Travel of each suspended seat (in the order of [`SEAT_DOF_NAMES`]),
+    /// compression positive: floor point minus seat mass, m (dynamic).
+    pub seat_travel_m: [f64; MAX_SUSPENDED_SEATS],
+    /// Its rate, m/s.
+    pub seat_travel_rate_m_s: [f64; MAX_SUSPENDED_SEATS],
+    /// Force of each seat suspension, compression positive, N (dynamic).
+    pub seat_force_n: [f64; MAX_SUSPENDED_SEATS],
 }
 
 impl Vehicle {
@@ -295,9 +325,44 @@ impl Vehicle {
         self.axles[0].x_m - self.axles[1].x_m
     }
 
-    /// Degrees of freedom: 2 (heave, pitch) plus one per unsprung mass.
+    /// Degrees of freedom: 2 (heave, pitch) plus one per unsprung mass and
+    /// one per suspended seat.
     pub fn dof_count(&self) -> usize {
-        2 + self.axles.iter().filter(|a| a.tyre.is_some()).count()
+        self.wheel_count() + 2 + self.suspended_seat_count()
+    }
+
+    fn wheel_count(&self) -> usize {
+        self.axles.iter().filter(|a| a.tyre.is_some()).count()
+    }
+
+    /// Number of suspended seats.
+    pub fn suspended_seat_count(&self) -> usize {
+        self.seats.iter().filter(|s| s.suspension.is_some()).count()
+    }
+
+    /// The suspended seats in order: (seat index, suspension, coordinate
+    /// index in `q`). Coordinates follow the wheels, one per suspended seat.
+    pub fn suspended_seats(&self) -> impl Iterator<Item = (usize, &SeatSuspension, usize)> + '_ {
+        let first = 2 + self.wheel_count();
+        self.seats
+            .iter()
+            .enumerate()
+            .filter_map(|(i, s)| s.suspension.as_ref().map(|p| (i, p)))
+            .enumerate()
+            .map(move |(k, (i, p))| (i, p, first + k))
+    }
+
+    /// Index of seat `s`'s coordinate in `q`, if the seat is suspended.
+    pub fn seat_dof(&self, s: usize) -> Option<usize> {
+        self.suspended_seats()
+            .find(|(i, _, _)| *i == s)
+            .map(|(_, _, d)| d)
+    }
+
+    /// Rank of seat `s` among the suspended seats (its slot in
+    /// [`ElementState::seat_travel_m`]), if it is suspended.
+    pub fn seat_slot(&self, s: usize) -> Option<usize> {
+        self.suspended_seats().position(|(i, _, _)| i == s)
     }
 
     /// Index of axle `i`'s wheel coordinate in `q`, if it has one.
@@ -316,10 +381,12 @@ impl Vehicle {
         if self.axles[1].tyre.is_some() {
             v.push("rear_wheel");
         }
+        v.extend(SEAT_DOF_NAMES.iter().take(self.suspended_seat_count()));
         v
     }
 
-    /// True when every element is linear (symmetric dampers, no stops).
+    /// True when every element is linear (symmetric dampers, no stops; seat
+    /// suspensions are linear).
     /// Tyre lift-off can still occur on a rough road; the solver watches for it.
     pub fn is_linear(&self) -> bool {
         self.axles
@@ -338,11 +405,20 @@ impl Vehicle {
     }
 
     /// Static suspension force of each axle, N: the body weight shared by
-    /// moment balance about the CG (`W·b/L` front, `W·a/L` rear).
+    /// moment balance about the CG (`W·b/L` front, `W·a/L` rear), plus the
+    /// weight `W_s` of each suspended seat's moving mass at `x_s`
+    /// (`W_s·(x_s − x_r)/L` front, `W_s·(x_f − x_s)/L` rear).
     pub fn static_suspension_n(&self) -> [f64; 2] {
         let w = self.body_mass_kg * GRAVITY_M_S2;
         let l = self.wheelbase_m();
-        [w * -self.axles[1].x_m / l, w * self.axles[0].x_m / l]
+        let mut out = [w * -self.axles[1].x_m / l, w * self.axles[0].x_m / l];
+        for (i, p, _) in self.suspended_seats() {
+            let ws = p.mass_kg * GRAVITY_M_S2;
+            let x = self.seats[i].x_m;
+            out[0] += ws * (x - self.axles[1].x_m) / l;
+            out[1] += ws * (self.axles[0].x_m - x) / l;
+        }
+        out
     }
 
     /// Static road contact force of each axle, N (suspension plus unsprung weight).
@@ -367,6 +443,9 @@ impl Vehicle {
                 m[j] = t.unsprung_mass_kg;
             }
         }
+        for (_, p, j) in self.suspended_seats() {
+            m[j] = p.mass_kg;
+        }
         m
     }
 
@@ -375,7 +454,9 @@ impl Vehicle {
     /// A suspension between body point `e_b = [1, x_i, 0…]` and wheel `e_w`
     /// adds `k (e_b − e_w)(e_b − e_w)ᵀ`; a tyre adds `k_t e_w e_wᵀ` and
     /// `k_t e_w` to the road input; an axle without a wheel adds `k e_b e_bᵀ`
-    /// and `k e_b` to the road input (same for the dampers).
+    /// and `k e_b` to the road input (same for the dampers). A suspended
+    /// seat between the floor point `e_b = [1, x_s, 0…]` and its mass `e_s`
+    /// adds `k_s (e_b − e_s)(e_b − e_s)ᵀ` and `c_s (e_b − e_s)(e_b − e_s)ᵀ`.
     pub fn matrices(&self) -> Matrices {
         self.matrices_in(&[AxleRegime::LINEAR; 2]).0
     }
@@ -440,6 +521,15 @@ impl Vehicle {
                 // A spring resting on the road, lifted: total force zero.
                 _ => f_const -= &e * static_s[i],
             }
+        }
+        for (s, p, j) in self.suspended_seats() {
+            let mut e = DVector::zeros(n);
+            e[0] = 1.0;
+            e[1] = self.seats[s].x_m;
+            e[j] = -1.0; // e_b − e_s
+            let outer = &e * e.transpose();
+            k += &outer * p.rate_n_m;
+            c += &outer * p.damping_n_s_m;
         }
         let mats = Matrices {
             m,
@@ -549,7 +639,21 @@ impl Vehicle {
                 .mass_diagonal()
                 .map(|m| if m > 0.0 { 1.0 / m } else { 0.0 }),
             wheel: [self.wheel_dof(0), self.wheel_dof(1)],
+            seats: self.seat_elements(),
         }
+    }
+
+    /// The suspended seats as the element model sees them.
+    fn seat_elements(&self) -> [Option<SeatElement>; MAX_SUSPENDED_SEATS] {
+        let mut out = [None; MAX_SUSPENDED_SEATS];
+        for ((i, p, dof), slot) in self.suspended_seats().zip(out.iter_mut()) {
+            *slot = Some(SeatElement {
+                x_m: self.seats[i].x_m,
+                suspension: *p,
+                dof,
+            });
+        }
+        out
     }
 }
 
@@ -563,6 +667,15 @@ pub struct ElementModel<'a> {
     static_contact_n: [f64; 2],
     inv_mass: [f64; MAX_DOF],
     wheel: [Option<usize>; 2],
+    seats: [Option<SeatElement>; MAX_SUSPENDED_SEATS],
+}
+
+/// A suspended seat in the element model: its floor point and coordinate.
+#[derive(Debug, Clone, Copy)]
+struct SeatElement {
+    x_m: f64,
+    suspension: SeatSuspension,
+    dof: usize,
 }
 
 impl ElementModel<'_> {
@@ -571,18 +684,21 @@ impl ElementModel<'_> {
         self.vehicle
     }
 
-    /// See [`Vehicle::evaluate_with`].
+    /// See [`Vehicle::evaluate_with`]. `D` is the length of the state
+    /// arrays (at least the vehicle's degrees of freedom, at most
+    /// [`MAX_DOF`]; coordinates at or past `D` are left out), so a solver
+    /// can size its state to the vehicle.
     #[inline(always)]
     #[allow(clippy::too_many_arguments)]
-    pub fn evaluate_with(
+    pub fn evaluate_with<const D: usize>(
         &self,
-        q: &[f64; MAX_DOF],
-        qd: &[f64; MAX_DOF],
+        q: &[f64; D],
+        qd: &[f64; D],
         road: &RoadState,
         force_n: f64,
         force_x_m: f64,
         contact_model: Contact,
-        qdd: &mut [f64; MAX_DOF],
+        qdd: &mut [f64; D],
     ) -> ElementState {
         let lift_off = contact_model == Contact::LiftOff;
         let static_s = &self.static_suspension_n;
@@ -591,11 +707,11 @@ impl ElementModel<'_> {
         let mut out = ElementState::default();
         let mut body_force = force_n;
         let mut body_moment = force_n * force_x_m;
-        *qdd = [0.0; MAX_DOF];
+        *qdd = [0.0; D];
         for (i, axle) in self.vehicle.axles.iter().enumerate() {
             let zb = q[0] + axle.x_m * q[1];
             let vb = qd[0] + axle.x_m * qd[1];
-            let wheel = self.wheel[i].filter(|&w| w < MAX_DOF);
+            let wheel = self.wheel[i].filter(|&w| w < D);
             let (zl, vl) = match wheel {
                 Some(w) => (q[w], qd[w]),
                 None => (road.elevation_m[i], road.rate_m_s[i]),
@@ -638,6 +754,22 @@ impl ElementModel<'_> {
             out.in_contact[i] = contact;
             body_force += fs;
             body_moment += axle.x_m * fs;
+        }
+        // Seat suspensions: the force pushes the seat mass up and the floor
+        // (the body point beneath it) down.
+        for (k, seat) in self.seats.iter().enumerate() {
+            let Some(e) = seat.filter(|e| e.dof < D) else {
+                continue;
+            };
+            let travel = q[0] + e.x_m * q[1] - q[e.dof];
+            let rate = qd[0] + e.x_m * qd[1] - qd[e.dof];
+            let f = e.suspension.rate_n_m * travel + e.suspension.damping_n_s_m * rate;
+            qdd[e.dof] = f * inv_mass[e.dof];
+            body_force -= f;
+            body_moment -= e.x_m * f;
+            out.seat_travel_m[k] = travel;
+            out.seat_travel_rate_m_s[k] = rate;
+            out.seat_force_n[k] = f;
         }
         qdd[0] = body_force * inv_mass[0];
         qdd[1] = body_moment * inv_mass[1];

@@ -25,7 +25,7 @@
 //! `λ` the eigenvector of `(λ²M + λC + K) φ = 0` is found by inverse
 //! iteration, and the assignment that maximises the sum of the mass-weighted
 //! modal assurance criterion `|φ_uᵀ M φ_d|² / ((φ_uᵀ M φ_u)(φ_dᴴ M φ_d))`
-//! over all modes is chosen (exhaustive search; at most four modes).
+//! over all modes is chosen (exhaustive search; at most six modes).
 //!
 //! An overdamped mode has two real roots `λ₁, λ₂ < 0` instead of a pair.
 //! It is matched with the pair of real roots that fits its shape best and
@@ -35,7 +35,8 @@
 //! for a conjugate pair. The real roots are listed in `real_roots`.
 //!
 //! # Labels and nodes
-//! Modes are labelled bounce, pitch, front wheel hop and rear wheel hop by
+//! Modes are labelled bounce, pitch, front wheel hop, rear wheel hop and
+//! seat 1/2 bounce (a suspended seat's mass; the JSON names the seat) by
 //! dominant kinetic energy: the largest entry of the mode × coordinate
 //! energy-share table is assigned first, its row and column removed, and so
 //! on, so each label is used once. A body mode's node is the body point that
@@ -101,8 +102,13 @@ pub struct ModalAnalysis {
 /// One mode.
 #[derive(Debug, Clone, Serialize)]
 pub struct Mode {
-    /// `bounce`, `pitch`, `front wheel hop` or `rear wheel hop`.
+    /// `bounce`, `pitch`, `front wheel hop`, `rear wheel hop`, or
+    /// `seat 1 bounce`/`seat 2 bounce` for a suspended seat's mode
+    /// (coordinate `suspended_seat_1`/`_2`).
     pub kind: &'static str,
+    /// The name of the suspended seat a seat mode belongs to.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub seat: Option<String>,
     /// From `K φ = ω² M φ`, Hz.
     pub undamped_frequency_hz: f64,
     /// `|Im λ|/2π` of the matched damped root, Hz (0 when overdamped).
@@ -432,6 +438,8 @@ fn labels(energy: &[Vec<f64>], dofs: &[&'static str]) -> Vec<&'static str> {
             "heave" => "bounce",
             "pitch" => "pitch",
             "front_wheel" => "front wheel hop",
+            "suspended_seat_1" => "seat 1 bounce",
+            "suspended_seat_2" => "seat 2 bounce",
             _ => "rear wheel hop",
         };
     }
@@ -530,6 +538,7 @@ pub fn modes(v: &Vehicle) -> ModalAnalysis {
             };
             Mode {
                 kind: kinds[i],
+                seat: seat_of(v, kinds[i]),
                 undamped_frequency_hz: w2[i].max(0.0).sqrt() / (2.0 * std::f64::consts::PI),
                 damped_frequency_hz: root.damped_hz,
                 damping_ratio: root.zeta,
@@ -543,6 +552,16 @@ pub fn modes(v: &Vehicle) -> ModalAnalysis {
         })
         .collect();
     analysis(v, dofs, out)
+}
+
+/// The name of the suspended seat whose mode `kind` is.
+fn seat_of(v: &Vehicle, kind: &str) -> Option<String> {
+    let k = ["seat 1 bounce", "seat 2 bounce"]
+        .iter()
+        .position(|s| *s == kind)?;
+    v.suspended_seats()
+        .nth(k)
+        .map(|(i, _, _)| v.seats[i].name.clone())
 }
 
 /// Each mode's kinetic energy per coordinate, `mⱼ uⱼ²`, as fractions of its total.

@@ -18,7 +18,10 @@
 //! wheel, or road without a wheel, minus body point) and the dynamic tyre
 //! load `k_t(r − z_w) + c_t(ṙ − ż_w)` (for an axle without an unsprung mass
 //! the suspension force on the road, as in the time-domain model); then body
-//! heave, pitch, heave acceleration and pitch acceleration. Road responses
+//! heave, pitch, heave acceleration and pitch acceleration; then, per
+//! suspended seat, the floor acceleration `z̈ + x·θ̈` beneath it and its
+//! suspension travel `z + x·θ − z_s` (a suspended seat's own channel is the
+//! seat mass's acceleration `z̈_s`, the seat surface). Road responses
 //! are per metre of elevation, force responses per newton.
 //!
 //! # Spectral prediction
@@ -71,8 +74,13 @@ const TWO_PI: f64 = 2.0 * std::f64::consts::PI;
 /// What a channel measures.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Quantity {
-    /// Seat `i`'s vertical acceleration `z̈ + x·θ̈`, m/s².
+    /// Seat `i`'s vertical acceleration at the seat surface, m/s²: `z̈ + x·θ̈`,
+    /// or the seat mass's `z̈_s` for a suspended seat.
     SeatAccel(usize),
+    /// Suspended seat `i`'s floor acceleration `z̈ + x·θ̈`, m/s².
+    FloorAccel(usize),
+    /// Suspended seat `i`'s travel `z + x·θ − z_s`, compression positive, m.
+    SeatTravel(usize),
     /// Axle travel, compression positive, m.
     Travel(usize),
     /// Dynamic tyre load (road contact force), compression positive, N.
@@ -141,6 +149,21 @@ pub fn channels(v: &Vehicle) -> Vec<Channel> {
         "rad_s2",
         Quantity::PitchAccel,
     ));
+    for (i, _, _) in v.suspended_seats() {
+        let name = &v.seats[i].name;
+        out.push(ch(
+            format!("{name}{}_accel", super::FLOOR_SUFFIX),
+            "m/s^2",
+            "m_s2",
+            Quantity::FloorAccel(i),
+        ));
+        out.push(ch(
+            format!("{name}_seat_travel"),
+            "m",
+            "m",
+            Quantity::SeatTravel(i),
+        ));
+    }
     out
 }
 
@@ -181,7 +204,16 @@ impl<'a> Model<'a> {
         self.channels
             .iter()
             .map(|c| match c.quantity {
-                Quantity::SeatAccel(s) => body_point(self.v.seats[s].x_m) * s2,
+                Quantity::SeatAccel(s) => match self.v.seat_dof(s) {
+                    Some(d) => q[d] * s2,
+                    None => body_point(self.v.seats[s].x_m) * s2,
+                },
+                Quantity::FloorAccel(s) => body_point(self.v.seats[s].x_m) * s2,
+                Quantity::SeatTravel(s) => {
+                    self.v.seat_dof(s).map_or(C64::new(f64::NAN, 0.0), |d| {
+                        body_point(self.v.seats[s].x_m) - q[d]
+                    })
+                }
                 Quantity::Travel(i) => travel(i),
                 Quantity::TyreLoad(i) => {
                     let axle = &self.v.axles[i];
@@ -505,6 +537,12 @@ pub struct SeatRms {
     /// Wd-weighted r.m.s. of the fore-aft acceleration `−height·θ̈`, m/s²
     /// (0 for a seat at the CG's height).
     pub fore_aft_aw: f64,
+    /// A suspended seat's floor aw (same weighting), m/s².
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub floor_aw: Option<f64>,
+    /// A suspended seat's SEAT, `100·aw/floor_aw`, %.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub seat_effective_amplitude_transmissibility_pct: Option<f64>,
 }
 
 /// Predicted r.m.s. of one axle.
@@ -655,6 +693,16 @@ pub fn predicted_rms_with(
     let mut ms_w = vec![0.0; nseat];
     // Wd-weighted mean square of θ̈; a seat's fore-aft value is height² times it.
     let mut ms_pitch_wd = 0.0;
+    // Weighted floor mean squares of the suspended seats.
+    let mut ms_floor_w = vec![0.0; nseat];
+    let floor_ch: Vec<Option<usize>> = (0..nseat)
+        .map(|s| {
+            model
+                .channels
+                .iter()
+                .position(|c| c.quantity == Quantity::FloorAccel(s))
+        })
+        .collect();
     let pitch_ch = model
         .channels
         .iter()
@@ -676,6 +724,11 @@ pub fn predicted_rms_with(
             let wk2 = weighting.magnitude(f).powi(2);
             for (s, acc) in ms_w.iter_mut().enumerate() {
                 *acc += w * h[s].norm_sqr() * gz * wk2;
+            }
+            for (s, acc) in ms_floor_w.iter_mut().enumerate() {
+                if let Some(c) = floor_ch[s] {
+                    *acc += w * h[c].norm_sqr() * gz * wk2;
+                }
             }
             if let Some(p) = pitch_ch {
                 let wd2 = crate::comfort::FORE_AFT_WEIGHTING.magnitude(f).powi(2);
@@ -700,6 +753,10 @@ pub fn predicted_rms_with(
             accel_rms: rms(Quantity::SeatAccel(i)),
             aw: ms_w[i].sqrt(),
             fore_aft_aw: s.height_m * ms_pitch_wd.sqrt(),
+            floor_aw: floor_ch[i].map(|_| ms_floor_w[i].sqrt()),
+            seat_effective_amplitude_transmissibility_pct: floor_ch[i]
+                .filter(|_| ms_floor_w[i] > 0.0)
+                .map(|_| 100.0 * (ms_w[i] / ms_floor_w[i]).sqrt()),
         })
         .collect();
     let axle = |i| AxleRms {

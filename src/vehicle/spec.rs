@@ -8,12 +8,16 @@ use std::path::{Path, PathBuf};
 use serde::Deserialize;
 use thiserror::Error;
 
-use super::{Axle, Damper, Seat, Stops, Tyre, Vehicle};
+use super::{Axle, Damper, MAX_SUSPENDED_SEATS, Seat, SeatSuspension, Stops, Tyre, Vehicle};
 use crate::limits::{self, Range};
 
 /// What a seat's fore-aft history column adds to its name (before the
 /// unit `_accel_m_s2`).
 pub const FORE_AFT_SUFFIX: &str = "_fore_aft";
+
+/// What a suspended seat's floor history column adds to its name (before
+/// the unit `_accel_m_s2`).
+pub const FLOOR_SUFFIX: &str = "_floor";
 
 /// Longest vehicle or seat name, characters.
 pub const MAX_NAME_CHARS: usize = 120;
@@ -99,6 +103,15 @@ struct RawSeat {
     x: f64,
     height: Option<f64>,
     name: Option<String>,
+    suspension: Option<RawSeatSuspension>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawSeatSuspension {
+    mass: Option<f64>,
+    rate: Option<f64>,
+    damping: Option<f64>,
 }
 
 /// Largest vehicle file read, bytes: a real one is well under 10 kB, and
@@ -150,7 +163,7 @@ pub fn parse_vehicle(text: &str, path: &Path) -> Result<Vehicle, VehicleError> {
     )?;
     let front = v.axle("front", &raw.front, 1.0)?;
     let rear = v.axle("rear", &raw.rear, -1.0)?;
-    let seats = v.seats(&raw.seat)?;
+    let seats = v.seats(&raw.seat, body_mass_kg)?;
     let name = match &raw.name {
         Some(n) => v.name("name", n, false)?,
         None => path
@@ -230,7 +243,7 @@ impl Validator<'_> {
 
     /// The `[[seat]]` entries: at least one, each name its own (and not
     /// clashing with another seat's history columns).
-    fn seats(&self, raw: &[RawSeat]) -> Result<Vec<Seat>, VehicleError> {
+    fn seats(&self, raw: &[RawSeat], body_mass_kg: f64) -> Result<Vec<Seat>, VehicleError> {
         if raw.is_empty() {
             return Err(self.invalid(
                 "seat",
@@ -275,13 +288,90 @@ impl Validator<'_> {
                     ),
                 ));
             }
+            let suspension = s
+                .suspension
+                .as_ref()
+                .map(|p| self.seat_suspension(i, p, body_mass_kg))
+                .transpose()?;
+            if suspension.is_some()
+                && seats.iter().filter(|s| s.suspension.is_some()).count() >= MAX_SUSPENDED_SEATS
+            {
+                return Err(self.invalid(
+                    &format!("seat[{i}].suspension"),
+                    format!(
+                        "is one too many: at most {MAX_SUSPENDED_SEATS} seats can have a suspension (one degree of freedom each)"
+                    ),
+                ));
+            }
             seats.push(Seat {
                 x_m,
                 height_m,
                 name,
+                suspension,
             });
         }
+        self.floor_columns_apart(&seats)?;
         Ok(seats)
+    }
+
+    /// `[seat.suspension]` of seat `i`: mass and rate required, damping
+    /// 0 unless given; the moving mass lighter than the body.
+    fn seat_suspension(
+        &self,
+        i: usize,
+        raw: &RawSeatSuspension,
+        body_mass_kg: f64,
+    ) -> Result<SeatSuspension, VehicleError> {
+        let key = |k: &str| format!("seat[{i}].suspension.{k}");
+        let required = |k: &str, v: Option<f64>, what: &str| {
+            v.ok_or_else(|| {
+                self.invalid(
+                    &key(k),
+                    format!("is missing: a seat suspension needs its {what}"),
+                )
+            })
+        };
+        let mass = required("mass", raw.mass, "moving mass (kg, occupant and seat top)")?;
+        let rate = required("rate", raw.rate, "spring rate (N/m)")?;
+        let mass_kg = self.within(&key("mass"), &limits::SEAT_MASS, mass)?;
+        if mass_kg >= body_mass_kg {
+            return Err(self.invalid(
+                &key("mass"),
+                format!(
+                    "({mass_kg} kg) must be less than body.mass ({body_mass_kg} kg): the seat rides on the body"
+                ),
+            ));
+        }
+        Ok(SeatSuspension {
+            mass_kg,
+            rate_n_m: self.within(&key("rate"), &limits::SEAT_RATE, rate)?,
+            damping_n_s_m: self.within(
+                &key("damping"),
+                &limits::SEAT_DAMPING,
+                raw.damping.unwrap_or(0.0),
+            )?,
+        })
+    }
+
+    /// A suspended seat's floor column `NAME_floor_accel_m_s2` must not be
+    /// another seat's vertical column.
+    fn floor_columns_apart(&self, seats: &[Seat]) -> Result<(), VehicleError> {
+        for (i, s) in seats.iter().enumerate() {
+            if s.suspension.is_none() {
+                continue;
+            }
+            let floor = format!("{}{FLOOR_SUFFIX}", s.name);
+            if let Some(j) = seats.iter().position(|o| o.name == floor) {
+                return Err(self.invalid(
+                    &format!("seat[{j}].name"),
+                    format!(
+                        "{floor:?} would head the same history column as seat[{i}]'s floor acceleration \
+                         (a suspended seat's floor column is NAME{FLOOR_SUFFIX}_accel_m_s2); rename one"
+                    ),
+                ));
+            }
+        }
+        Ok(())
     }
 
     /// `sign` is +1 for the front axle (ahead of the CG), −1 for the rear.
