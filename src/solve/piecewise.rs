@@ -321,6 +321,8 @@ pub(super) fn run(
         2 => run_fixed::<4>(vehicle, excitation, plan, sink),
         3 => run_fixed::<6>(vehicle, excitation, plan, sink),
         4 => run_fixed::<8>(vehicle, excitation, plan, sink),
+        5 => run_fixed::<10>(vehicle, excitation, plan, sink),
+        6 => run_fixed::<12>(vehicle, excitation, plan, sink),
         n => Err(SolveError::Settings(format!(
             "the piecewise-exact solver handles 2 to {MAX_DOF} degrees of freedom; this vehicle has {n}"
         ))),
