@@ -4,7 +4,10 @@ Input (JSON on stdin): {"vehicle": path to a vehicle TOML}. The script
 builds M, C, K itself from the file (equations of motion of the
 bounce-pitch half car, Gillespie, Fundamentals of Vehicle Dynamics, ch. 5;
 Wong, Theory of Ground Vehicles, ch. 7), so roughride's own assembly is
-checked too.
+checked too. A seat with a [seat.suspension] adds its moving mass on a
+spring and damper standing on the body point z + x theta (a base-excited
+mass on a spring; Rao, Mechanical Vibrations, base excitation), one
+coordinate per suspended seat after the wheels.
 
 Output (JSON on stdout):
   undamped_hz: ascending, from scipy.linalg.eigh(K, M)
@@ -43,8 +46,13 @@ for name, sign in (("front", 1.0), ("rear", -1.0)):
         )
     )
 
-# Coordinates: z, theta, then one wheel per axle with an unsprung mass.
-n = 2 + sum(1 for a in axles if a["mu"] > 0)
+seats = [
+    dict(x=s["x"], **s["suspension"]) for s in v.get("seat", []) if "suspension" in s
+]
+
+# Coordinates: z, theta, one wheel per axle with an unsprung mass, then one
+# per suspended seat.
+n = 2 + sum(1 for a in axles if a["mu"] > 0) + len(seats)
 M = np.zeros((n, n))
 C = np.zeros((n, n))
 K = np.zeros((n, n))
@@ -64,6 +72,16 @@ for a in axles:
         w += 1
     K += a["k"] * np.outer(e, e)
     C += a["c"] * np.outer(e, e)
+for s in seats:
+    # Seat spring and damper between the floor point and the seat mass.
+    e = np.zeros(n)
+    e[0] = 1.0
+    e[1] = s["x"]
+    e[w] = -1.0
+    M[w, w] = s["mass"]
+    K += s["rate"] * np.outer(e, e)
+    C += s.get("damping", 0.0) * np.outer(e, e)
+    w += 1
 
 undamped = np.sqrt(np.sort(linalg.eigh(K, M, eigvals_only=True))) / (2 * np.pi)
 
