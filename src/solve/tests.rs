@@ -336,7 +336,7 @@ fn the_run_lasts_until_the_front_wheel_reaches_the_last_sample() {
 }
 
 #[test]
-fn a_tyre_leaving_the_road_hands_the_run_to_the_adaptive_solver() {
+fn a_tyre_leaving_the_road_hands_the_run_to_the_piecewise_solver() {
     // A 0.15 m drop at 25 m/s throws the light front wheel off the road.
     let v = half_car();
     let mut z = vec![0.0; 2001];
@@ -345,9 +345,9 @@ fn a_tyre_leaving_the_road_hands_the_run_to_the_adaptive_solver() {
     }
     let p = Profile::new(0.0, 0.05, z);
     let (rec, info) = simulate(&v, &p, 25.0, SolverSettings::default());
-    assert_eq!(info.solver, SolverKind::Adaptive);
+    assert_eq!(info.solver, SolverKind::Piecewise);
     assert!(info.fallback.is_some());
-    assert_eq!(rec.starts, vec![SolverKind::Exact, SolverKind::Adaptive]);
+    assert_eq!(rec.starts, vec![SolverKind::Exact, SolverKind::Piecewise]);
     let static_front = v.static_contact_n()[0];
     let min = rec.contact_f.iter().cloned().fold(f64::INFINITY, f64::min);
     assert!(
@@ -419,6 +419,6 @@ fn bad_settings_are_refused() {
     );
     assert_eq!(
         plan(&nl, &ex, &SolverSettings::default()).unwrap().kind,
-        SolverKind::Adaptive
+        SolverKind::Piecewise
     );
 }
