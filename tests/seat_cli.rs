@@ -240,3 +240,147 @@ fn the_fore_aft_aw_agrees_with_the_random_vibration_integral() {
         );
     }
 }
+
+// ------------------------------------------------------- suspended seat
+
+const VAN: &str = "vehicles/demo_van_suspended_seat.toml";
+
+/// The transmissibility of the seat (seat surface over the floor beneath
+/// it) equals the base-excited single-degree-of-freedom formula
+/// `|1 + 2jζr| / |1 − r² + 2jζr|`, `r = f/f_n`, `f_n = √(k/m)/2π`,
+/// `ζ = c/(2√(km))` (Rao, *Mechanical Vibrations*, base excitation): the
+/// seat mass sees only the floor's motion, whatever the body does.
+#[test]
+fn the_seat_transmissibility_is_the_base_excited_one_degree_of_freedom_formula() {
+    use roughride::vehicle::read_vehicle;
+    use roughride::vehicle::response::{Quantity, channels, road_response};
+    let v = read_vehicle(&demo(VAN)).unwrap();
+    let p = v.seats[0].suspension.unwrap();
+    let fn_hz = (p.rate_n_m / p.mass_kg).sqrt() / (2.0 * std::f64::consts::PI);
+    let zeta = p.damping_n_s_m / (2.0 * (p.rate_n_m * p.mass_kg).sqrt());
+    let ch = channels(&v);
+    let at = |q| ch.iter().position(|c| c.quantity == q).unwrap();
+    let (seat, floor) = (at(Quantity::SeatAccel(0)), at(Quantity::FloorAccel(0)));
+    for f in [0.3, 1.0, 1.5, 2.2, 4.0, 8.0, 16.0, 30.0] {
+        let h = road_response(&v, 20.0, f);
+        let ours = (h[seat] / h[floor]).norm();
+        let r = f / fn_hz;
+        let want = (1.0 + (2.0 * zeta * r).powi(2)).sqrt()
+            / ((1.0 - r * r).powi(2) + (2.0 * zeta * r).powi(2)).sqrt();
+        assert!((ours / want - 1.0).abs() < 1e-9, "{f} Hz: {ours} vs {want}");
+    }
+}
+
+/// A seat on a floor that hardly moves (a body of 1e6 kg on stiff springs)
+/// has the natural frequency of a mass on a spring, `√(k/m)/2π`, and the
+/// damping ratio `c/(2√(km))` (textbook closed form; Rao, *Mechanical
+/// Vibrations*, free vibration of a single-degree-of-freedom system).
+#[test]
+fn a_seat_on_a_rigid_floor_has_the_mass_on_a_spring_frequency() {
+    let text = "[body]\nmass = 1e6\npitch_inertia = 1e8\n\
+        [front]\ncg_distance = 1.0\nspring_rate = 1e9\ndamping = 1000.0\n\
+        [rear]\ncg_distance = 1.0\nspring_rate = 1e9\ndamping = 1000.0\n\
+        [[seat]]\nx = 0.5\n[seat.suspension]\nmass = 80.0\nrate = 7106.0\ndamping = 452.0\n";
+    let v = roughride::vehicle::parse_vehicle(text, std::path::Path::new("rigid.toml")).unwrap();
+    let a = roughride::vehicle::modal::modes(&v);
+    let m = a.modes.iter().find(|m| m.kind == "seat 1 bounce").unwrap();
+    let f_closed = (7106.0f64 / 80.0).sqrt() / (2.0 * std::f64::consts::PI);
+    let zeta = 452.0 / (2.0 * (7106.0f64 * 80.0).sqrt());
+    assert!(
+        (m.undamped_frequency_hz / f_closed - 1.0).abs() < 1e-4,
+        "{}",
+        m.undamped_frequency_hz
+    );
+    assert!(
+        (m.damping_ratio / zeta - 1.0).abs() < 1e-3,
+        "{}",
+        m.damping_ratio
+    );
+    assert_eq!(m.seat.as_deref(), Some("seat1"));
+}
+
+/// SEAT of a run on a generated road against the spectral prediction
+/// (random-vibration integral, Newland ch. 5 and 7), and the two solvers
+/// against each other; the floor is the passenger's seat point too (same x).
+#[test]
+fn seat_on_a_random_road_matches_the_spectral_prediction_and_both_solvers_agree() {
+    let run = |solver: &str| {
+        json_of(&[
+            "simulate",
+            "--vehicle",
+            demo(VAN).to_str().unwrap(),
+            "--class",
+            "C",
+            "--length",
+            "1000",
+            "--speed",
+            "20",
+            "--solver",
+            solver,
+        ])
+    };
+    let (e, a) = (run("exact"), run("adaptive"));
+    let pct = |d: &Value| {
+        d["seats"][0]["seat_effective_amplitude_transmissibility_pct"]
+            .as_f64()
+            .unwrap()
+    };
+    let predicted = e["predicted"]["seats"][0]["seat_effective_amplitude_transmissibility_pct"]
+        .as_f64()
+        .unwrap();
+    assert!(
+        (pct(&e) / predicted - 1.0).abs() < 0.03,
+        "{} vs {predicted}",
+        pct(&e)
+    );
+    assert!(
+        (pct(&e) / pct(&a) - 1.0).abs() < 1e-3,
+        "{} vs {}",
+        pct(&e),
+        pct(&a)
+    );
+    assert!(pct(&e) < 100.0);
+    assert_eq!(e["seats"][0]["floor"]["aw"], e["seats"][1]["aw"]);
+    assert!(e["seats"][1].get("floor").is_none());
+}
+
+fn refused(text: &str, key: &str) {
+    let dir = scratch();
+    let p = dir.path().join("bad.toml");
+    std::fs::write(&p, text).unwrap();
+    let out = roughride()
+        .args(["modes", "--vehicle", p.to_str().unwrap()])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains(key), "{key} not in {err}");
+}
+
+#[test]
+fn bad_seat_suspensions_are_refused_naming_the_key() {
+    let van = std::fs::read_to_string(demo(VAN)).unwrap();
+    refused(
+        &van.replace("mass = 80.0\n", ""),
+        "`seat[0].suspension.mass` is missing",
+    );
+    refused(
+        &van.replace("rate = 7106.0\n", ""),
+        "`seat[0].suspension.rate` is missing",
+    );
+    refused(
+        &van.replace("mass = 80.0\n", "mass = 5000.0\n"),
+        "`seat[0].suspension.mass`",
+    );
+    refused(
+        &van.replace(
+            "height = 0.45\n\n[seat.suspension]",
+            "height = -0.1\n\n[seat.suspension]",
+        ),
+        "`seat[0].height`",
+    );
+    let three = format!(
+        "{van}\n[seat.suspension]\nmass = 70.0\nrate = 7000.0\n[[seat]]\nname = \"c\"\nx = 0.0\n[seat.suspension]\nmass = 70.0\nrate = 7000.0\n"
+    );
+    refused(&three, "`seat[2].suspension` is one too many");
+}
