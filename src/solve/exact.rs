@@ -34,8 +34,7 @@
 use nalgebra::DMatrix;
 
 use super::{
-    Excitation, Inputs, Plan, RunInfo, Sample, SampleSink, SolveError, SolverKind, all_finite,
-    instability_hint, sample_count,
+    Excitation, Inputs, Plan, RunInfo, Sample, SampleSink, SolveError, SolverKind, sample_count,
 };
 use crate::vehicle::{AXLE_NAMES, Contact, MAX_DOF, StateSpace, Vehicle};
 
@@ -197,35 +196,32 @@ pub(super) fn run(
         }
         _ => discretise(vehicle, excitation.force_x_m(), dt),
     };
-    // One monomorphised loop per model size (2 to MAX_DOF degrees of freedom),
-    // so every size below is a constant and the loops unroll.
-    let n = vehicle.dof_count();
-    let out = match n {
-        2 => Step::<4>::new(&d).map(|s| run_fixed(vehicle, excitation, plan, sink, &s)),
-        3 => Step::<6>::new(&d).map(|s| run_fixed(vehicle, excitation, plan, sink, &s)),
-        4 => Step::<8>::new(&d).map(|s| run_fixed(vehicle, excitation, plan, sink, &s)),
-        5 => Step::<10>::new(&d).map(|s| run_fixed(vehicle, excitation, plan, sink, &s)),
-        6 => Step::<12>::new(&d).map(|s| run_fixed(vehicle, excitation, plan, sink, &s)),
-        _ => None,
-    };
-    out.unwrap_or_else(|| {
-        Err(SolveError::Settings(format!(
-            "the exact solver handles 2 to {MAX_DOF} degrees of freedom; this vehicle has {n}"
-        )))
-    })
+    super::by_model_size!(
+        vehicle.dof_count(),
+        "exact",
+        run_fixed(vehicle, excitation, plan, sink, &d)
+    )
 }
 
-fn run_fixed<const N: usize>(
+/// The exact loop for a model of `D` degrees of freedom (state length
+/// `N = 2·D`).
+fn run_fixed<const N: usize, const D: usize>(
     vehicle: &Vehicle,
     excitation: &Excitation<'_>,
     plan: &Plan,
     sink: &mut dyn SampleSink,
-    step: &Step<N>,
+    d: &Discrete,
 ) -> Result<RunInfo, SolveError> {
+    let step = Step::<N>::new(d).ok_or_else(|| {
+        SolveError::Settings(format!(
+            "internal: the discrete update has {} states, not the {N} of this vehicle",
+            d.phi.nrows()
+        ))
+    })?;
     let dt = 1.0 / plan.output_rate_hz;
     let total = sample_count(excitation.duration_s(), plan.output_rate_hz);
-    // The state is [q; q̇] with N = 2·ndof entries.
-    let n = N / 2;
+    // The state is [q; q̇] with N = 2·D entries.
+    let n = D;
     let force_x_m = excitation.force_x_m();
     let model = vehicle.element_model();
     let mut x = [0.0; N];
@@ -252,21 +248,7 @@ fn run_fixed<const N: usize>(
                 pulls[i] += 1;
             }
         }
-        // The discrete update of a damped linear model cannot diverge, so a
-        // non-finite state can only come from its inputs; checking it with
-        // the cancellation, once per block, keeps the loop short.
-        // (First at k = 1, right after the first update.)
-        if k % super::CANCEL_CHECK_SAMPLES == 1 {
-            if !all_finite(&x) {
-                return Err(SolveError::NonFinite {
-                    time_s: t,
-                    hint: instability_hint(vehicle),
-                });
-            }
-            if super::cancel_requested() {
-                return Err(SolveError::Interrupted);
-            }
-        }
+        super::check_block(k, &x, t, vehicle)?;
         sink.accept(&sample)?;
         if k + 1 < total {
             let next = excitation.at((k + 1) as f64 * dt);
@@ -274,12 +256,7 @@ fn run_fixed<const N: usize>(
             inputs = next;
         }
     }
-    if !all_finite(&x) {
-        return Err(SolveError::NonFinite {
-            time_s: (total - 1) as f64 * dt,
-            hint: instability_hint(vehicle),
-        });
-    }
+    super::check_finite(&x, (total - 1) as f64 * dt, vehicle)?;
     Ok(RunInfo {
         solver: SolverKind::Exact,
         samples: total,

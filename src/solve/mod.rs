@@ -635,5 +635,66 @@ pub(crate) fn all_finite(values: &[f64]) -> bool {
     values.iter().all(|v| v.is_finite())
 }
 
+/// A non-finite state `x` at `time_s` as the error that names the likely
+/// cause.
+#[inline]
+pub(crate) fn check_finite(x: &[f64], time_s: f64, vehicle: &Vehicle) -> Result<(), SolveError> {
+    if all_finite(x) {
+        Ok(())
+    } else {
+        Err(SolveError::NonFinite {
+            time_s,
+            hint: instability_hint(vehicle),
+        })
+    }
+}
+
+/// The fixed-step solvers' check once per block of
+/// [`CANCEL_CHECK_SAMPLES`] samples (first at sample 1, right after the
+/// first update): a non-finite state or a cancellation ends the run. A
+/// discrete update of a damped linear model cannot diverge, so a non-finite
+/// state can only come from the inputs; checking once per block keeps the
+/// loops short.
+#[inline(always)]
+pub(crate) fn check_block(
+    k: usize,
+    x: &[f64],
+    time_s: f64,
+    vehicle: &Vehicle,
+) -> Result<(), SolveError> {
+    if k % CANCEL_CHECK_SAMPLES != 1 {
+        return Ok(());
+    }
+    check_finite(x, time_s, vehicle)?;
+    if cancel_requested() {
+        return Err(SolveError::Interrupted);
+    }
+    Ok(())
+}
+
+/// Calls `$run::<N, D>($args)` for the vehicle's `$dof` degrees of freedom
+/// (`D`, 2 to [`MAX_DOF`]) and state length `N = 2·D`: one monomorphised
+/// loop per model size, so every size inside is a constant and the loops
+/// unroll. Any other size is a settings error naming `$solver`.
+macro_rules! by_model_size {
+    ($dof:expr, $solver:literal, $run:ident ( $($arg:expr),* $(,)? )) => {
+        match $dof {
+            2 => $run::<4, 2>($($arg),*),
+            3 => $run::<6, 3>($($arg),*),
+            4 => $run::<8, 4>($($arg),*),
+            5 => $run::<10, 5>($($arg),*),
+            6 => $run::<12, 6>($($arg),*),
+            n => Err(SolveError::Settings(format!(
+                "the {} solver handles 2 to {} degrees of freedom; this vehicle has {n}",
+                $solver,
+                crate::vehicle::MAX_DOF
+            ))),
+        }
+    };
+}
+pub(crate) use by_model_size;
+// The arms above list every size up to MAX_DOF.
+const _: () = assert!(crate::vehicle::MAX_DOF == 6);
+
 #[cfg(test)]
 mod tests;

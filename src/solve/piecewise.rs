@@ -54,10 +54,7 @@
 use nalgebra::DMatrix;
 
 use super::exact::{discretise_state_space, harmonic_columns, hold_inputs};
-use super::{
-    Excitation, Plan, RunInfo, Sample, SampleSink, SolveError, SolverKind, all_finite,
-    instability_hint, sample_count,
-};
+use super::{Excitation, Plan, RunInfo, Sample, SampleSink, SolveError, SolverKind, sample_count};
 use crate::vehicle::{
     AxleRegime, Contact, DamperSide, ElementModel, ElementState, MAX_DOF, RoadState, StopSide,
     Vehicle,
@@ -317,16 +314,11 @@ pub(super) fn run(
     plan: &Plan,
     sink: &mut dyn SampleSink,
 ) -> Result<RunInfo, SolveError> {
-    match vehicle.dof_count() {
-        2 => run_fixed::<4>(vehicle, excitation, plan, sink),
-        3 => run_fixed::<6>(vehicle, excitation, plan, sink),
-        4 => run_fixed::<8>(vehicle, excitation, plan, sink),
-        5 => run_fixed::<10>(vehicle, excitation, plan, sink),
-        6 => run_fixed::<12>(vehicle, excitation, plan, sink),
-        n => Err(SolveError::Settings(format!(
-            "the piecewise-exact solver handles 2 to {MAX_DOF} degrees of freedom; this vehicle has {n}"
-        ))),
-    }
+    super::by_model_size!(
+        vehicle.dof_count(),
+        "piecewise-exact",
+        run_fixed(vehicle, excitation, plan, sink)
+    )
 }
 
 /// State of the stepping across intervals.
@@ -389,7 +381,7 @@ impl<const N: usize> Walk<'_, N> {
     }
 }
 
-fn run_fixed<const N: usize>(
+fn run_fixed<const N: usize, const D: usize>(
     vehicle: &Vehicle,
     excitation: &Excitation<'_>,
     plan: &Plan,
@@ -397,7 +389,7 @@ fn run_fixed<const N: usize>(
 ) -> Result<RunInfo, SolveError> {
     let dt = 1.0 / plan.output_rate_hz;
     let total = sample_count(excitation.duration_s(), plan.output_rate_hz);
-    let n = N / 2;
+    let n = D;
     let force_x_m = excitation.force_x_m();
     // As the exact path: a harmonic force below the Nyquist frequency is
     // integrated exactly (every sub-step is shorter, so also below it).
@@ -433,17 +425,7 @@ fn run_fixed<const N: usize>(
         qd[..n].copy_from_slice(&x[n..]);
         let sample =
             Sample::from_inputs(&walk.model, force_x_m, t, inputs, q, qd, Contact::LiftOff);
-        if k % super::CANCEL_CHECK_SAMPLES == 1 {
-            if !all_finite(&x) {
-                return Err(SolveError::NonFinite {
-                    time_s: t,
-                    hint: instability_hint(vehicle),
-                });
-            }
-            if super::cancel_requested() {
-                return Err(SolveError::Interrupted);
-            }
-        }
+        super::check_block(k, &x, t, vehicle)?;
         sink.accept(&sample)?;
         if k + 1 < total {
             let next = excitation.at((k + 1) as f64 * dt);
@@ -458,12 +440,7 @@ fn run_fixed<const N: usize>(
             inputs = next;
         }
     }
-    if !all_finite(&x) {
-        return Err(SolveError::NonFinite {
-            time_s: (total - 1) as f64 * dt,
-            hint: instability_hint(vehicle),
-        });
-    }
+    super::check_finite(&x, (total - 1) as f64 * dt, vehicle)?;
     let mut stats = walk.stats;
     stats.regimes = walk.cache.met;
     Ok(RunInfo {
