@@ -605,6 +605,8 @@ struct Evaluators<'h> {
     /// Per seat: its coordinate and its slot among the suspended seats
     /// (`None` for a seat on the floor).
     seat_dof: Vec<Option<(usize, usize)>>,
+    /// Whether any seat is suspended.
+    any_suspended: bool,
     /// Per seat: the floor meter and travel of a suspended seat.
     floor: Vec<Option<(Meter, Moments)>>,
     weighting: Weighting,
@@ -674,6 +676,7 @@ impl<'h> Evaluators<'h> {
             clearances,
             seat_x_m: vehicle.seats.iter().map(|s| s.x_m).collect(),
             seat_h_m: vehicle.seats.iter().map(|s| s.height_m).collect(),
+            any_suspended: seat_dof.iter().any(Option::is_some),
             seat_dof,
             floor,
             weighting: options.weighting,
@@ -860,31 +863,10 @@ impl SampleSink for Evaluators<'_> {
 
     #[inline]
     fn accept(&mut self, s: &Sample) -> Result<(), SolveError> {
-        for ((m, x), d) in self
-            .seats
-            .iter_mut()
-            .zip(&self.seat_x_m)
-            .zip(&self.seat_dof)
-        {
-            m.push(seat_accel_m_s2(s, *x, d.map(|d| d.0)));
-        }
-        for ((f, x), d) in self
-            .floor
-            .iter_mut()
-            .zip(&self.seat_x_m)
-            .zip(&self.seat_dof)
-        {
-            if let (Some((m, travel)), Some((_, slot))) = (f, d) {
-                m.push(s.body_point_accel_m_s2(*x));
-                travel.push(s.elements.seat_travel_m[*slot]);
-            }
-        }
-        for (m, h) in self.fore_aft.iter_mut().zip(&self.seat_h_m) {
-            // A seat at height 0 moves +0 fore and aft: its zeros are
-            // counted in `summary` (`Meter::push_zeros`), not filtered.
-            if *h != 0.0 {
-                m.push(fore_aft_accel_m_s2(s, *h));
-            }
+        if self.any_suspended {
+            self.push_seats_general(s);
+        } else {
+            self.push_floor_seats(s);
         }
         for i in 0..2 {
             self.travel[i].push(s.elements.travel_m[i]);
@@ -911,6 +893,51 @@ impl SampleSink for Evaluators<'_> {
 }
 
 impl Evaluators<'_> {
+    /// The seats' measures when every seat sits on the floor (the common
+    /// case): one pass, no suspended-seat bookkeeping.
+    #[inline(always)]
+    fn push_floor_seats(&mut self, s: &Sample) {
+        let seats = self.seats.iter_mut().zip(&mut self.fore_aft);
+        for ((m, fa), (&x, &h)) in seats.zip(self.seat_x_m.iter().zip(&self.seat_h_m)) {
+            m.push(s.body_point_accel_m_s2(x));
+            // A seat at height 0 moves +0 fore and aft: its zeros are
+            // counted in `summary` (`Meter::push_zeros`), not filtered.
+            if h != 0.0 {
+                fa.push(fore_aft_accel_m_s2(s, h));
+            }
+        }
+    }
+
+    /// The seats' measures with suspended seats among them: seat surface,
+    /// floor beneath and seat travel.
+    #[inline(always)]
+    fn push_seats_general(&mut self, s: &Sample) {
+        for ((m, x), d) in self
+            .seats
+            .iter_mut()
+            .zip(&self.seat_x_m)
+            .zip(&self.seat_dof)
+        {
+            m.push(seat_accel_m_s2(s, *x, d.map(|d| d.0)));
+        }
+        for ((f, x), d) in self
+            .floor
+            .iter_mut()
+            .zip(&self.seat_x_m)
+            .zip(&self.seat_dof)
+        {
+            if let (Some((m, travel)), Some((_, slot))) = (f, d) {
+                m.push(s.body_point_accel_m_s2(*x));
+                travel.push(s.elements.seat_travel_m[*slot]);
+            }
+        }
+        for (m, h) in self.fore_aft.iter_mut().zip(&self.seat_h_m) {
+            if *h != 0.0 {
+                m.push(fore_aft_accel_m_s2(s, *h));
+            }
+        }
+    }
+
     /// Writes one history row (when a history is being written).
     #[inline]
     fn write_history(&mut self, s: &Sample) -> Result<(), SolveError> {
