@@ -686,27 +686,93 @@ pub fn predicted_rms_with(
         spec.n_max_cycle_m * speed_m_s,
     );
     let edges = panel_edges(v, speed_m_s, lo, hi, settings);
-    let nch = model.channels.len();
-    let nseat = v.seats.len();
-    // Mean squares per channel, then weighted seats.
-    let mut ms = vec![0.0; nch];
-    let mut ms_w = vec![0.0; nseat];
-    // Wd-weighted mean square of θ̈; a seat's fore-aft value is height² times it.
-    let mut ms_pitch_wd = 0.0;
-    // Weighted floor mean squares of the suspended seats.
-    let mut ms_floor_w = vec![0.0; nseat];
-    let floor_ch: Vec<Option<usize>> = (0..nseat)
-        .map(|s| {
-            model
-                .channels
-                .iter()
-                .position(|c| c.quantity == Quantity::FloorAccel(s))
+    let sq = mean_squares(
+        &model,
+        v.seats.len(),
+        speed_m_s,
+        spec,
+        weighting,
+        settings,
+        &edges,
+    );
+    let rms = |q: Quantity| {
+        model
+            .channels
+            .iter()
+            .position(|c| c.quantity == q)
+            .map_or(f64::NAN, |i| sq.channel[i].sqrt())
+    };
+    let seats = v
+        .seats
+        .iter()
+        .enumerate()
+        .map(|(i, s)| SeatRms {
+            name: s.name.clone(),
+            x_m: s.x_m,
+            accel_rms: rms(Quantity::SeatAccel(i)),
+            aw: sq.seat_weighted[i].sqrt(),
+            fore_aft_aw: s.height_m * sq.pitch_wd.sqrt(),
+            floor_aw: sq.floor_weighted[i].map(f64::sqrt),
+            seat_effective_amplitude_transmissibility_pct: sq.floor_weighted[i]
+                .filter(|f| *f > 0.0)
+                .map(|f| 100.0 * (sq.seat_weighted[i] / f).sqrt()),
         })
         .collect();
-    let pitch_ch = model
-        .channels
-        .iter()
-        .position(|c| c.quantity == Quantity::PitchAccel);
+    let axle = |i| AxleRms {
+        travel_rms: rms(Quantity::Travel(i)),
+        tyre_load_rms: rms(Quantity::TyreLoad(i)),
+    };
+    Ok(PredictedRms {
+        speed_m_s,
+        weighting: weighting.to_string(),
+        band_hz: [lo, hi],
+        road_rms_m: spec.band_rms_m(),
+        seats,
+        axles: AxlesRms {
+            front: axle(0),
+            rear: axle(1),
+        },
+        body: BodyRms {
+            heave_accel_rms: rms(Quantity::HeaveAccel),
+            pitch_accel_rms: rms(Quantity::PitchAccel),
+            heave_rms: rms(Quantity::Heave),
+            pitch_rms: rms(Quantity::Pitch),
+        },
+        panels: edges.len().saturating_sub(1),
+        method: "random-vibration integral of |H(f)|^2 * Gd(f/v)/v over the road band (linear model, dampers at their mean rate, tyres always in contact)",
+    })
+}
+
+/// The mean squares [`predicted_rms_with`] needs, integrated over the road
+/// band: Σ w·|H(f)|²·G(f) per channel (Newland, *An Introduction to Random
+/// Vibrations*, ch. 7: output spectrum = |H|² × input spectrum).
+struct MeanSquares {
+    /// Unweighted, per model channel.
+    channel: Vec<f64>,
+    /// Per seat, weighted with the seats' weighting (seat surface).
+    seat_weighted: Vec<f64>,
+    /// Per seat, the floor beneath a suspended seat, same weighting.
+    floor_weighted: Vec<Option<f64>>,
+    /// θ̈ weighted with Wd; a seat's fore-aft value is height² times it.
+    pitch_wd: f64,
+}
+
+fn mean_squares(
+    model: &Model,
+    nseat: usize,
+    speed_m_s: f64,
+    spec: &RoadSpec,
+    weighting: Weighting,
+    settings: &SpectralSettings,
+    edges: &[f64],
+) -> MeanSquares {
+    let find = |q: Quantity| model.channels.iter().position(|c| c.quantity == q);
+    let floor_ch: Vec<Option<usize>> = (0..nseat).map(|s| find(Quantity::FloorAccel(s))).collect();
+    let pitch_ch = find(Quantity::PitchAccel);
+    let mut ms = vec![0.0; model.channels.len()];
+    let mut ms_w = vec![0.0; nseat];
+    let mut ms_floor_w = vec![0.0; nseat];
+    let mut ms_pitch_wd = 0.0;
     for pair in edges.windows(2) {
         gauss_panel(pair[0], pair[1], |f, w| {
             let n = f / speed_m_s;
@@ -736,52 +802,16 @@ pub fn predicted_rms_with(
             }
         });
     }
-    let rms = |q: Quantity| {
-        model
-            .channels
+    MeanSquares {
+        channel: ms,
+        seat_weighted: ms_w,
+        floor_weighted: floor_ch
             .iter()
-            .position(|c| c.quantity == q)
-            .map_or(f64::NAN, |i| ms[i].sqrt())
-    };
-    let seats = v
-        .seats
-        .iter()
-        .enumerate()
-        .map(|(i, s)| SeatRms {
-            name: s.name.clone(),
-            x_m: s.x_m,
-            accel_rms: rms(Quantity::SeatAccel(i)),
-            aw: ms_w[i].sqrt(),
-            fore_aft_aw: s.height_m * ms_pitch_wd.sqrt(),
-            floor_aw: floor_ch[i].map(|_| ms_floor_w[i].sqrt()),
-            seat_effective_amplitude_transmissibility_pct: floor_ch[i]
-                .filter(|_| ms_floor_w[i] > 0.0)
-                .map(|_| 100.0 * (ms_w[i] / ms_floor_w[i]).sqrt()),
-        })
-        .collect();
-    let axle = |i| AxleRms {
-        travel_rms: rms(Quantity::Travel(i)),
-        tyre_load_rms: rms(Quantity::TyreLoad(i)),
-    };
-    Ok(PredictedRms {
-        speed_m_s,
-        weighting: weighting.to_string(),
-        band_hz: [lo, hi],
-        road_rms_m: spec.band_rms_m(),
-        seats,
-        axles: AxlesRms {
-            front: axle(0),
-            rear: axle(1),
-        },
-        body: BodyRms {
-            heave_accel_rms: rms(Quantity::HeaveAccel),
-            pitch_accel_rms: rms(Quantity::PitchAccel),
-            heave_rms: rms(Quantity::Heave),
-            pitch_rms: rms(Quantity::Pitch),
-        },
-        panels: edges.len().saturating_sub(1),
-        method: "random-vibration integral of |H(f)|^2 * Gd(f/v)/v over the road band (linear model, dampers at their mean rate, tyres always in contact)",
-    })
+            .zip(&ms_floor_w)
+            .map(|(c, m)| c.map(|_| *m))
+            .collect(),
+        pitch_wd: ms_pitch_wd,
+    }
 }
 
 #[cfg(test)]

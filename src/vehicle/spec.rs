@@ -379,6 +379,18 @@ impl Validator<'_> {
         let key = |k: &str| format!("{which}.{k}");
         let distance = self.within(&key("cg_distance"), &limits::CG_DISTANCE, raw.cg_distance)?;
         let spring_n_m = self.within(&key("spring_rate"), &limits::SPRING_RATE, raw.spring_rate)?;
+        Ok(Axle {
+            x_m: sign * distance,
+            spring_n_m,
+            damper: self.damper(which, raw)?,
+            tyre: self.tyre(which, raw)?,
+            stops: self.stops(which, raw)?,
+        })
+    }
+
+    /// The axle's damper: one linear rate, or bump and rebound rates.
+    fn damper(&self, which: &str, raw: &RawAxle) -> Result<Damper, VehicleError> {
+        let key = |k: &str| format!("{which}.{k}");
         let damping = |k: &str, c: f64| self.within(&key(k), &limits::DAMPING, c);
         let damper = match (raw.damping, raw.damping_bump, raw.damping_rebound) {
             (Some(c), None, None) => {
@@ -417,6 +429,12 @@ impl Validator<'_> {
                 ));
             }
         };
+        Ok(damper)
+    }
+
+    /// The axle's tyre, if it has a wheel (an unsprung mass).
+    fn tyre(&self, which: &str, raw: &RawAxle) -> Result<Option<Tyre>, VehicleError> {
+        let key = |k: &str| format!("{which}.{k}");
         // Omitted or 0 (the documented interface allows both): no wheel.
         let unsprung = raw
             .unsprung_mass
@@ -460,6 +478,12 @@ impl Validator<'_> {
             }
             None
         };
+        Ok(tyre)
+    }
+
+    /// The axle's bump and rebound stops, if any clearance is given.
+    fn stops(&self, which: &str, raw: &RawAxle) -> Result<Option<Stops>, VehicleError> {
+        let key = |k: &str| format!("{which}.{k}");
         let stops = match (raw.bump_clearance, raw.rebound_clearance, raw.stop_rate) {
             (None, None, None) => None,
             (_, _, None) => {
@@ -484,13 +508,7 @@ impl Validator<'_> {
                 rate_n_m: self.within(&key("stop_rate"), &limits::STOP_RATE, rate)?,
             }),
         };
-        Ok(Axle {
-            x_m: sign * distance,
-            spring_n_m,
-            damper,
-            tyre,
-            stops,
-        })
+        Ok(stops)
     }
 }
 
