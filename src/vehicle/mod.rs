@@ -472,55 +472,16 @@ impl Vehicle {
         for (j, v) in self.mass_diagonal().iter().take(n).enumerate() {
             m[(j, j)] = *v;
         }
-        let mut k = DMatrix::zeros(n, n);
-        let mut c = DMatrix::zeros(n, n);
-        let mut k_road = DMatrix::zeros(n, 2);
-        let mut c_road = DMatrix::zeros(n, 2);
+        let mut mats = Matrices {
+            m,
+            c: DMatrix::zeros(n, n),
+            k: DMatrix::zeros(n, n),
+            k_road: DMatrix::zeros(n, 2),
+            c_road: DMatrix::zeros(n, 2),
+        };
         let mut f_const = DVector::zeros(n);
-        let static_s = self.static_suspension_n();
-        let static_c = self.static_contact_n();
-        for (i, axle) in self.axles.iter().enumerate() {
-            let r = regime[i];
-            let mut e = DVector::zeros(n);
-            e[0] = 1.0;
-            e[1] = axle.x_m;
-            let (ks, cs, offset) = r.suspension(axle);
-            match (self.wheel_dof(i), &axle.tyre) {
-                (Some(w), Some(t)) => {
-                    e[w] = -1.0; // e_b − e_w
-                    let outer = &e * e.transpose();
-                    k += &outer * ks;
-                    c += &outer * cs;
-                    // A suspension force f acts as +f on the body point and
-                    // −f on the wheel: generalised force e·f.
-                    if offset != 0.0 {
-                        f_const += &e * offset;
-                    }
-                    if r.on_road {
-                        k[(w, w)] += t.rate_n_m;
-                        c[(w, w)] += t.damping_n_s_m;
-                        k_road[(w, i)] += t.rate_n_m;
-                        c_road[(w, i)] += t.damping_n_s_m;
-                    } else {
-                        // Off the road the tyre's total force is zero.
-                        f_const[w] -= static_c[i];
-                    }
-                }
-                _ if r.on_road => {
-                    let outer = &e * e.transpose();
-                    k += &outer * ks;
-                    c += &outer * cs;
-                    if offset != 0.0 {
-                        f_const += &e * offset;
-                    }
-                    for r in 0..n {
-                        k_road[(r, i)] += ks * e[r];
-                        c_road[(r, i)] += cs * e[r];
-                    }
-                }
-                // A spring resting on the road, lifted: total force zero.
-                _ => f_const -= &e * static_s[i],
-            }
+        for i in 0..self.axles.len() {
+            self.add_axle(i, regime[i], &mut mats, &mut f_const);
         }
         for (s, p, j) in self.suspended_seats() {
             let mut e = DVector::zeros(n);
@@ -528,17 +489,64 @@ impl Vehicle {
             e[1] = self.seats[s].x_m;
             e[j] = -1.0; // e_b − e_s
             let outer = &e * e.transpose();
-            k += &outer * p.rate_n_m;
-            c += &outer * p.damping_n_s_m;
+            mats.k += &outer * p.rate_n_m;
+            mats.c += &outer * p.damping_n_s_m;
         }
-        let mats = Matrices {
-            m,
-            c,
+        (mats, f_const)
+    }
+
+    /// Adds axle `i`'s suspension (and tyre) in regime `r` to `mats`, and
+    /// the regime's constant generalised force to `f_const`.
+    fn add_axle(&self, i: usize, r: AxleRegime, mats: &mut Matrices, f_const: &mut DVector<f64>) {
+        let n = self.dof_count();
+        let axle = &self.axles[i];
+        let Matrices {
             k,
+            c,
             k_road,
             c_road,
-        };
-        (mats, f_const)
+            ..
+        } = mats;
+        let mut e = DVector::zeros(n);
+        e[0] = 1.0;
+        e[1] = axle.x_m;
+        let (ks, cs, offset) = r.suspension(axle);
+        match (self.wheel_dof(i), &axle.tyre) {
+            (Some(w), Some(t)) => {
+                e[w] = -1.0; // e_b − e_w
+                let outer = &e * e.transpose();
+                *k += &outer * ks;
+                *c += &outer * cs;
+                // A suspension force f acts as +f on the body point and
+                // −f on the wheel: generalised force e·f.
+                if offset != 0.0 {
+                    *f_const += &e * offset;
+                }
+                if r.on_road {
+                    k[(w, w)] += t.rate_n_m;
+                    c[(w, w)] += t.damping_n_s_m;
+                    k_road[(w, i)] += t.rate_n_m;
+                    c_road[(w, i)] += t.damping_n_s_m;
+                } else {
+                    // Off the road the tyre's total force is zero.
+                    f_const[w] -= self.static_contact_n()[i];
+                }
+            }
+            _ if r.on_road => {
+                let outer = &e * e.transpose();
+                *k += &outer * ks;
+                *c += &outer * cs;
+                if offset != 0.0 {
+                    *f_const += &e * offset;
+                }
+                for row in 0..n {
+                    k_road[(row, i)] += ks * e[row];
+                    c_road[(row, i)] += cs * e[row];
+                }
+            }
+            // A spring resting on the road, lifted: total force zero.
+            _ => *f_const -= &e * self.static_suspension_n()[i],
+        }
     }
 
     /// Generalised force of a vertical force on the body at `x_m`: heave 1,

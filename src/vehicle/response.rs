@@ -422,12 +422,8 @@ pub struct SeatAmplitude {
     pub accel_rms_m_s2: f64,
 }
 
-/// Steady-state amplitudes of the response to `force` (`F = f0·sin(2πft)`
-/// on the body at `x_m`), after the transient has died away.
-pub fn harmonic_force_amplitudes(
-    v: &Vehicle,
-    force: &HarmonicForce,
-) -> Result<HarmonicAmplitudes, crate::Error> {
+/// A harmonic force's amplitude, frequency and position as usable numbers.
+fn check_force(force: &HarmonicForce) -> Result<(), crate::Error> {
     let bad = |m: String| Err(crate::Error::Usage(m));
     if !force.amplitude_n.is_finite() {
         return bad(format!(
@@ -447,6 +443,16 @@ pub fn harmonic_force_amplitudes(
             force.x_m
         ));
     }
+    Ok(())
+}
+
+/// Steady-state amplitudes of the response to `force` (`F = f0·sin(2πft)`
+/// on the body at `x_m`), after the transient has died away.
+pub fn harmonic_force_amplitudes(
+    v: &Vehicle,
+    force: &HarmonicForce,
+) -> Result<HarmonicAmplitudes, crate::Error> {
+    check_force(force)?;
     let model = Model::new(v);
     let h = model.force(force.x_m, force.frequency_hz);
     let f0 = force.amplitude_n;
