@@ -344,6 +344,101 @@ fn seat_on_a_random_road_matches_the_spectral_prediction_and_both_solvers_agree(
     assert!(e["seats"][1].get("floor").is_none());
 }
 
+/// Sweep rows carry SEAT of every suspended seat, `seat{i}_seat_pct`, and
+/// it is the single run's `seats[i].seat_effective_amplitude_transmissibility_pct`
+/// bit for bit, beside the fore-aft aw and the total value; a seat without
+/// a suspension leaves the cell empty (JSON null), and a sweep of vehicles
+/// without suspended seats has no such column. The caution stays on stderr.
+#[test]
+fn sweep_rows_carry_seat_pct_equal_to_the_single_run() {
+    let van = demo(VAN).to_str().unwrap().to_string();
+    let car = demo(CAR).to_str().unwrap().to_string();
+    let sweep = |vehicles: &[&str], json: bool| {
+        let mut cmd = roughride();
+        cmd.arg("sweep");
+        for v in vehicles {
+            cmd.args(["--vehicle", v]);
+        }
+        cmd.args([
+            "--classes",
+            "C",
+            "--speeds",
+            "20",
+            "--seeds",
+            "2",
+            "--length",
+            "300",
+        ]);
+        if json {
+            cmd.arg("--json");
+        }
+        let out = cmd.assert().success().get_output().clone();
+        let stderr = String::from_utf8(out.stderr).unwrap();
+        assert!(stderr.contains("ISO 2631-1"), "the caution: {stderr}");
+        String::from_utf8(out.stdout).unwrap()
+    };
+    let text = sweep(&[&van, &car], false);
+    let mut lines = text.lines();
+    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let col = |n: &str| header.iter().position(|h| *h == n);
+    let pct = col("seat1_seat_pct").expect("a SEAT column for the driver");
+    // Only the van's first seat is suspended: no column for seat 2 or beyond.
+    assert!(col("seat2_seat_pct").is_none());
+    assert_eq!(header[pct - 1], "seat2_total_value"); // two seats each
+    assert_eq!(header[pct + 1], "checks");
+    let jsonl = sweep(&[&van, &car], true);
+    let rows: Vec<&str> = lines.collect();
+    assert_eq!(rows.len(), 4);
+    for (line, json_line) in rows.iter().zip(jsonl.lines()) {
+        let cells: Vec<&str> = line.split(',').collect();
+        let j: Value = serde_json::from_str(json_line).unwrap();
+        let single = json_of(&[
+            "simulate",
+            "--vehicle",
+            cells[col("vehicle").unwrap()],
+            "--class",
+            "C",
+            "--seed",
+            cells[col("seed").unwrap()],
+            "--length",
+            "300",
+            "--speed",
+            "20",
+        ]);
+        let seat = &single["seats"][0];
+        match seat.get("seat_effective_amplitude_transmissibility_pct") {
+            Some(want) => {
+                let want = want.as_f64().unwrap();
+                assert!(want > 0.0 && want < 100.0);
+                assert_eq!(cells[pct].parse::<f64>().unwrap().to_bits(), want.to_bits());
+                assert_eq!(
+                    j["seat1_seat_pct"].as_f64().unwrap().to_bits(),
+                    want.to_bits()
+                );
+                for (c, key) in [
+                    ("seat1_fore_aft_aw", "/fore_aft/aw"),
+                    ("seat1_total_value", "/total_value"),
+                ] {
+                    let got: f64 = cells[col(c).unwrap()].parse().unwrap();
+                    assert_eq!(
+                        got.to_bits(),
+                        seat.pointer(key).unwrap().as_f64().unwrap().to_bits(),
+                        "{c}"
+                    );
+                }
+            }
+            None => {
+                assert_eq!(cells[col("vehicle").unwrap()], car);
+                assert_eq!(cells[pct], "");
+                assert!(j["seat1_seat_pct"].is_null());
+            }
+        }
+    }
+    // No suspended seat anywhere: no SEAT column at all.
+    let plain = sweep(&[&car], false);
+    assert!(!plain.lines().next().unwrap().contains("seat_pct"));
+}
+
 fn refused(text: &str, key: &str) {
     let dir = scratch();
     let p = dir.path().join("bad.toml");
