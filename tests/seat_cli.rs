@@ -439,6 +439,60 @@ fn sweep_rows_carry_seat_pct_equal_to_the_single_run() {
     assert!(!plain.lines().next().unwrap().contains("seat_pct"));
 }
 
+/// A life's seat exposure for a suspended seat is the seat surface's (what
+/// reaches the person) and, as in `simulate`, the comfort reaction is read
+/// from the total value of the vertical and fore-aft aw (ISO 2631-1 6.5
+/// and 8.2, k = 1) and the health guidance from the dominant axis (7.2.3):
+/// a one-case life equals the single run.
+#[test]
+fn a_lifetime_seat_is_the_seat_surface_with_the_total_value_for_comfort() {
+    let dir = scratch();
+    let usage = dir.path().join("life.toml");
+    let van = demo(VAN);
+    std::fs::write(
+        &usage,
+        format!(
+            "title = \"one case\"\ntarget_km = 1000\nvehicle = {:?}\n\n\
+             [[part]]\nname = \"c road\"\nshare = 1.0\nspeed = 20\nclass = \"C\"\n\
+             seeds = 1\nlength = 500\n",
+            van.to_str().unwrap()
+        ),
+    )
+    .unwrap();
+    let life = json_of(&["lifetime", "--usage", usage.to_str().unwrap()]);
+    assert!(life["caution"].as_str().unwrap().contains("ISO 2631-1"));
+    let run = json_of(&[
+        "simulate",
+        "--vehicle",
+        van.to_str().unwrap(),
+        "--class",
+        "C",
+        "--seed",
+        "1",
+        "--length",
+        "500",
+        "--speed",
+        "20",
+    ]);
+    let f = |v: &Value| v.as_f64().unwrap();
+    for i in 0..2 {
+        let (l, s) = (&life["parts"][0]["seats"][i], &run["seats"][i]);
+        let rel = |a: f64, b: f64| (a / b - 1.0).abs();
+        assert!(rel(f(&l["aw"]), f(&s["aw"])) < 1e-12, "seat {i} aw");
+        assert!(rel(f(&l["fore_aft_aw"]), f(&s["fore_aft"]["aw"])) < 1e-12);
+        // ISO 2631-1 6.5 by hand, k = 1 on x and z (y not modelled).
+        let by_hand = f(&l["aw"]).hypot(f(&l["fore_aft_aw"]));
+        assert!(rel(f(&l["total_value"]), by_hand) < 1e-15);
+        assert!(rel(f(&l["total_value"]), f(&s["total_value"])) < 1e-12);
+        assert_eq!(l["comfort"], s["guidance"]["comfort_label"]);
+        assert_eq!(l["health_axis"], s["guidance"]["health_axis"]);
+        assert!(rel(f(&l["a8"]), f(&s["guidance"]["a8_m_s2"])) < 1e-12);
+    }
+    // The driver's seat isolates: its surface, not the floor beneath it.
+    let driver = &life["parts"][0]["seats"][0];
+    assert!(f(&driver["aw"]) < 0.6 * f(&run["seats"][0]["floor"]["aw"]));
+}
+
 fn refused(text: &str, key: &str) {
     let dir = scratch();
     let p = dir.path().join("bad.toml");
