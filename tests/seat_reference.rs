@@ -116,12 +116,12 @@ fn seat_floor_and_seat_pct_on_default_roads_match_the_numpy_integral() {
 /// realisation of a Gaussian process, and an r.m.s. over `T` scatters by
 /// about `1/(2√(B·T))` (Bendat & Piersol, *Random Data*, 4th ed., §8.2), B
 /// the response's effective bandwidth. Measured over seeds 1–6 at 1000 s
-/// (2-CPU AMD EPYC, shared), one standard deviation: seat aw 1.9 %, floor
-/// aw 0.6 %, fore-aft aw 1.3 %, SEAT 1.6 % (the seat responds in a narrow band
-/// round its 1.5 Hz mode, B ≈ 0.7 Hz). The mean of seeds 1–3 thus scatters
-/// by about 1.1 % at most; 4 % is 3.5 of those, and a modelling mistake (a
-/// missing delay, a wrong weighting, a wrong spectrum level) moves these
-/// values by far more.
+/// (2-CPU AMD EPYC, shared), sample standard deviation: seat aw 2.0 %,
+/// floor aw 0.5 %, fore-aft aw 1.3 %, SEAT 1.6 % (the seat responds in a
+/// narrow band round its 1.5 Hz mode, B ≈ 0.6 Hz). The mean of seeds 1–3
+/// thus scatters by about 1.2 % at most; 4 % is 3.4 of those, and a
+/// modelling mistake moves these values by far more (leaving out the
+/// wheelbase delay in the numpy model moves them by 7–19 %).
 #[test]
 fn seat_floor_and_seat_pct_on_gaussian_roads_match_the_numpy_integral_on_average() {
     let van = common::demo(VAN);
