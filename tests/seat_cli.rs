@@ -344,6 +344,155 @@ fn seat_on_a_random_road_matches_the_spectral_prediction_and_both_solvers_agree(
     assert!(e["seats"][1].get("floor").is_none());
 }
 
+/// Sweep rows carry SEAT of every suspended seat, `seat{i}_seat_pct`, and
+/// it is the single run's `seats[i].seat_effective_amplitude_transmissibility_pct`
+/// bit for bit, beside the fore-aft aw and the total value; a seat without
+/// a suspension leaves the cell empty (JSON null), and a sweep of vehicles
+/// without suspended seats has no such column. The caution stays on stderr.
+#[test]
+fn sweep_rows_carry_seat_pct_equal_to_the_single_run() {
+    let van = demo(VAN).to_str().unwrap().to_string();
+    let car = demo(CAR).to_str().unwrap().to_string();
+    let sweep = |vehicles: &[&str], json: bool| {
+        let mut cmd = roughride();
+        cmd.arg("sweep");
+        for v in vehicles {
+            cmd.args(["--vehicle", v]);
+        }
+        cmd.args([
+            "--classes",
+            "C",
+            "--speeds",
+            "20",
+            "--seeds",
+            "2",
+            "--length",
+            "300",
+        ]);
+        if json {
+            cmd.arg("--json");
+        }
+        let out = cmd.assert().success().get_output().clone();
+        let stderr = String::from_utf8(out.stderr).unwrap();
+        assert!(stderr.contains("ISO 2631-1"), "the caution: {stderr}");
+        String::from_utf8(out.stdout).unwrap()
+    };
+    let text = sweep(&[&van, &car], false);
+    let mut lines = text.lines();
+    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let col = |n: &str| header.iter().position(|h| *h == n);
+    let pct = col("seat1_seat_pct").expect("a SEAT column for the driver");
+    // Only the van's first seat is suspended: no column for seat 2 or beyond.
+    assert!(col("seat2_seat_pct").is_none());
+    assert_eq!(header[pct - 1], "seat2_total_value"); // two seats each
+    assert_eq!(header[pct + 1], "checks");
+    let jsonl = sweep(&[&van, &car], true);
+    let rows: Vec<&str> = lines.collect();
+    assert_eq!(rows.len(), 4);
+    for (line, json_line) in rows.iter().zip(jsonl.lines()) {
+        let cells: Vec<&str> = line.split(',').collect();
+        let j: Value = serde_json::from_str(json_line).unwrap();
+        let single = json_of(&[
+            "simulate",
+            "--vehicle",
+            cells[col("vehicle").unwrap()],
+            "--class",
+            "C",
+            "--seed",
+            cells[col("seed").unwrap()],
+            "--length",
+            "300",
+            "--speed",
+            "20",
+        ]);
+        let seat = &single["seats"][0];
+        match seat.get("seat_effective_amplitude_transmissibility_pct") {
+            Some(want) => {
+                let want = want.as_f64().unwrap();
+                assert!(want > 0.0 && want < 100.0);
+                assert_eq!(cells[pct].parse::<f64>().unwrap().to_bits(), want.to_bits());
+                assert_eq!(
+                    j["seat1_seat_pct"].as_f64().unwrap().to_bits(),
+                    want.to_bits()
+                );
+                for (c, key) in [
+                    ("seat1_fore_aft_aw", "/fore_aft/aw"),
+                    ("seat1_total_value", "/total_value"),
+                ] {
+                    let got: f64 = cells[col(c).unwrap()].parse().unwrap();
+                    assert_eq!(
+                        got.to_bits(),
+                        seat.pointer(key).unwrap().as_f64().unwrap().to_bits(),
+                        "{c}"
+                    );
+                }
+            }
+            None => {
+                assert_eq!(cells[col("vehicle").unwrap()], car);
+                assert_eq!(cells[pct], "");
+                assert!(j["seat1_seat_pct"].is_null());
+            }
+        }
+    }
+    // No suspended seat anywhere: no SEAT column at all.
+    let plain = sweep(&[&car], false);
+    assert!(!plain.lines().next().unwrap().contains("seat_pct"));
+}
+
+/// A life's seat exposure for a suspended seat is the seat surface's (what
+/// reaches the person) and, as in `simulate`, the comfort reaction is read
+/// from the total value of the vertical and fore-aft aw (ISO 2631-1 6.5
+/// and 8.2, k = 1) and the health guidance from the dominant axis (7.2.3):
+/// a one-case life equals the single run.
+#[test]
+fn a_lifetime_seat_is_the_seat_surface_with_the_total_value_for_comfort() {
+    let dir = scratch();
+    let usage = dir.path().join("life.toml");
+    let van = demo(VAN);
+    std::fs::write(
+        &usage,
+        format!(
+            "title = \"one case\"\ntarget_km = 1000\nvehicle = {:?}\n\n\
+             [[part]]\nname = \"c road\"\nshare = 1.0\nspeed = 20\nclass = \"C\"\n\
+             seeds = 1\nlength = 500\n",
+            van.to_str().unwrap()
+        ),
+    )
+    .unwrap();
+    let life = json_of(&["lifetime", "--usage", usage.to_str().unwrap()]);
+    assert!(life["caution"].as_str().unwrap().contains("ISO 2631-1"));
+    let run = json_of(&[
+        "simulate",
+        "--vehicle",
+        van.to_str().unwrap(),
+        "--class",
+        "C",
+        "--seed",
+        "1",
+        "--length",
+        "500",
+        "--speed",
+        "20",
+    ]);
+    let f = |v: &Value| v.as_f64().unwrap();
+    for i in 0..2 {
+        let (l, s) = (&life["parts"][0]["seats"][i], &run["seats"][i]);
+        let rel = |a: f64, b: f64| (a / b - 1.0).abs();
+        assert!(rel(f(&l["aw"]), f(&s["aw"])) < 1e-12, "seat {i} aw");
+        assert!(rel(f(&l["fore_aft_aw"]), f(&s["fore_aft"]["aw"])) < 1e-12);
+        // ISO 2631-1 6.5 by hand, k = 1 on x and z (y not modelled).
+        let by_hand = f(&l["aw"]).hypot(f(&l["fore_aft_aw"]));
+        assert!(rel(f(&l["total_value"]), by_hand) < 1e-15);
+        assert!(rel(f(&l["total_value"]), f(&s["total_value"])) < 1e-12);
+        assert_eq!(l["comfort"], s["guidance"]["comfort_label"]);
+        assert_eq!(l["health_axis"], s["guidance"]["health_axis"]);
+        assert!(rel(f(&l["a8"]), f(&s["guidance"]["a8_m_s2"])) < 1e-12);
+    }
+    // The driver's seat isolates: its surface, not the floor beneath it.
+    let driver = &life["parts"][0]["seats"][0];
+    assert!(f(&driver["aw"]) < 0.6 * f(&run["seats"][0]["floor"]["aw"]));
+}
+
 fn refused(text: &str, key: &str) {
     let dir = scratch();
     let p = dir.path().join("bad.toml");

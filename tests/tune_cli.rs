@@ -516,3 +516,85 @@ fn a_tune_prints_the_same_bytes_on_one_thread_and_on_two() {
     let two = ok(&args("2"));
     assert_eq!(one, two);
 }
+
+/// A suspended seat's objective is what reaches the person, the seat
+/// surface: `--measure aw` tunes the surface aw (`simulate`'s
+/// `seats[i].aw`, not the floor's), and `--measure total-value` the
+/// comfort total value (ISO 2631-1 6.5 with the seat factors of 8.2, k = 1:
+/// `√(aw_x² + aw_z²)`, `seats[i].total_value`). The spectral objective is
+/// checked against the random-vibration integral computed in numpy
+/// (`tests/reference/seat_spectral.py`: its own model, ISO 8608 spectrum
+/// and ISO 2631-1 Annex A weightings; Newland, *An Introduction to Random
+/// Vibrations, Spectral and Wavelet Analysis*, ch. 5 and 7), within 1e-6:
+/// both integrate the same spectrum, numpy's grid is converged to 1e-6.
+#[test]
+fn a_suspended_seat_is_tuned_on_its_surface_and_the_total_value_is_offered() {
+    let van = demo("vehicles/demo_van_suspended_seat.toml");
+    let tune = |measure: &str| {
+        json_of(&[
+            "tune",
+            "--vehicle",
+            van.to_str().unwrap(),
+            "--vary",
+            "seat.driver.suspension.damping=150:1500",
+            "--classes",
+            "C",
+            "--speeds",
+            "20",
+            "--length",
+            "1000",
+            "--measure",
+            measure,
+        ])
+    };
+    let (aw, total) = (tune("aw"), tune("total-value"));
+    assert_eq!(
+        total["objective_description"],
+        "mean total value of seat driver over the cases"
+    );
+    assert!(total["caution"].as_str().unwrap().contains("ISO 2631-1"));
+    // The reported objectives are time-domain runs of the same cases.
+    let sim = json_of(&[
+        "simulate",
+        "--vehicle",
+        van.to_str().unwrap(),
+        "--class",
+        "C",
+        "--seed",
+        "1",
+        "--length",
+        "1000",
+        "--speed",
+        "20",
+    ]);
+    let seat = &sim["seats"][0];
+    let f = |v: &serde_json::Value| v.as_f64().unwrap();
+    assert_eq!(f(&aw["start_objective"]), f(&seat["aw"]));
+    assert_eq!(f(&total["start_objective"]), f(&seat["total_value"]));
+    // The surface, not the floor beneath it (SEAT ≈ 47 % on this van).
+    assert!(f(&seat["aw"]) < 0.6 * f(&seat["floor"]["aw"]));
+    // The spectral objectives against numpy.
+    let Some(r) = python_reference(
+        "seat_spectral.py",
+        &serde_json::json!({
+            "vehicle": van,
+            "class": "C",
+            "speed_m_s": 20.0,
+            "n_min_cycle_m": 0.011,
+            "n_max_cycle_m": 2.83,
+            "spacing_m": 0.05,
+        }),
+    ) else {
+        return;
+    };
+    let (z, x) = (f(&r["seats"][0]["aw"]), f(&r["seats"][0]["fore_aft_aw"]));
+    for (got, want) in [
+        (f(&aw["spectral"]["start"]["objective"]), z),
+        (f(&total["spectral"]["start"]["objective"]), z.hypot(x)),
+    ] {
+        assert!((got / want - 1.0).abs() < 1e-6, "{got} vs numpy {want}");
+    }
+    // Fore-aft motion makes the total value the larger, so the two
+    // objectives are not the same function of the damping.
+    assert!(f(&total["spectral"]["start"]["objective"]) > 1.05 * z);
+}

@@ -106,7 +106,7 @@ pub fn write_sweep(
     let total_cases = grid.len();
     let bounds = shard.bounds(total_cases);
     let cases = grid.cases(bounds.0, bounds.1);
-    let seats = row::max_seats(grid);
+    let seats = row::seat_columns(grid);
     let columns = row::columns(seats, &grid.varied_keys);
     if spec.header && spec.format == Format::Csv {
         out.write_all(row::csv_header(&columns).as_bytes())

@@ -15,7 +15,11 @@
 //! last two empty for an axle without that stop), then `heave_accel_rms_m_s2,
 //! pitch_accel_rms_rad_s2,duration_s,length_m,solver`, then per seat
 //! `seat{i}_fore_aft_aw,seat{i}_total_value` (Wd aw of the fore-aft
-//! acceleration and the comfort total value, m/s²), then `checks`.
+//! acceleration and the comfort total value, m/s²), then, when some
+//! vehicle of the sweep has a suspended seat, `seat{i}_seat_pct` for
+//! `i = 1 …` the last seat index suspended in any of them (SEAT, the
+//! seat-surface aw over the floor aw in %; empty for a seat without a
+//! suspension), then `checks`.
 //!
 //! `checks` is `ok` when the plausibility checks found nothing, else
 //! `warning:` or `implausible:` followed by the finding codes joined by `;`
@@ -55,9 +59,22 @@ pub enum Cell {
     Empty,
 }
 
-/// The column names of a sweep whose vehicles have at most `seats` seats
+/// How many seats a sweep's rows describe: `all` per-seat columns of the
+/// ride measures, and `suspended` SEAT columns (1-based index of the last
+/// seat with a suspension in any vehicle; 0 when none has one, so sweeps of
+/// vehicles without suspended seats keep their columns).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct SeatColumns {
+    /// The largest seat count over the grid's vehicles.
+    pub all: usize,
+    /// The number of `seat{i}_seat_pct` columns.
+    pub suspended: usize,
+}
+
+/// The column names of a sweep whose vehicles have the seats `seats`
 /// and whose variants vary `varied` (one column each, after `vehicle`).
-pub fn columns(seats: usize, varied: &[String]) -> Vec<String> {
+pub fn columns(seats: SeatColumns, varied: &[String]) -> Vec<String> {
+    let (suspended, seats) = (seats.suspended, seats.all);
     let mut c: Vec<String> = ["case", "vehicle"].iter().map(|s| s.to_string()).collect();
     c.extend(varied.iter().cloned());
     c.extend(
@@ -98,6 +115,9 @@ pub fn columns(seats: usize, varied: &[String]) -> Vec<String> {
         c.push(format!("seat{i}_fore_aft_aw"));
         c.push(format!("seat{i}_total_value"));
     }
+    for i in 1..=suspended {
+        c.push(format!("seat{i}_seat_pct"));
+    }
     c.push("checks".to_string());
     c
 }
@@ -108,17 +128,27 @@ pub fn speed_kmh(speed_m_s: f64) -> f64 {
     (speed_m_s * 3.6 * 1e9).round() / 1e9
 }
 
-/// The largest seat count over the grid's vehicles.
-pub fn max_seats(grid: &Grid) -> usize {
-    grid.vehicles
+/// The seat columns of a sweep over the grid's vehicles.
+pub fn seat_columns(grid: &Grid) -> SeatColumns {
+    let all = grid
+        .vehicles
         .iter()
         .map(|v| v.vehicle.seats.len())
         .max()
-        .unwrap_or(0)
+        .unwrap_or(0);
+    let suspended = grid
+        .vehicles
+        .iter()
+        .filter_map(|v| v.vehicle.seats.iter().rposition(|s| s.suspension.is_some()))
+        .map(|i| i + 1)
+        .max()
+        .unwrap_or(0);
+    SeatColumns { all, suspended }
 }
 
 /// The cells of one case's row, in [`columns`] order.
-pub fn cells(grid: &Grid, case: &Case, s: &RunSummary, seats: usize) -> Vec<Cell> {
+pub fn cells(grid: &Grid, case: &Case, s: &RunSummary, seat_columns: SeatColumns) -> Vec<Cell> {
+    let seats = seat_columns.all;
     let road = &grid.roads[case.road];
     let vehicle = &grid.vehicles[case.vehicle];
     let mut r = vec![
@@ -161,6 +191,13 @@ pub fn cells(grid: &Grid, case: &Case, s: &RunSummary, seats: usize) -> Vec<Cell
             Some(x) => r.extend([x.fore_aft.aw, x.total_value].map(Cell::Num)),
             None => r.extend(std::iter::repeat_n(Cell::Empty, 2)),
         }
+    }
+    for i in 0..seat_columns.suspended {
+        let pct = s
+            .seats
+            .get(i)
+            .and_then(|x| x.seat_effective_amplitude_transmissibility_pct);
+        r.push(pct.map_or(Cell::Empty, Cell::Num));
     }
     r.push(Cell::Text(checks_cell(&s.checks.findings)));
     r
@@ -360,9 +397,22 @@ mod tests {
         // The documented interface (profiles/reference.md): the header holds
         // `class,speed_m_s,seed,seat_aw` in this order, side by side, with
         // or without varied keys.
-        let c = columns(2, &[]);
+        let two = SeatColumns {
+            all: 2,
+            suspended: 0,
+        };
+        let c = columns(two, &[]);
         assert!(c.join(",").contains(",class,speed_m_s,seed,seat_aw,"));
-        let v = columns(1, &["front.damping".to_string()]);
+        let one = SeatColumns {
+            all: 1,
+            suspended: 1,
+        };
+        let v = columns(one, &["front.damping".to_string()]);
+        assert!(
+            v.join(",")
+                .ends_with(",seat1_total_value,seat1_seat_pct,checks")
+        );
+        assert!(!c.iter().any(|x| x.ends_with("_seat_pct")));
         assert!(v.join(",").contains(",class,speed_m_s,seed,seat_aw,"));
         for key in [
             "class",

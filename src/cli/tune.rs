@@ -82,7 +82,9 @@ pub struct Args {
     /// Seat of the objective: its name or 1-based position (default the first).
     #[arg(long, value_name = "SEAT")]
     pub seat: Option<String>,
-    /// Measure minimised: aw (ISO 2631-1 weighted r.m.s.) or vdv (time domain only).
+    /// Measure minimised: aw (ISO 2631-1 weighted r.m.s., vertical, at the seat surface
+    /// of a suspended seat), vdv (time domain only), or total-value (the comfort total
+    /// value of the vertical and fore-aft aw, ISO 2631-1 6.5).
     #[arg(long, default_value = "aw", value_parser = parse_measure)]
     pub measure: Measure,
     /// Combine the cases by their (weighted) mean or take the worst case.
@@ -136,7 +138,10 @@ fn parse_measure(s: &str) -> Result<Measure, String> {
     match s {
         "aw" => Ok(Measure::Aw),
         "vdv" => Ok(Measure::Vdv),
-        _ => Err(format!("unknown measure {s:?}: give aw or vdv")),
+        "total-value" | "total_value" => Ok(Measure::TotalValue),
+        _ => Err(format!(
+            "unknown measure {s:?}: give aw, vdv or total-value"
+        )),
     }
 }
 

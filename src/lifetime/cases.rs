@@ -207,10 +207,15 @@ pub struct QuantityCounts {
 pub struct SeatRun {
     /// The weighting (e.g. `Wk`).
     pub weighting: String,
-    /// ISO 2631-1 aw, m/s².
+    /// ISO 2631-1 aw, m/s² (vertical; at the seat surface of a suspended
+    /// seat, as every seat measure).
     pub aw: f64,
     /// VDV, m/s^1.75.
     pub vdv: f64,
+    /// The fore-aft (Wd) aw, m/s²; 0 for a seat at height 0.
+    pub fore_aft_aw: f64,
+    /// The fore-aft VDV, m/s^1.75.
+    pub fore_aft_vdv: f64,
     /// Record duration, s.
     pub duration_s: f64,
 }
@@ -255,6 +260,8 @@ impl CaseResult {
                     weighting: s.measures.weighting.clone(),
                     aw: s.measures.aw,
                     vdv: s.measures.vdv,
+                    fore_aft_aw: s.fore_aft.aw,
+                    fore_aft_vdv: s.fore_aft.vdv,
                     duration_s: s.measures.duration_s,
                 })
                 .collect(),

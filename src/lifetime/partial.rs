@@ -26,7 +26,8 @@ use super::usage::{Fnv1a, Usage};
 /// The first line of a partial-result file.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Header {
-    /// Format name and version: `roughride lifetime partial 1`.
+    /// Format name and version: `roughride lifetime partial 2` (2 added the
+    /// seats' fore-aft aw and VDV).
     pub format: String,
     /// The usage file, as given (for people; the fingerprint decides).
     pub usage: String,
@@ -41,7 +42,7 @@ pub struct Header {
 }
 
 /// The format line of the header.
-pub const FORMAT: &str = "roughride lifetime partial 1";
+pub const FORMAT: &str = "roughride lifetime partial 2";
 
 /// The fingerprint of `usage` run with `settings`.
 pub fn fingerprint(usage: &Usage, settings: &Settings) -> String {

@@ -27,7 +27,7 @@ use serde::ser::SerializeMap;
 
 use super::cases::{Case, CaseResult, QuantityCounts, Settings, life_distance_m};
 use super::usage::{PartRoad, Usage};
-use crate::comfort::{HEALTH_CAUTION, Measures, guidance};
+use crate::comfort::{HEALTH_CAUTION, Measures, seat_guidance};
 use crate::report::fmt_grid;
 use crate::stats::RangeMeanTable;
 use crate::stats::durability::{Quantity, write_table_rows};
@@ -144,6 +144,9 @@ struct SeatSums {
     aw2_time: f64,
     /// Σ VDV⁴ (scaled: VDV⁴ grows linearly with time).
     vdv4: f64,
+    /// The same two sums fore and aft.
+    fore_aft_aw2_time: f64,
+    fore_aft_vdv4: f64,
 }
 
 /// One part, summed over its cases.
@@ -203,6 +206,8 @@ impl LifeTotals {
             sum.time_s += time_s;
             sum.aw2_time += seat.aw * seat.aw * time_s;
             sum.vdv4 += seat.vdv.powi(4) * f;
+            sum.fore_aft_aw2_time += seat.fore_aft_aw * seat.fore_aft_aw * time_s;
+            sum.fore_aft_vdv4 += seat.fore_aft_vdv.powi(4) * f;
         }
         part.cases += 1;
         part.simulated_m += r.length_m;
@@ -476,8 +481,17 @@ pub struct SeatReport {
     pub name: String,
     /// The weighting.
     pub weighting: String,
-    /// aw over the part's driving, m/s².
+    /// aw over the part's driving, m/s² (vertical, at the seat surface of
+    /// a suspended seat).
     pub aw: f64,
+    /// The fore-aft (Wd) aw over the part's driving, m/s².
+    pub fore_aft_aw: f64,
+    /// The vibration total value for comfort of those two (ISO 2631-1 6.5,
+    /// seat factors 1), m/s²: the comfort reaction is read from it.
+    pub total_value: f64,
+    /// The axis the health guidance (A(8), VDV) follows: `vertical`, or
+    /// `fore_aft` when 1.4 × its aw is the larger (ISO 2631-1 7.2.3).
+    pub health_axis: &'static str,
     /// VDV of a daily exposure spent on this part, m/s^1.75.
     pub vdv_exposure: f64,
     /// A(8) of that day, m/s².
@@ -682,18 +696,20 @@ fn road_report(road: &PartRoad) -> RoadReport {
 /// A seat's exposure on a part, with the ISO 2631-1 / Directive guidance
 /// for a day of `exposure_s` spent on it.
 fn seat_report(name: &str, s: &SeatSums, exposure_s: f64) -> SeatReport {
-    let aw = if s.time_s > 0.0 {
-        (s.aw2_time / s.time_s).sqrt()
-    } else {
-        0.0
+    let energy_mean = |aw2_time: f64| {
+        if s.time_s > 0.0 {
+            (aw2_time / s.time_s).sqrt()
+        } else {
+            0.0
+        }
     };
-    // The part's driving as one record: aw, VDV and duration; the guidance
-    // extends the VDV to the exposure by the fourth power of time.
-    let record = Measures {
-        weighting: s.weighting.clone(),
+    // The part's driving as one record per axis: aw, VDV and duration; the
+    // guidance extends the VDV to the exposure by the fourth power of time.
+    let record = |weighting: &str, aw: f64, vdv4: f64| Measures {
+        weighting: weighting.to_string(),
         accel_rms: f64::NAN,
         aw,
-        vdv: s.vdv4.powf(0.25),
+        vdv: vdv4.powf(0.25),
         mtvv: f64::NAN,
         crest_factor: f64::NAN,
         peak_weighted: f64::NAN,
@@ -702,11 +718,19 @@ fn seat_report(name: &str, s: &SeatSums, exposure_s: f64) -> SeatReport {
         vdv_ratio: f64::NAN,
         additional_methods_advised: false,
     };
-    let g = guidance(&record, exposure_s);
+    let aw = energy_mean(s.aw2_time);
+    let vertical = record(&s.weighting, aw, s.vdv4);
+    let fore_aft = record("Wd", energy_mean(s.fore_aft_aw2_time), s.fore_aft_vdv4);
+    // As `simulate`: comfort from the total value, health from the dominant
+    // axis; with no fore-aft motion this is the vertical guidance exactly.
+    let g = seat_guidance(&vertical, &fore_aft, exposure_s);
     SeatReport {
         name: name.to_string(),
         weighting: s.weighting.clone(),
         aw,
+        fore_aft_aw: fore_aft.aw,
+        total_value: g.comfort_value_m_s2.unwrap_or(aw),
+        health_axis: g.health_axis.unwrap_or("vertical"),
         vdv_exposure: g.vdv_exposure_m_s175,
         a8: g.a8_m_s2,
         comfort: g.comfort_label,

@@ -28,6 +28,7 @@ use std::sync::Arc;
 use rayon::prelude::*;
 
 use super::problem::{Measure, Objective, Over, Quantity, Study, StudyRoad};
+use crate::comfort::{COMFORT_SEAT_K, total_value};
 use crate::pipeline::{self, RunOptions, RunSummary};
 use crate::road::Profile;
 use crate::road::iso8608::{RoadClass, RoadSpec, generate};
@@ -42,8 +43,11 @@ pub const Z_99: f64 = 2.326_347_874_040_841;
 pub struct CaseValues {
     /// Weight in the mean (the speed's weight).
     pub weight: f64,
-    /// The objective seat's aw, m/s².
+    /// The objective seat's aw, m/s²: at the seat surface for a suspended
+    /// seat (what reaches the person), as every seat measure.
     pub aw: f64,
+    /// The objective seat's vibration total value for comfort, m/s².
+    pub total_value: f64,
     /// The objective seat's VDV, m/s^1.75 (time domain only).
     pub vdv: Option<f64>,
     /// Per axle: travel r.m.s., m.
@@ -76,6 +80,7 @@ pub fn objective_of(obj: &Objective, cases: &[CaseValues]) -> f64 {
     let value = |c: &CaseValues| match obj.measure {
         Measure::Aw => c.aw,
         Measure::Vdv => c.vdv.unwrap_or(f64::NAN),
+        Measure::TotalValue => c.total_value,
     };
     match obj.over {
         Over::Mean => {
@@ -153,9 +158,13 @@ pub fn spectral_cases(
             let axles = [&p.axles.front, &p.axles.rear];
             let travel = axles.map(|a| a.travel_rms * f);
             let load = [0, 1].map(|i| axles[i].tyre_load_rms * f / statics[i]);
+            // Every r.m.s. scales with √Gd(n0), so the total value too.
+            let s = &p.seats[seat];
+            let total = total_value([s.fore_aft_aw, 0.0, s.aw], COMFORT_SEAT_K);
             out.push(CaseValues {
                 weight: *weight,
-                aw: p.seats[seat].aw * f,
+                aw: s.aw * f,
+                total_value: total * f,
                 vdv: None,
                 travel_rms: travel,
                 travel_p99: travel.map(|s| Z_99 * s),
@@ -238,6 +247,7 @@ fn case_of(s: &RunSummary, seat: usize, weight: f64) -> CaseValues {
     CaseValues {
         weight,
         aw: s.seats[seat].measures.aw,
+        total_value: s.seats[seat].total_value,
         vdv: Some(s.seats[seat].measures.vdv),
         travel_rms: [axles[0].travel_rms, axles[1].travel_rms],
         travel_p99: [p99(0), p99(1)],

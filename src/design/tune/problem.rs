@@ -155,6 +155,11 @@ pub enum Measure {
     Aw,
     /// Vibration dose value (ISO 2631-1, 6.3.2), m/s^1.75 (time domain only).
     Vdv,
+    /// The vibration total value for comfort (ISO 2631-1, 6.5 with the
+    /// seat factors of 8.2, k = 1 on every axis): `√(aw_x² + aw_z²)` of
+    /// the fore-aft (Wd) and vertical (Wk) aw, the lateral axis not
+    /// modelled; `simulate`'s `seats[i].total_value`, m/s².
+    TotalValue,
 }
 
 /// How the cases combine.
@@ -216,6 +221,7 @@ impl Objective {
         let m = match self.measure {
             Measure::Aw => "aw",
             Measure::Vdv => "VDV",
+            Measure::TotalValue => "total value",
         };
         let o = match self.over {
             Over::Mean => "mean",
