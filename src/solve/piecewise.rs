@@ -59,7 +59,7 @@ use super::{
     instability_hint, sample_count,
 };
 use crate::vehicle::{
-    AxleRegime, Contact, DamperSide, ElementModel, ElementState, MAX_DOF, RoadState, StopSide,
+    AxleKinematics, AxleRegime, Contact, DamperSide, ElementModel, MAX_DOF, RoadState, StopSide,
     Vehicle,
 };
 
@@ -229,7 +229,7 @@ fn fixed<const N: usize>(
 /// The regime the element model is in at `el` (same comparisons as the
 /// element model: damper bump at travel rate ≥ 0, a stop past its
 /// clearance, contact as the model found it).
-pub(crate) fn regime_of(vehicle: &Vehicle, el: &ElementState) -> [AxleRegime; 2] {
+pub(crate) fn regime_of(vehicle: &Vehicle, el: &AxleKinematics) -> [AxleRegime; 2] {
     let mut out = [AxleRegime::LINEAR; 2];
     for (i, axle) in vehicle.axles.iter().enumerate() {
         let r = &mut out[i];
@@ -289,15 +289,16 @@ impl Inputs<'_> {
     }
 }
 
-/// The element state at `x` with held inputs `w` (road rates of the hold).
+/// The regime at `x` with held inputs `w` (road rates of the hold): travel,
+/// travel rate and contact only, as the element model computes them
+/// ([`ElementModel::axle_kinematics`]), not the whole element state.
 #[inline]
-fn elements_at<const N: usize>(
+fn regime_at<const N: usize>(
     model: &ElementModel<'_>,
-    force_x_m: f64,
     x: &[f64; N],
     w: &[f64; 3],
     rate_m_s: [f64; 2],
-) -> ElementState {
+) -> [AxleRegime; 2] {
     let n = N / 2;
     let mut q = [0.0; MAX_DOF];
     let mut qd = [0.0; MAX_DOF];
@@ -307,8 +308,7 @@ fn elements_at<const N: usize>(
         elevation_m: [w[0], w[1]],
         rate_m_s,
     };
-    let mut qdd = [0.0; MAX_DOF];
-    model.evaluate_with(&q, &qd, &road, w[2], force_x_m, Contact::LiftOff, &mut qdd)
+    regime_of(model.vehicle(), &model.axle_kinematics(&q, &qd, &road))
 }
 
 pub(super) fn run(
@@ -334,7 +334,6 @@ struct Walk<'a, const N: usize> {
     cache: Cache<'a, N>,
     model: ElementModel<'a>,
     inputs: Inputs<'a>,
-    force_x_m: f64,
     stats: PiecewiseStats,
 }
 
@@ -354,15 +353,13 @@ impl<const N: usize> Walk<'_, N> {
 
     /// Advances `x` across one output interval; returns the regime at its end.
     fn interval(&mut self, x: &mut [f64; N], iv: &Interval) -> [AxleRegime; 2] {
-        let el = elements_at(&self.model, self.force_x_m, x, &iv.w0, iv.rate_m_s);
-        let mut regime = regime_of(self.model.vehicle(), &el);
+        let mut regime = regime_at(&self.model, x, &iv.w0, iv.rate_m_s);
         let (mut p, mut level, mut switches) = (0u32, 0u32, 0u32);
         while p < FULL {
             let step = FULL >> level;
             let (w0, w1) = (self.inputs.at(iv, p), self.inputs.at(iv, p + step));
             let x_try = self.cache.update(&regime, level).advance(x, &w0, &w1);
-            let el = elements_at(&self.model, self.force_x_m, &x_try, &w1, iv.rate_m_s);
-            let end = regime_of(self.model.vehicle(), &el);
+            let end = regime_at(&self.model, &x_try, &w1, iv.rate_m_s);
             let locating = switches < MAX_SWITCHES_PER_INTERVAL;
             if end != regime && locating && level < MAX_LEVEL {
                 level += 1; // halve: the switch lies in this sub-step
@@ -420,7 +417,6 @@ fn run_fixed<const N: usize>(
             h_s: dt,
             harmonic: harmonic_hz.is_some(),
         },
-        force_x_m,
         stats: PiecewiseStats::default(),
     };
     let mut x = [0.0; N];
