@@ -783,6 +783,74 @@ impl ElementModel<'_> {
         qdd[1] = body_moment * inv_mass[1];
         out
     }
+
+    /// Only what decides the piecewise-linear regime, per axle: travel,
+    /// travel rate and contact, with the arithmetic of
+    /// [`ElementModel::evaluate_with`] (same expressions, same order, so
+    /// the same bits and the same comparisons), none of the forces on the
+    /// masses or the accelerations. The piecewise-exact solver reads it at
+    /// every sub-step end; keep it in step with `evaluate_with`.
+    #[inline(always)]
+    pub fn axle_kinematics<const D: usize>(
+        &self,
+        q: &[f64; D],
+        qd: &[f64; D],
+        road: &RoadState,
+    ) -> AxleKinematics {
+        let mut out = AxleKinematics::default();
+        for (i, axle) in self.vehicle.axles.iter().enumerate() {
+            let zb = q[0] + axle.x_m * q[1];
+            let vb = qd[0] + axle.x_m * qd[1];
+            let wheel = self.wheel[i].filter(|&w| w < D);
+            let (zl, vl) = match wheel {
+                Some(w) => (q[w], qd[w]),
+                None => (road.elevation_m[i], road.rate_m_s[i]),
+            };
+            let travel = zl - zb;
+            let rate = vl - vb;
+            out.in_contact[i] = match (wheel, &axle.tyre) {
+                (Some(w), Some(t)) => {
+                    let ft = t.rate_n_m * (road.elevation_m[i] - q[w])
+                        + t.damping_n_s_m * (road.rate_m_s[i] - qd[w]);
+                    let pulls = ft + self.static_contact_n[i] < 0.0;
+                    !pulls
+                }
+                _ => {
+                    let mut fs = axle.spring_n_m * travel + axle.damper.force_n(rate);
+                    if let Some(s) = &axle.stops {
+                        fs += s.force_n(travel);
+                    }
+                    let pulls = fs + self.static_suspension_n[i] < 0.0;
+                    !pulls
+                }
+            };
+            out.travel_m[i] = travel;
+            out.travel_rate_m_s[i] = rate;
+        }
+        out
+    }
+}
+
+/// Per-axle travel, travel rate and contact: the part of an
+/// [`ElementState`] that decides the piecewise-linear regime.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct AxleKinematics {
+    /// Suspension travel, compression positive, m (dynamic).
+    pub travel_m: [f64; 2],
+    /// Travel rate, compression positive, m/s.
+    pub travel_rate_m_s: [f64; 2],
+    /// False while the tyre (or the spring, without a tyre) is off the road.
+    pub in_contact: [bool; 2],
+}
+
+impl From<&ElementState> for AxleKinematics {
+    fn from(el: &ElementState) -> AxleKinematics {
+        AxleKinematics {
+            travel_m: el.travel_m,
+            travel_rate_m_s: el.travel_rate_m_s,
+            in_contact: el.in_contact,
+        }
+    }
 }
 
 #[cfg(test)]

@@ -228,3 +228,57 @@ fn a_tyre_cannot_pull_and_stops_engage_past_their_clearance() {
     assert!((st.contact_n[0] + v.static_contact_n()[0]).abs() < 1e-9);
     assert!(st.in_contact[1]);
 }
+
+#[test]
+fn axle_kinematics_are_the_element_models_travel_rate_and_contact_bit_for_bit() {
+    // Self-check (no outside reference): the piecewise solver's lean regime
+    // test must read exactly what the full element model computes, or it
+    // would switch at other instants. States spread over and beyond the
+    // stops and lift-off, with and without unsprung masses, asymmetric
+    // dampers and stops.
+    let stops = Stops {
+        bump_clearance_m: Some(0.05),
+        rebound_clearance_m: Some(0.07),
+        rate_n_m: 1.0e6,
+    };
+    let mut vehicles = vec![half_car(), body_on_springs()];
+    for base in [half_car(), body_on_springs()] {
+        let mut v = base;
+        for axle in &mut v.axles {
+            axle.stops = Some(stops);
+            axle.damper.bump_n_s_m *= 0.4;
+            axle.damper.rebound_n_s_m *= 1.6;
+        }
+        vehicles.push(v);
+    }
+    // A small linear congruential generator (Knuth's MMIX constants).
+    let mut seed = 0x2545_f491_4f6c_dd1du64;
+    let mut next = |scale: f64| {
+        seed = seed
+            .wrapping_mul(6_364_136_223_846_793_005)
+            .wrapping_add(1_442_695_040_888_963_407);
+        scale * ((seed >> 11) as f64 / (1u64 << 53) as f64 - 0.5)
+    };
+    let mut lifted = 0;
+    for v in &vehicles {
+        let model = v.element_model();
+        for _ in 0..2000 {
+            let mut q = [0.0; MAX_DOF];
+            let mut qd = [0.0; MAX_DOF];
+            for j in 0..v.dof_count() {
+                q[j] = next(0.4);
+                qd[j] = next(4.0);
+            }
+            let road = RoadState {
+                elevation_m: [next(0.4), next(0.4)],
+                rate_m_s: [next(4.0), next(4.0)],
+            };
+            let mut qdd = [0.0; MAX_DOF];
+            let full = model.evaluate_with(&q, &qd, &road, 0.0, 0.0, Contact::LiftOff, &mut qdd);
+            let lean = model.axle_kinematics(&q, &qd, &road);
+            assert_eq!(lean, AxleKinematics::from(&full), "{q:?} {qd:?} {road:?}");
+            lifted += full.in_contact.iter().filter(|c| !**c).count();
+        }
+    }
+    assert!(lifted > 100, "the states must reach lift-off: {lifted}");
+}
