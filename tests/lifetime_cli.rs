@@ -526,6 +526,34 @@ fn shards_combined_equal_the_unsharded_run_byte_for_byte() {
         &d("p3.jsonl"),
     ]);
     assert_eq!(code, 2, "{err}");
+    // A partial of another format version is named as such (the version
+    // 2 format added the seats' fore-aft measures), not as "not a partial".
+    let p1 = read(Path::new(&d("p1.jsonl")));
+    std::fs::write(
+        d("old.jsonl"),
+        p1.replacen(
+            "roughride lifetime partial 2",
+            "roughride lifetime partial 1",
+            1,
+        ),
+    )
+    .unwrap();
+    let (_, err, code) = run(&[
+        "lifetime",
+        "--usage",
+        &u,
+        "--combine",
+        &d("old.jsonl"),
+        &d("p2.jsonl"),
+        &d("p3.jsonl"),
+    ]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("old.jsonl")
+            && err.contains("\"roughride lifetime partial 1\"")
+            && err.contains("another roughride version"),
+        "{err}"
+    );
     let (_, err, code) = run(&["lifetime", "--usage", &u, "--shard", "1/2"]);
     assert_eq!(code, 2);
     assert!(err.contains("--partial"), "{err}");

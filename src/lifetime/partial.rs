@@ -44,6 +44,9 @@ pub struct Header {
 /// The format line of the header.
 pub const FORMAT: &str = "roughride lifetime partial 2";
 
+/// What every version of [`FORMAT`] starts with.
+const FORMAT_FAMILY: &str = "roughride lifetime partial ";
+
 /// The fingerprint of `usage` run with `settings`.
 pub fn fingerprint(usage: &Usage, settings: &Settings) -> String {
     let mut h = Fnv1a::new();
@@ -188,15 +191,28 @@ fn open(path: &Path) -> Result<(Header, Lines), crate::Error> {
             source,
         })?
         .unwrap_or_default();
-    let header: Header = serde_json::from_str(&first)
-        .ok()
-        .filter(|h: &Header| h.format == FORMAT)
-        .ok_or_else(|| LifetimeError::Partial {
-            path: path.to_path_buf(),
-            message: format!(
-                "line 1: not a partial lifetime result (written by `roughride lifetime --shard K/N --partial FILE`; the first line names the format \"{FORMAT}\")"
-            ),
-        })?;
+    let header: Option<Header> = serde_json::from_str(&first).ok();
+    let header = match header {
+        Some(h) if h.format == FORMAT => h,
+        // Same family, another version: say so rather than "not a partial".
+        Some(h) if h.format.starts_with(FORMAT_FAMILY) => {
+            return Err(crate::Error::Lifetime(LifetimeError::Partial {
+                path: path.to_path_buf(),
+                message: format!(
+                    "line 1: format \"{}\" was written by another roughride version; this one reads \"{FORMAT}\": run that shard again (`roughride lifetime --shard K/N --partial FILE`)",
+                    h.format
+                ),
+            }));
+        }
+        _ => {
+            return Err(crate::Error::Lifetime(LifetimeError::Partial {
+                path: path.to_path_buf(),
+                message: format!(
+                    "line 1: not a partial lifetime result (written by `roughride lifetime --shard K/N --partial FILE`; the first line names the format \"{FORMAT}\")"
+                ),
+            }));
+        }
+    };
     Ok((header, lines))
 }
 
