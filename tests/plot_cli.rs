@@ -127,6 +127,28 @@ fn the_comfort_picture_has_one_line_per_class_over_the_annex_c_bands() {
         svg.texts
     );
     assert!(has_text(&svg, "bars: smallest to largest aw of the seeds"));
+    assert!(has_text(&svg, "seat aw, ISO 2631-1 Wk (m/s²)"));
+    // The total value (what ISO 2631-1 Annex C reads the bands against)
+    // names its own axis; for this seat at height 0 it is the aw, so the
+    // lines lie where the aw's do.
+    let tv_path = dir.path().join("tv.svg");
+    ok(&[
+        "plot",
+        "comfort",
+        csv.to_str().unwrap(),
+        "--column",
+        "seat1_total_value",
+        "--title",
+        "grid",
+        "-o",
+        tv_path.to_str().unwrap(),
+    ]);
+    let tv = parse_svg(&tv_path);
+    assert!(has_text(
+        &tv,
+        "seat vibration total value, ISO 2631-1 (m/s²)"
+    ));
+    assert_eq!(tv.polylines, svg.polylines, "total value = aw at height 0");
     // The JSON Lines of the same sweep give the same picture, byte for byte.
     let svg2 = dir.path().join("aw2.svg");
     ok(&[

@@ -19,7 +19,9 @@
 //! vehicle of the sweep has a suspended seat, `seat{i}_seat_pct` for
 //! `i = 1 …` the last seat index suspended in any of them (SEAT, the
 //! seat-surface aw over the floor aw in %; empty for a seat without a
-//! suspension), then `checks`.
+//! suspension), then `checks`, and last `caution` (the same short text
+//! in every row, [`ROW_CAUTION`]: the comfort and health figures of a row
+//! are model estimates).
 //!
 //! `checks` is `ok` when the plausibility checks found nothing, else
 //! `warning:` or `implausible:` followed by the finding codes joined by `;`
@@ -119,8 +121,14 @@ pub fn columns(seats: SeatColumns, varied: &[String]) -> Vec<String> {
         c.push(format!("seat{i}_seat_pct"));
     }
     c.push("checks".to_string());
+    c.push("caution".to_string());
     c
 }
+
+/// The `caution` cell of every row: a row's aw, VDV, MTVV and total values
+/// are estimates from a model (the long form, [`crate::comfort::HEALTH_CAUTION`],
+/// is printed on stderr). No comma, so a naive CSV split keeps the columns.
+pub const ROW_CAUTION: &str = "model estimate (not a measurement); ISO 2631-1 and local regulation and qualified practice govern";
 
 /// A speed in km/h as a reader wrote it: `v·3.6` rounded to 10⁻⁹ km/h, so
 /// that 50 km/h (13.888… m/s) prints as `50`, not `50.00000000000001`.
@@ -200,6 +208,7 @@ pub fn cells(grid: &Grid, case: &Case, s: &RunSummary, seat_columns: SeatColumns
         r.push(pct.map_or(Cell::Empty, Cell::Num));
     }
     r.push(Cell::Text(checks_cell(&s.checks.findings)));
+    r.push(Cell::Text(ROW_CAUTION.to_string()));
     r
 }
 
@@ -321,6 +330,12 @@ mod tests {
     use super::*;
 
     #[test]
+    fn the_row_caution_needs_no_quoting_and_names_the_standard() {
+        assert_eq!(csv_field(ROW_CAUTION), ROW_CAUTION);
+        assert!(ROW_CAUTION.contains("ISO 2631-1") && ROW_CAUTION.contains("not a measurement"));
+    }
+
+    #[test]
     fn csv_fields_are_quoted_only_when_needed() {
         // RFC 4180 section 2: fields holding commas, quotes or line breaks are
         // enclosed in quotes, and quotes inside are doubled.
@@ -410,7 +425,7 @@ mod tests {
         let v = columns(one, &["front.damping".to_string()]);
         assert!(
             v.join(",")
-                .ends_with(",seat1_total_value,seat1_seat_pct,checks")
+                .ends_with(",seat1_total_value,seat1_seat_pct,checks,caution")
         );
         assert!(!c.iter().any(|x| x.ends_with("_seat_pct")));
         assert!(v.join(",").contains(",class,speed_m_s,seed,seat_aw,"));

@@ -69,7 +69,10 @@ pub struct Out {
 pub struct ComfortArgs {
     /// Sweep output: CSV or JSON Lines from `roughride sweep`.
     pub file: PathBuf,
-    /// The aw column to draw, m/s² (e.g. seat2_aw for the second seat).
+    /// The aw column to draw, m/s² (e.g. seat2_aw for the second seat). The
+    /// comfort bands (ISO 2631-1 Annex C) are read against the vibration
+    /// total value: for a seat above the pitch axis draw seat1_total_value
+    /// (equal to seat1_aw for a seat at height 0).
     #[arg(long, default_value = "seat_aw")]
     pub column: String,
     /// Speed axis in km/h instead of m/s.
@@ -188,7 +191,10 @@ fn comfort(c: ComfortArgs) -> Result<(), Error> {
     } else {
         SpeedAxis::MetresPerSecond
     };
-    write_svg(&c.out, &plot::comfort_chart(&points, &title, axis)?)
+    write_svg(
+        &c.out,
+        &plot::comfort_chart(&points, &title, axis, &c.column)?,
+    )
 }
 
 fn histogram(h: HistogramArgs) -> Result<(), Error> {

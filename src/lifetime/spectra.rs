@@ -640,7 +640,7 @@ impl LifeTotals {
         let mut w = Vec::new();
         if self.fallbacks > 0 {
             w.push(format!(
-                "{} of {} runs had a tyre leave the road and were repeated with the adaptive solver",
+                "{} of {} runs had a tyre leave the road and were repeated with the piecewise-exact solver (which models lift-off)",
                 self.fallbacks, self.cases
             ));
         }

@@ -633,16 +633,31 @@ const BAND_SHADES: [RGBColor; 6] = [
     RGBColor(190, 30, 45),
 ];
 
+/// The value axis of the comfort picture for sweep column `column`: the
+/// total value (what ISO 2631-1 reads the comfort bands against), the
+/// fore-aft Wd aw, or the vertical aw.
+pub fn comfort_axis_label(column: &str) -> &'static str {
+    if column.ends_with("_total_value") {
+        "seat vibration total value, ISO 2631-1 (m/s²)"
+    } else if column.ends_with("_fore_aft_aw") {
+        "seat fore-aft aw, ISO 2631-1 Wd (m/s²)"
+    } else {
+        "seat aw, ISO 2631-1 Wk (m/s²)"
+    }
+}
+
 /// aw against speed, one line per series (mean over seeds, with a bar from
 /// the smallest to the largest seed where there are several), over the
 /// comfort reactions of ISO 2631-1 Annex C shaded and labelled. The bands
 /// overlap in the standard, and overlapping shades show it. The footnote
-/// explains the bars and carries the health caution. `speed_axis` is the
+/// explains the bars and carries the health caution. `column` is the sweep
+/// column drawn (it names the value axis). `speed_axis` is the
 /// unit of the speed axis (the points stay in m/s).
 pub fn comfort_chart(
     points: &[ComfortPoint],
     title: &str,
     speed_axis: SpeedAxis,
+    column: &str,
 ) -> Result<String, ExportError> {
     let factor = speed_axis.per_m_s();
     let shown: Vec<ComfortPoint> = points
@@ -669,7 +684,7 @@ pub fn comfort_chart(
     }
     let axes = Axes::new(
         Axis::linear(speed_axis.label(), x0, x1),
-        Axis::linear("seat aw, ISO 2631-1 Wk (m/s²)", 0.0, y1),
+        Axis::linear(comfort_axis_label(column), 0.0, y1),
     )
     .margin_right(BAND_LABEL_PX)
     .coarse_grid()
@@ -1500,7 +1515,7 @@ mod tests {
     #[test]
     fn empty_data_is_refused_with_a_reason() {
         assert!(
-            comfort_chart(&[], "t", SpeedAxis::default())
+            comfort_chart(&[], "t", SpeedAxis::default(), "seat_aw")
                 .unwrap_err()
                 .to_string()
                 .contains("nothing to draw")
