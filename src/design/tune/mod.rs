@@ -458,6 +458,30 @@ fn parameter_reports(p: &Problem<'_>, best_x: &[f64]) -> Vec<ParameterReport> {
         .collect()
 }
 
+/// A tuned value within 0.1 % of its range from a bound: the search was
+/// stopped by the range, not by the objective or a limit, so the user
+/// should know the optimum may lie beyond it.
+fn at_bound_warnings(parameters: &[ParameterReport]) -> Vec<String> {
+    let mut out = Vec::new();
+    for q in parameters {
+        let tol = 1e-3 * (q.hi - q.lo);
+        let side = if q.best - q.lo <= tol {
+            Some(("lower", q.lo))
+        } else if q.hi - q.best <= tol {
+            Some(("upper", q.hi))
+        } else {
+            None
+        };
+        if let Some((side, bound)) = side {
+            out.push(format!(
+                "{} ended at its {side} bound ({bound}): the range stopped the search, not the objective or a limit; widen the range if the design allows",
+                q.key
+            ));
+        }
+    }
+    out
+}
+
 fn report(
     p: &Problem<'_>,
     judge: &Judge<'_, '_>,
@@ -489,7 +513,9 @@ fn report(
         .filter(|l| l.binding)
         .map(|l| l.name.clone())
         .collect();
-    let warnings = exceeded_in_time_domain(&optimum);
+    let parameters = parameter_reports(p, best_x);
+    let mut warnings = exceeded_in_time_domain(&optimum);
+    warnings.extend(at_bound_warnings(&parameters));
     let history = history(&keys, o, x_of);
     let (_, tuned_file) = judge.vehicle(best_x)?;
     let cases = judge.roads.iter().map(Vec::len).sum::<usize>() * p.study.speeds.len();
@@ -504,7 +530,7 @@ fn report(
         evaluations: o.trials.len(),
         starts: o.starts,
         cases,
-        parameters: parameter_reports(p, best_x),
+        parameters,
         start,
         optimum,
         spectral,

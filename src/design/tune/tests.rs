@@ -174,3 +174,18 @@ fn a_one_parameter_tune_finds_the_minimum_of_an_exhaustive_fine_grid() {
     assert!(h.windows(2).all(|w| w[1] < w[0]));
     assert_eq!(*h.last().unwrap(), r.optimum.objective);
 }
+
+#[test]
+fn a_value_stopped_by_its_range_is_warned_about_and_one_inside_is_not() {
+    let q = |best: f64| super::ParameterReport {
+        key: "front.damping".to_string(),
+        lo: 1000.0,
+        hi: 5000.0,
+        start: 3000.0,
+        best,
+    };
+    let w = super::at_bound_warnings(&[q(1000.0), q(3000.0), q(4999.0)]);
+    assert_eq!(w.len(), 2, "{w:?}");
+    assert!(w[0].contains("front.damping") && w[0].contains("lower bound (1000)"));
+    assert!(w[1].contains("upper bound (5000)"));
+}
