@@ -45,22 +45,11 @@ MUTE_S = 1e-7
 
 def switching(model, t, y):
     """The switching functions at (t, y), in a fixed order."""
-    n = model.n
     xf = model.x0 + model.v * t
     g = []
     for i in (0, 1):
         (x, k, cb, cr, mu, kt, ct, bc, rc, ks, w) = model.par[i]
-        px, pz, ps = model.pieces[i]
-        r = pz + ps * (xf - model.offset[i] - px)
-        rd = ps * model.v
-        zb = y[0] + x * y[1]
-        vb = y[n] + x * y[n + 1]
-        if w is None:
-            zl, vl = r, rd
-        else:
-            zl, vl = y[w], y[n + w]
-        d = zl - zb
-        dd = vl - vb
+        r, rd, zl, vl, d, dd = model.axle_kinematics(i, xf, y)
         if cb != cr:
             g.append(dd)
         fs = k * d + (cb if dd >= 0 else cr) * dd

@@ -118,6 +118,23 @@ class Model:
                 slope = float((self.z[k + 1] - self.z[k]) / self.ds)
                 self.pieces[i] = (float(self.x[k]), float(self.z[k] - z0), slope)
 
+    def axle_kinematics(self, i, xf, y):
+        """Road under axle i (elevation, rate), the lower end of its
+        suspension (wheel, or the road without one: elevation, rate), and
+        its travel and travel rate, with the front axle at xf."""
+        n = self.n
+        (x, _k, _cb, _cr, _mu, _kt, _ct, _bc, _rc, _ks, w) = self.par[i]
+        px, pz, ps = self.pieces[i]
+        r = pz + ps * (xf - self.offset[i] - px)
+        rd = ps * self.v
+        zb = y[0] + x * y[1]
+        vb = y[n] + x * y[n + 1]
+        if w is None:
+            zl, vl = r, rd
+        else:
+            zl, vl = y[w], y[n + w]
+        return r, rd, zl, vl, zl - zb, vl - vb
+
     def forces(self, t, y):
         """Accelerations and element outputs at (t, y) (y a list)."""
         n = self.n
@@ -128,17 +145,7 @@ class Model:
         travel, contact, touching = [0.0, 0.0], [0.0, 0.0], [True, True]
         for i in (0, 1):
             (x, k, cb, cr, mu, kt, ct, bc, rc, ks, w) = self.par[i]
-            px, pz, ps = self.pieces[i]
-            r = pz + ps * (xf - self.offset[i] - px)
-            rd = ps * self.v
-            zb = y[0] + x * y[1]
-            vb = y[n] + x * y[n + 1]
-            if w is None:
-                zl, vl = r, rd
-            else:
-                zl, vl = y[w], y[n + w]
-            d = zl - zb
-            dd = vl - vb
+            r, rd, zl, vl, d, dd = self.axle_kinematics(i, xf, y)
             fs = k * d + (cb if dd >= 0 else cr) * dd
             if bc is not None and d > bc:
                 fs += ks * (d - bc)
