@@ -36,7 +36,7 @@ mod exact;
 mod piecewise;
 
 pub use exact::{Discrete, Step, discretise, discretise_harmonic};
-pub use piecewise::{MAX_LEVEL, MAX_SWITCHES_PER_INTERVAL, PiecewiseStats};
+pub use piecewise::{MAX_SWITCHES_PER_INTERVAL, PiecewiseStats};
 
 use thiserror::Error;
 

@@ -14,44 +14,45 @@
 //!
 //! # Regimes and their cache
 //! A regime is one [`AxleRegime`] per axle (damper side, stop, on/off the
-//! road). Its discretisations for the dyadic sub-steps `h, h/2, …, h/2^M`
-//! (`h` the output interval, `M` = [`MAX_LEVEL`]) are computed lazily, the
-//! first time the regime needs that sub-step, and kept for the run.
+//! road). The first time a regime is met, its whole-interval update and
+//! its continuous form are stored for the run.
 //!
 //! # Locating a switch
-//! Inside an output interval the inputs are linear in time (the hold), so
-//! the road at any sub-step end is an exact interpolation of the two
-//! output samples, and each sub-step is exact for its regime. A sub-step is
-//! committed when the regime read from the element model at its end (the
-//! same comparisons as [`crate::vehicle::ElementModel::evaluate_with`]) is
-//! the one it was taken in; otherwise it is halved, down to `h/2^M`. The
-//! finest sub-step across the switch is then committed in the old regime and
-//! the run continues in the new one. This is bisection on the switching
-//! functions along the regime's exact solution: the switch time is known to
-//! `h/2^M` (1 ns at 1 kHz with `M` = 20). Every switch of this model is
-//! force-continuous (a kink: damper force 0 at travel rate 0, stop force 0
-//! at the clearance, tyre force −static load at lift-off), so the state
-//! error of one located switch is second order in that.
+//! Each output interval is first taken with the whole-interval update of
+//! the regime it starts in; when the regime read from the element model at
+//! its end (the same comparisons as
+//! [`crate::vehicle::ElementModel::evaluate_with`]) is the one it started
+//! in, that is the step (so one regime gives the exact path's samples bit
+//! for bit). Otherwise the interval is walked along the regime's exact
+//! solution written as its Taylor series about the current state (the
+//! inputs are polynomials there: the hold's straight line, or the
+//! harmonic force's own series), summed to rounding over the rest of the
+//! interval (a piece is halved while its series would need more than
+//! [`MAX_TERMS`] terms). The switching functions that differ between the
+//! two regimes (travel rate, travel past a clearance, contact margin) are
+//! then scalar functions of time; the earliest root of each is found by
+//! the Illinois method to a few rounding units of the output interval, the
+//! state there is committed, the new regime read, and the walk continues
+//! from there. Every switch of this model is force-continuous (a kink:
+//! damper force 0 at travel rate 0, stop force 0 at the clearance, tyre
+//! force −static load at lift-off), so locating it to rounding leaves only
+//! rounding in the state.
 //!
-//! **Limit:** a switching function that crosses zero twice inside one
-//! sub-step (e.g. a hop shorter than the sub-step tried) is not seen; the
-//! first sub-step tried is the whole output interval, so events shorter
-//! than one output interval can be missed (their effect then is that of a
-//! kink lasting under one output interval).
+//! **Limit:** a switching function that crosses zero twice inside the rest
+//! of an interval (e.g. a hop shorter than one output interval) with the
+//! same sign at both ends is not seen; its effect then is that of a kink
+//! lasting under one output interval.
 //!
 //! # Chattering
 //! Because the vector field is continuous across every switch, there is no
 //! sliding mode; repeated switching can only come from grazing (a
 //! switching function tangent to zero, e.g. a tyre at zero load or a
-//! one-sided damper at travel rate 0). Each located switch commits at least
-//! one finest sub-step, so nothing can loop; in addition, past
-//! [`MAX_SWITCHES_PER_INTERVAL`] switches in one output interval, switches
-//! are no longer located: the rest of the interval is taken in the
-//! coarsest aligned sub-steps (at most `M` of them), each in the regime
-//! read at the end of the one before. Such intervals are counted
+//! one-sided damper at travel rate 0). Each located switch moves time
+//! forward, and past [`MAX_SWITCHES_PER_INTERVAL`] switches in one output
+//! interval, switches are no longer located: the rest of the interval is
+//! taken in 16 equal pieces, each in the regime read at the end of the one
+//! before, so nothing can loop. Such intervals are counted
 //! (`chattering_intervals` in the run info).
-
-use nalgebra::DMatrix;
 
 use super::exact::{discretise_state_space, harmonic_columns, hold_inputs};
 use super::{Excitation, Plan, RunInfo, Sample, SampleSink, SolveError, SolverKind, sample_count};
@@ -60,13 +61,9 @@ use crate::vehicle::{
     Vehicle,
 };
 
-/// Finest sub-step: the output interval over 2^MAX_LEVEL.
-pub const MAX_LEVEL: u32 = 20;
 /// Switches located per output interval before the rest is taken without
 /// locating them (see the module doc).
 pub const MAX_SWITCHES_PER_INTERVAL: u32 = 64;
-/// Sub-step positions in an interval are counted in units of h/2^MAX_LEVEL.
-const FULL: u32 = 1 << MAX_LEVEL;
 
 /// What the piecewise-exact path did, for the run info.
 #[derive(Debug, Clone, Copy, Default, PartialEq, Eq, serde::Serialize)]
@@ -83,8 +80,9 @@ pub struct PiecewiseStats {
     pub chattering_intervals: u64,
 }
 
-/// One sub-step's update `x' = Φ x + G₀ w₀ + G₁ w₁ + g_c` in fixed-size,
-/// column-major arrays, summed in the order of [`super::Step::advance`].
+/// The whole output interval's update `x' = Φ x + G₀ w₀ + G₁ w₁ + g_c` in
+/// fixed-size, column-major arrays, summed in the order of
+/// [`super::Step::advance`].
 #[derive(Debug, Clone, Copy)]
 struct Update<const N: usize> {
     phi: [[f64; N]; N],
@@ -121,11 +119,66 @@ impl<const N: usize> Update<N> {
     }
 }
 
-/// A regime's first-order form and its lazily filled sub-step updates.
+/// A regime's continuous form `ẋ = A x + B u + c` in fixed-size,
+/// column-major arrays; `u = [r_f, r_r, ṙ_f, ṙ_r, F]` as in
+/// [`crate::vehicle::StateSpace`].
+#[derive(Debug, Clone, Copy)]
+struct Flow<const N: usize> {
+    a: [[f64; N]; N],
+    b: [[f64; N]; 5],
+    c: [f64; N],
+}
+
+impl<const N: usize> Flow<N> {
+    fn new(ss: &crate::vehicle::StateSpace, c: &nalgebra::DVector<f64>) -> Flow<N> {
+        let mut f = Flow {
+            a: [[0.0; N]; N],
+            b: [[0.0; N]; 5],
+            c: [0.0; N],
+        };
+        for r in 0..N {
+            for col in 0..N {
+                f.a[col][r] = ss.a[(r, col)];
+            }
+            for col in 0..5 {
+                f.b[col][r] = ss.b[(r, col)];
+            }
+            f.c[r] = c[r];
+        }
+        f
+    }
+
+    /// `A v`.
+    #[inline(always)]
+    fn times(&self, v: &[f64; N]) -> [f64; N] {
+        let mut y = [0.0; N];
+        for (col, &vj) in self.a.iter().zip(v) {
+            for (yi, &a) in y.iter_mut().zip(col) {
+                *yi += a * vj;
+            }
+        }
+        y
+    }
+
+    /// `B u`, plus `c` when `with_constant`.
+    #[inline(always)]
+    fn input(&self, u: &[f64; 5], with_constant: bool) -> [f64; N] {
+        let mut y = if with_constant { self.c } else { [0.0; N] };
+        for (col, &uj) in self.b.iter().zip(u) {
+            if uj != 0.0 {
+                for (yi, &a) in y.iter_mut().zip(col) {
+                    *yi += a * uj;
+                }
+            }
+        }
+        y
+    }
+}
+
+/// A regime met in the run: its whole-interval update and its flow.
 struct Regime<const N: usize> {
-    ss: crate::vehicle::StateSpace,
-    constant: Option<nalgebra::DVector<f64>>,
-    levels: Vec<Option<Box<Update<N>>>>,
+    update: Update<N>,
+    flow: Flow<N>,
 }
 
 /// Everything a run needs to build and look up regimes.
@@ -161,43 +214,26 @@ fn regime_key(r: &[AxleRegime; 2]) -> usize {
 }
 
 impl<const N: usize> Cache<'_, N> {
-    /// The update of regime `r` for sub-step level `level`.
-    fn update(&mut self, r: &[AxleRegime; 2], level: u32) -> &Update<N> {
+    /// Regime `r`, discretised the first time it is met.
+    fn regime(&mut self, r: &[AxleRegime; 2]) -> &Regime<N> {
         let key = regime_key(r);
         if self.slots[key].is_none() {
             let (ss, c) = self.vehicle.state_space_in(r, self.force_x_m);
-            let constant = (c.iter().any(|v| *v != 0.0)).then_some(c);
+            // The whole output interval as the exact path discretises it,
+            // so that one regime gives its samples bit for bit.
+            let (mut d, p) = discretise_state_space(&ss, self.h_s);
+            if let Some(f) = self.harmonic_hz {
+                harmonic_columns(&ss, f, self.h_s, &mut d);
+            }
+            let gc = c.iter().any(|v| *v != 0.0).then(|| &p * &c);
             self.slots[key] = Some(Box::new(Regime {
-                ss,
-                constant,
-                levels: vec![None; MAX_LEVEL as usize + 1],
+                update: fixed(&d, gc.as_ref()),
+                flow: Flow::new(&ss, &c),
             }));
             self.met += 1;
         }
-        let (h_s, harmonic_hz) = (self.h_s, self.harmonic_hz);
-        let Some(regime) = self.slots[key].as_deref_mut() else {
-            unreachable!("filled above")
-        };
-        let slot = &mut regime.levels[level as usize];
-        if slot.is_none() {
-            let h = h_s / f64::from(1u32 << level);
-            // The whole output interval as the exact path discretises it
-            // (one regime gives its samples bit for bit); the sub-steps,
-            // met only when locating switches, by the smaller exponential.
-            let (mut d, gc) = if level == 0 {
-                let (d, p) = discretise_state_space(&regime.ss, h);
-                let gc = regime.constant.as_ref().map(|c| p * c);
-                (d, gc)
-            } else {
-                discretise_compact(&regime.ss, regime.constant.as_ref(), h)
-            };
-            if let Some(f) = harmonic_hz {
-                harmonic_columns(&regime.ss, f, h, &mut d);
-            }
-            *slot = Some(Box::new(fixed(&d, gc.as_ref())));
-        }
-        match slot {
-            Some(u) => u,
+        match self.slots[key].as_deref() {
+            Some(r) => r,
             None => unreachable!("filled above"),
         }
     }
@@ -225,52 +261,6 @@ fn fixed<const N: usize>(d: &super::Discrete, gc: Option<&nalgebra::DVector<f64>
         g
     });
     u
-}
-
-/// The first-order-hold discretisation of `ẋ = A x + B₀ w + B₁ ẇ + c`
-/// over `h_s` from one exponential of the `(n + 7)`-square matrix
-/// `[[A, B₀, B₁, c], [0, 0, I, 0], [0, 0, 0, 0], [0, 0, 0, 0]]·h`, whose
-/// first block row is `[Φ, Γ₁, Γ₂, Γ_c]` (Van Loan, "Computing integrals
-/// involving the matrix exponential", IEEE Trans. Autom. Control 23(3),
-/// 1978; the hold as in Franklin, Powell & Workman, *Digital Control of
-/// Dynamic Systems*, 3rd ed., §6.3): with `w` linear from `w₀` to `w₁`,
-/// `x(h) = Φ x₀ + Γ₁ w₀ + Γ₂ (w₁ − w₀)/h + Γ_c`, so `G₀ = Γ₁ − Γ₂/h`,
-/// `G₁ = Γ₂/h`. The same update as [`discretise_state_space`]'s `3n`-square
-/// form (`Γ₁ = P B₀`, `Γ₂ = h Q B₀ + P B₁`) to rounding, at about a fifth
-/// of the cost for the half car (15 instead of 24 rows).
-pub(super) fn discretise_compact(
-    ss: &crate::vehicle::StateSpace,
-    constant: Option<&nalgebra::DVector<f64>>,
-    h_s: f64,
-) -> (super::Discrete, Option<nalgebra::DVector<f64>>) {
-    let n = ss.a.nrows();
-    let m = n + 7;
-    let mut big = DMatrix::zeros(m, m);
-    big.view_mut((0, 0), (n, n)).copy_from(&(&ss.a * h_s));
-    // B₀ acts on [r_f, r_r, F]; B₁ on their rates [ṙ_f, ṙ_r, 0].
-    for r in 0..n {
-        big[(r, n)] = ss.b[(r, 0)] * h_s;
-        big[(r, n + 1)] = ss.b[(r, 1)] * h_s;
-        big[(r, n + 2)] = ss.b[(r, 4)] * h_s;
-        big[(r, n + 3)] = ss.b[(r, 2)] * h_s;
-        big[(r, n + 4)] = ss.b[(r, 3)] * h_s;
-        if let Some(c) = constant {
-            big[(r, n + 6)] = c[r] * h_s;
-        }
-    }
-    for j in 0..3 {
-        big[(n + j, n + 3 + j)] = h_s; // the held inputs' rates
-    }
-    let e = big.exp();
-    let gamma1 = e.view((0, n), (n, 3)).into_owned();
-    let gamma2 = e.view((0, n + 3), (n, 3)).into_owned() / h_s;
-    let d = super::Discrete {
-        phi: e.view((0, 0), (n, n)).into_owned(),
-        g0: &gamma1 - &gamma2,
-        g1: gamma2,
-    };
-    let gc = constant.map(|_| e.view((0, n + 6), (n, 1)).column(0).into_owned());
-    (d, gc)
 }
 
 /// The regime the element model is in at `el` (same comparisons as the
@@ -309,31 +299,233 @@ struct Interval {
     rate_m_s: [f64; 2],
 }
 
-/// Evaluates inputs inside an interval (position `p` in units of h/2^M).
-struct Inputs<'a> {
-    excitation: &'a Excitation<'a>,
+/// Evaluates the inputs inside an interval.
+struct Inputs {
     h_s: f64,
-    harmonic: bool,
+    /// Amplitude (N) and angular frequency (rad/s) of a harmonic force
+    /// integrated exactly; otherwise the force is held like the road.
+    harmonic: Option<(f64, f64)>,
 }
 
-impl Inputs<'_> {
+/// Taylor coefficients of the inputs `u = [r_f, r_r, ṙ_f, ṙ_r, F]` about a
+/// point of an interval: `u(σ) = Σ u_j σ^j`; past `j = 1` only a harmonic
+/// force contributes, `F^{(j)}/j!`.
+struct InputSeries {
+    u0: [f64; 5],
+    u1: [f64; 5],
+    /// `(A sin ωt, A cos ωt, ω)` of a harmonic force at the point.
+    harmonic: Option<(f64, f64, f64)>,
+}
+
+impl Inputs {
+    /// Road elevations and force `s_s` into the interval.
     #[inline]
-    fn at(&self, iv: &Interval, p: u32) -> [f64; 3] {
-        if p == 0 {
-            return iv.w0;
-        }
-        if p == FULL {
-            return iv.w1;
-        }
-        let s = f64::from(p) / f64::from(FULL);
-        let lerp = |a: f64, b: f64| a + s * (b - a);
-        let force_n = if self.harmonic {
-            self.excitation.at(iv.t0_s + s * self.h_s).force_n
-        } else {
-            lerp(iv.w0[2], iv.w1[2])
+    fn at(&self, iv: &Interval, s_s: f64) -> [f64; 3] {
+        let f = s_s / self.h_s;
+        let lerp = |a: f64, b: f64| a + f * (b - a);
+        let force_n = match self.harmonic {
+            Some((amp, w)) => amp * (w * (iv.t0_s + s_s)).sin(),
+            None => lerp(iv.w0[2], iv.w1[2]),
         };
         [lerp(iv.w0[0], iv.w1[0]), lerp(iv.w0[1], iv.w1[1]), force_n]
     }
+
+    fn series_at(&self, iv: &Interval, s_s: f64) -> InputSeries {
+        let w = self.at(iv, s_s);
+        let [rf, rr] = iv.rate_m_s;
+        let (force_rate, harmonic) = match self.harmonic {
+            Some((amp, om)) => {
+                let (sin, cos) = (om * (iv.t0_s + s_s)).sin_cos();
+                (amp * om * cos, Some((amp * sin, amp * cos, om)))
+            }
+            None => ((iv.w1[2] - iv.w0[2]) / self.h_s, None),
+        };
+        InputSeries {
+            u0: [w[0], w[1], rf, rr, w[2]],
+            u1: [rf, rr, 0.0, 0.0, force_rate],
+            harmonic,
+        }
+    }
+}
+
+/// Taylor terms kept at most; a piece whose series has not converged by
+/// then is halved.
+const MAX_TERMS: usize = 40;
+/// A term is negligible below this fraction of its component's largest.
+const TERM_TOL: f64 = 1e-17;
+/// Halvings of a piece whose series does not converge, at most.
+const MAX_HALVINGS: u32 = 40;
+
+/// A regime's exact trajectory over one piece as its Taylor polynomial
+/// `x(σ) = Σ e_k σ^k`, from `k e_k = A e_{k−1} + B u_{k−1} (+ c at k = 1)`
+/// (the series of `e^{Aσ}` and of the input integrals, summed for this
+/// state and these inputs; e.g. Moler & Van Loan, "Nineteen dubious ways
+/// to compute the exponential of a matrix", SIAM Review 20(4), 1978,
+/// method 1, which is accurate while `‖A‖σ` is small, as for a piece of
+/// an output interval). Its value and its zeros can be found at any
+/// instant for a few multiplications.
+struct Series<const N: usize> {
+    e: [[f64; N]; MAX_TERMS],
+    terms: usize,
+}
+
+impl<const N: usize> Series<N> {
+    /// The terms for `x` and `inputs`; returns them with the longest piece
+    /// (`len_s`, halved as needed) over which they have converged.
+    fn build(flow: &Flow<N>, x: &[f64; N], inputs: &InputSeries, len_s: f64) -> (Self, f64) {
+        let mut s = Series {
+            e: [[0.0; N]; MAX_TERMS],
+            terms: MAX_TERMS,
+        };
+        s.e[0] = *x;
+        // ω^j/j! for the harmonic force's terms.
+        let mut om_pow = 1.0;
+        for k in 1..MAX_TERMS {
+            let j = k - 1;
+            let mut v = flow.times(&s.e[j]);
+            let add = match (j, inputs.harmonic) {
+                (0, _) => Some(flow.input(&inputs.u0, true)),
+                (1, _) => Some(flow.input(&inputs.u1, false)),
+                // F^{(j)}/j! = A ω^j sin(ωt + jπ/2)/j!
+                (_, Some((a_sin, a_cos, _))) => {
+                    let cyc = [a_sin, a_cos, -a_sin, -a_cos][j % 4];
+                    Some(flow.input(&[0.0, 0.0, 0.0, 0.0, cyc * om_pow], false))
+                }
+                _ => None,
+            };
+            if let Some((_, _, om)) = inputs.harmonic {
+                om_pow *= om / k as f64;
+            }
+            if let Some(a) = add {
+                for (vi, ai) in v.iter_mut().zip(a) {
+                    *vi += ai;
+                }
+            }
+            let kf = k as f64;
+            for vi in &mut v {
+                *vi /= kf;
+            }
+            s.e[k] = v;
+            if let Some(t) = converged_terms(&s.e[..=k], len_s) {
+                s.terms = t;
+                return (s, len_s);
+            }
+        }
+        let mut len = len_s;
+        for _ in 0..MAX_HALVINGS {
+            len *= 0.5;
+            if let Some(t) = converged_terms(&s.e, len) {
+                s.terms = t;
+                return (s, len);
+            }
+        }
+        (s, len)
+    }
+
+    /// `x(σ)` by Horner's rule.
+    #[inline]
+    fn eval(&self, sigma_s: f64) -> [f64; N] {
+        let mut y = self.e[self.terms - 1];
+        for k in (0..self.terms - 1).rev() {
+            for (yi, &ei) in y.iter_mut().zip(&self.e[k]) {
+                *yi = *yi * sigma_s + ei;
+            }
+        }
+        y
+    }
+}
+
+/// Terms needed over `len_s`: the first `k` past which two terms in a row
+/// are below [`TERM_TOL`] of each component's largest term, if any.
+fn converged_terms<const N: usize>(e: &[[f64; N]], len_s: f64) -> Option<usize> {
+    let mut largest = [0.0f64; N];
+    let mut small_run = 0;
+    let mut scale = 1.0;
+    for (k, term) in e.iter().enumerate() {
+        let mut small = k > 1;
+        for (m, &t) in largest.iter_mut().zip(term) {
+            let size = t.abs() * scale;
+            if size > TERM_TOL * *m {
+                small = false;
+            }
+            *m = m.max(size);
+        }
+        small_run = if small { small_run + 1 } else { 0 };
+        if small_run == 2 {
+            return Some(k + 1);
+        }
+        scale *= len_s;
+    }
+    None
+}
+
+/// One switching function of an axle: a number whose sign decides one
+/// part of the regime, as [`regime_of`] reads it.
+#[derive(Debug, Clone, Copy)]
+enum Switching {
+    /// Travel rate (damper bump side at ≥ 0).
+    Rate(usize),
+    /// Travel past the bump clearance (engaged above 0).
+    BumpStop(usize, f64),
+    /// Travel past the rebound clearance (engaged above 0).
+    ReboundStop(usize, f64),
+    /// Contact margin (on the road unless below 0).
+    Contact(usize),
+}
+
+impl Switching {
+    fn value<const N: usize>(self, model: &ElementModel<'_>, x: &[f64; N], road: &RoadState) -> f64 {
+        let n = N / 2;
+        let mut q = [0.0; MAX_DOF];
+        let mut qd = [0.0; MAX_DOF];
+        q[..n].copy_from_slice(&x[..n]);
+        qd[..n].copy_from_slice(&x[n..]);
+        let axle = match self {
+            Switching::Rate(i)
+            | Switching::BumpStop(i, _)
+            | Switching::ReboundStop(i, _)
+            | Switching::Contact(i) => i,
+        };
+        let (travel, rate, margin) = model.axle_margins(axle, &q, &qd, road);
+        match self {
+            Switching::Rate(_) => rate,
+            Switching::BumpStop(_, c) => travel - c,
+            Switching::ReboundStop(_, c) => -travel - c,
+            Switching::Contact(_) => margin,
+        }
+    }
+
+    /// The side of the switch `value` lies on, as [`regime_of`] decides it.
+    fn side(self, value: f64) -> bool {
+        match self {
+            Switching::Rate(_) => value >= 0.0,
+            Switching::BumpStop(..) | Switching::ReboundStop(..) => value > 0.0,
+            Switching::Contact(_) => !(value < 0.0),
+        }
+    }
+}
+
+/// The switching functions that can explain a change from `a` to `b`.
+fn candidates(vehicle: &Vehicle, a: &[AxleRegime; 2], b: &[AxleRegime; 2]) -> Vec<Switching> {
+    let mut out = Vec::with_capacity(4);
+    for (i, axle) in vehicle.axles.iter().enumerate() {
+        if a[i].damper != b[i].damper {
+            out.push(Switching::Rate(i));
+        }
+        if let (true, Some(s)) = (a[i].stop != b[i].stop, &axle.stops) {
+            let involves = |side| a[i].stop == side || b[i].stop == side;
+            if let (true, Some(c)) = (involves(StopSide::Bump), s.bump_clearance_m) {
+                out.push(Switching::BumpStop(i, c));
+            }
+            if let (true, Some(c)) = (involves(StopSide::Rebound), s.rebound_clearance_m) {
+                out.push(Switching::ReboundStop(i, c));
+            }
+        }
+        if a[i].on_road != b[i].on_road {
+            out.push(Switching::Contact(i));
+        }
+    }
+    out
 }
 
 /// The regime at `x` with held inputs `w` (road rates of the hold): travel,
@@ -351,11 +543,14 @@ fn regime_at<const N: usize>(
     let mut qd = [0.0; MAX_DOF];
     q[..n].copy_from_slice(&x[..n]);
     qd[..n].copy_from_slice(&x[n..]);
-    let road = RoadState {
+    regime_of(model.vehicle(), &model.axle_kinematics(&q, &qd, &road(w, rate_m_s)))
+}
+
+fn road(w: &[f64; 3], rate_m_s: [f64; 2]) -> RoadState {
+    RoadState {
         elevation_m: [w[0], w[1]],
         rate_m_s,
-    };
-    regime_of(model.vehicle(), &model.axle_kinematics(&q, &qd, &road))
+    }
 }
 
 pub(super) fn run(
@@ -375,7 +570,7 @@ pub(super) fn run(
 struct Walk<'a, const N: usize> {
     cache: Cache<'a, N>,
     model: ElementModel<'a>,
-    inputs: Inputs<'a>,
+    inputs: Inputs,
     stats: PiecewiseStats,
 }
 
@@ -393,39 +588,138 @@ impl<const N: usize> Walk<'_, N> {
         }
     }
 
-    /// Advances `x` across one output interval; returns the regime at its end.
+    /// Advances `x` across one output interval; returns the regime at its
+    /// end. The whole-interval update is tried first; only when the regime
+    /// at its end differs is the interval walked along the series.
     fn interval(&mut self, x: &mut [f64; N], iv: &Interval) -> [AxleRegime; 2] {
-        let mut regime = regime_at(&self.model, x, &iv.w0, iv.rate_m_s);
-        let (mut p, mut level, mut switches) = (0u32, 0u32, 0u32);
-        while p < FULL {
-            let step = FULL >> level;
-            let (w0, w1) = (self.inputs.at(iv, p), self.inputs.at(iv, p + step));
-            let x_try = self.cache.update(&regime, level).advance(x, &w0, &w1);
-            let end = regime_at(&self.model, &x_try, &w1, iv.rate_m_s);
-            let locating = switches < MAX_SWITCHES_PER_INTERVAL;
-            if end != regime && locating && level < MAX_LEVEL {
-                level += 1; // halve: the switch lies in this sub-step
+        let start = regime_at(&self.model, x, &iv.w0, iv.rate_m_s);
+        let x_try = self.cache.regime(&start).update.advance(x, &iv.w0, &iv.w1);
+        let end = regime_at(&self.model, &x_try, &iv.w1, iv.rate_m_s);
+        if end == start {
+            *x = x_try;
+            return end;
+        }
+        self.across(x, iv, start)
+    }
+
+    /// Walks an interval that has a switch: piece by piece along each
+    /// regime's series, each switch located on its switching function.
+    fn across(&mut self, x: &mut [f64; N], iv: &Interval, mut regime: [AxleRegime; 2]) -> [AxleRegime; 2] {
+        let h_s = self.cache.h_s;
+        let (mut s0, mut switches) = (0.0f64, 0u32);
+        // Past the cap, pieces of a fixed length, not located.
+        let mut capped_piece_s: Option<f64> = None;
+        loop {
+            let remaining = h_s - s0;
+            let want = capped_piece_s.map_or(remaining, |p| p.min(remaining));
+            let inputs = self.inputs.series_at(iv, s0);
+            let flow = &self.cache.regime(&regime).flow;
+            let (series, len) = Series::build(flow, x, &inputs, want);
+            let last = len >= remaining;
+            let w_end = if last { iv.w1 } else { self.inputs.at(iv, s0 + len) };
+            let x_end = series.eval(if last { remaining } else { len });
+            let end = regime_at(&self.model, &x_end, &w_end, iv.rate_m_s);
+            if end == regime || capped_piece_s.is_some() {
+                *x = x_end;
+                regime = end;
+                if last {
+                    return regime;
+                }
+                s0 += len;
                 continue;
             }
-            *x = x_try;
-            p += step;
-            if end != regime {
-                if locating {
-                    switches += 1;
-                    self.count(&regime, &end);
-                    if switches == MAX_SWITCHES_PER_INTERVAL {
-                        self.stats.chattering_intervals += 1;
-                    }
-                }
-                regime = end;
+            let sigma = self.locate(&series, iv, s0, len.min(remaining), &regime, &end);
+            let at_end = last && sigma >= remaining;
+            let w = if at_end { iv.w1 } else { self.inputs.at(iv, s0 + sigma) };
+            *x = series.eval(sigma);
+            let new = regime_at(&self.model, x, &w, iv.rate_m_s);
+            switches += 1;
+            if new != regime {
+                self.count(&regime, &new);
             }
-            // Coarsen while the position allows the longer sub-step.
-            while level > 0 && p % (FULL >> (level - 1)) == 0 {
-                level -= 1;
+            regime = new;
+            if at_end {
+                return regime;
+            }
+            s0 += sigma;
+            if switches == MAX_SWITCHES_PER_INTERVAL {
+                self.stats.chattering_intervals += 1;
+                capped_piece_s = Some((h_s - s0) / CAPPED_PIECES);
             }
         }
-        regime
     }
+
+    /// The first instant in `(0, len]` after `s0` at which one of the
+    /// switching functions that differ between `from` and `to` changes
+    /// side, to rounding: the earliest of their roots, each found by the
+    /// Illinois variant of regula falsi on the series (Dowell & Jarratt,
+    /// BIT 11, 1971), returned on the new side of the bracket.
+    fn locate(
+        &self,
+        series: &Series<N>,
+        iv: &Interval,
+        s0: f64,
+        len: f64,
+        from: &[AxleRegime; 2],
+        to: &[AxleRegime; 2],
+    ) -> f64 {
+        let value = |f: Switching, sigma: f64| {
+            let w = self.inputs.at(iv, s0 + sigma);
+            f.value(&self.model, &series.eval(sigma), &road(&w, iv.rate_m_s))
+        };
+        let mut first = len;
+        for f in candidates(self.model.vehicle(), from, to) {
+            let g0 = value(f, 0.0);
+            let g1 = value(f, first);
+            if f.side(g0) == f.side(g1) {
+                continue;
+            }
+            first = illinois(|s| value(f, s), |g| f.side(g) == f.side(g0), (0.0, g0), (first, g1));
+        }
+        first
+    }
+}
+
+/// Pieces the rest of an interval is cut into past the switch cap.
+const CAPPED_PIECES: f64 = 16.0;
+
+/// Root of `g` bracketed by `lo` (on the old side: `old(g)` true) and `hi`
+/// (not): the Illinois method, bisecting when a step would leave the
+/// bracket; returns the bracket's new-side end once the bracket is a few
+/// rounding units wide.
+fn illinois(
+    g: impl Fn(f64) -> f64,
+    old: impl Fn(f64) -> bool,
+    (mut lo, mut g_lo): (f64, f64),
+    (mut hi, mut g_hi): (f64, f64),
+) -> f64 {
+    let mut kept = 0i8; // which end stayed last: -1 lo, 1 hi
+    for _ in 0..100 {
+        if hi - lo <= 4.0 * f64::EPSILON * hi {
+            break;
+        }
+        let mut m = lo - g_lo * (hi - lo) / (g_hi - g_lo);
+        if !(m > lo && m < hi) {
+            m = 0.5 * (lo + hi);
+        }
+        let gm = g(m);
+        if old(gm) {
+            lo = m;
+            g_lo = gm;
+            if kept == 1 {
+                g_hi *= 0.5;
+            }
+            kept = 1;
+        } else {
+            hi = m;
+            g_hi = gm;
+            if kept == -1 {
+                g_lo *= 0.5;
+            }
+            kept = -1;
+        }
+    }
+    hi
 }
 
 fn run_fixed<const N: usize, const D: usize>(
@@ -455,9 +749,11 @@ fn run_fixed<const N: usize, const D: usize>(
         },
         model: vehicle.element_model(),
         inputs: Inputs {
-            excitation,
             h_s: dt,
-            harmonic: harmonic_hz.is_some(),
+            harmonic: harmonic_hz.and_then(|f_hz| {
+                let amp = excitation.force.map(|f| f.amplitude_n)?;
+                Some((amp, 2.0 * std::f64::consts::PI * f_hz))
+            }),
         },
         stats: PiecewiseStats::default(),
     };

@@ -423,34 +423,3 @@ fn bad_settings_are_refused() {
     );
 }
 
-#[test]
-fn the_compact_sub_step_discretisation_equals_the_van_loan_3n_form() {
-    // Reference: the exact path's 3n-square Van Loan form (itself checked
-    // against scipy's lsim and closed forms elsewhere) for the same regime
-    // and step; both are exact, so they agree to rounding. A regime with a
-    // stop engaged and a lifted tyre has a constant term (P c there).
-    let text = include_str!("../../profiles/vehicles/demo_van_stops.toml");
-    let v = parse_vehicle(text, std::path::Path::new("van.toml")).unwrap();
-    let mut regime = [crate::vehicle::AxleRegime::LINEAR; 2];
-    regime[0].stop = crate::vehicle::StopSide::Bump;
-    regime[0].damper = crate::vehicle::DamperSide::Rebound;
-    regime[1].on_road = false;
-    let (ss, c) = v.state_space_in(&regime, 0.8);
-    for level in [1u32, 5, 12, 20] {
-        let h = 1e-3 / f64::from(1u32 << level);
-        let (d, p) = exact::discretise_state_space(&ss, h);
-        let (k, gc) = piecewise::discretise_compact(&ss, Some(&c), h);
-        let close = |a: &DMatrix<f64>, b: &DMatrix<f64>, what: &str| {
-            let scale = b.amax().max(1e-300);
-            let err = (a - b).amax() / scale;
-            assert!(err < 1e-12, "level {level} {what}: {err:e}");
-        };
-        close(&k.phi, &d.phi, "phi");
-        close(&k.g0, &d.g0, "g0");
-        close(&k.g1, &d.g1, "g1");
-        let pc: DVector<f64> = &p * &c;
-        let gc = gc.unwrap();
-        let err = (&gc - &pc).amax() / pc.amax();
-        assert!(err < 1e-12, "level {level} gc: {err:e}");
-    }
-}

@@ -798,36 +798,54 @@ impl ElementModel<'_> {
         road: &RoadState,
     ) -> AxleKinematics {
         let mut out = AxleKinematics::default();
-        for (i, axle) in self.vehicle.axles.iter().enumerate() {
-            let zb = q[0] + axle.x_m * q[1];
-            let vb = qd[0] + axle.x_m * qd[1];
-            let wheel = self.wheel[i].filter(|&w| w < D);
-            let (zl, vl) = match wheel {
-                Some(w) => (q[w], qd[w]),
-                None => (road.elevation_m[i], road.rate_m_s[i]),
-            };
-            let travel = zl - zb;
-            let rate = vl - vb;
-            out.in_contact[i] = match (wheel, &axle.tyre) {
-                (Some(w), Some(t)) => {
-                    let ft = t.rate_n_m * (road.elevation_m[i] - q[w])
-                        + t.damping_n_s_m * (road.rate_m_s[i] - qd[w]);
-                    let pulls = ft + self.static_contact_n[i] < 0.0;
-                    !pulls
-                }
-                _ => {
-                    let mut fs = axle.spring_n_m * travel + axle.damper.force_n(rate);
-                    if let Some(s) = &axle.stops {
-                        fs += s.force_n(travel);
-                    }
-                    let pulls = fs + self.static_suspension_n[i] < 0.0;
-                    !pulls
-                }
-            };
+        for i in 0..self.vehicle.axles.len() {
+            let (travel, rate, margin) = self.axle_margins(i, q, qd, road);
+            // The element model's test: the contact force may not pull.
+            out.in_contact[i] = !(margin < 0.0);
             out.travel_m[i] = travel;
             out.travel_rate_m_s[i] = rate;
         }
         out
+    }
+
+    /// Axle `i`'s travel (m), travel rate (m/s) and contact margin (N):
+    /// the contact force plus the static load, negative when the tyre
+    /// (or, without a tyre, the spring) would have to pull. The same
+    /// arithmetic as [`ElementModel::evaluate_with`]; the piecewise-exact
+    /// solver locates lift-off and touch-down on the margin's zero.
+    #[inline]
+    pub fn axle_margins<const D: usize>(
+        &self,
+        i: usize,
+        q: &[f64; D],
+        qd: &[f64; D],
+        road: &RoadState,
+    ) -> (f64, f64, f64) {
+        let axle = &self.vehicle.axles[i];
+        let zb = q[0] + axle.x_m * q[1];
+        let vb = qd[0] + axle.x_m * qd[1];
+        let wheel = self.wheel[i].filter(|&w| w < D);
+        let (zl, vl) = match wheel {
+            Some(w) => (q[w], qd[w]),
+            None => (road.elevation_m[i], road.rate_m_s[i]),
+        };
+        let travel = zl - zb;
+        let rate = vl - vb;
+        let margin = match (wheel, &axle.tyre) {
+            (Some(w), Some(t)) => {
+                let ft = t.rate_n_m * (road.elevation_m[i] - q[w])
+                    + t.damping_n_s_m * (road.rate_m_s[i] - qd[w]);
+                ft + self.static_contact_n[i]
+            }
+            _ => {
+                let mut fs = axle.spring_n_m * travel + axle.damper.force_n(rate);
+                if let Some(s) = &axle.stops {
+                    fs += s.force_n(travel);
+                }
+                fs + self.static_suspension_n[i]
+            }
+        };
+        (travel, rate, margin)
     }
 }
 
