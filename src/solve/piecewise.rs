@@ -370,13 +370,18 @@ struct Series<const N: usize> {
 }
 
 impl<const N: usize> Series<N> {
-    /// The terms for `x` and `inputs`; returns them with the longest piece
-    /// (`len_s`, halved as needed) over which they have converged.
-    fn build(flow: &Flow<N>, x: &[f64; N], inputs: &InputSeries, len_s: f64) -> (Self, f64) {
-        let mut s = Series {
+    fn new() -> Box<Self> {
+        Box::new(Series {
             e: [[0.0; N]; MAX_TERMS],
-            terms: MAX_TERMS,
-        };
+            terms: 1,
+        })
+    }
+
+    /// Fills the terms for `x` and `inputs`; returns the longest piece
+    /// (`len_s`, halved as needed) over which they have converged.
+    fn build(&mut self, flow: &Flow<N>, x: &[f64; N], inputs: &InputSeries, len_s: f64) -> f64 {
+        let s = self;
+        s.terms = MAX_TERMS;
         s.e[0] = *x;
         // ω^j/j! for the harmonic force's terms.
         let mut om_pow = 1.0;
@@ -408,7 +413,7 @@ impl<const N: usize> Series<N> {
             s.e[k] = v;
             if let Some(t) = converged_terms(&s.e[..=k], len_s) {
                 s.terms = t;
-                return (s, len_s);
+                return len_s;
             }
         }
         let mut len = len_s;
@@ -416,10 +421,10 @@ impl<const N: usize> Series<N> {
             len *= 0.5;
             if let Some(t) = converged_terms(&s.e, len) {
                 s.terms = t;
-                return (s, len);
+                return len;
             }
         }
-        (s, len)
+        len
     }
 
     /// `x(σ)` by Horner's rule.
@@ -474,7 +479,12 @@ enum Switching {
 }
 
 impl Switching {
-    fn value<const N: usize>(self, model: &ElementModel<'_>, x: &[f64; N], road: &RoadState) -> f64 {
+    fn value<const N: usize>(
+        self,
+        model: &ElementModel<'_>,
+        x: &[f64; N],
+        road: &RoadState,
+    ) -> f64 {
         let n = N / 2;
         let mut q = [0.0; MAX_DOF];
         let mut qd = [0.0; MAX_DOF];
@@ -543,7 +553,10 @@ fn regime_at<const N: usize>(
     let mut qd = [0.0; MAX_DOF];
     q[..n].copy_from_slice(&x[..n]);
     qd[..n].copy_from_slice(&x[n..]);
-    regime_of(model.vehicle(), &model.axle_kinematics(&q, &qd, &road(w, rate_m_s)))
+    regime_of(
+        model.vehicle(),
+        &model.axle_kinematics(&q, &qd, &road(w, rate_m_s)),
+    )
 }
 
 fn road(w: &[f64; 3], rate_m_s: [f64; 2]) -> RoadState {
@@ -572,6 +585,8 @@ struct Walk<'a, const N: usize> {
     model: ElementModel<'a>,
     inputs: Inputs,
     stats: PiecewiseStats,
+    /// The series' storage, reused from switch to switch.
+    series: Option<Box<Series<N>>>,
 }
 
 impl<const N: usize> Walk<'_, N> {
@@ -604,7 +619,25 @@ impl<const N: usize> Walk<'_, N> {
 
     /// Walks an interval that has a switch: piece by piece along each
     /// regime's series, each switch located on its switching function.
-    fn across(&mut self, x: &mut [f64; N], iv: &Interval, mut regime: [AxleRegime; 2]) -> [AxleRegime; 2] {
+    fn across(
+        &mut self,
+        x: &mut [f64; N],
+        iv: &Interval,
+        regime: [AxleRegime; 2],
+    ) -> [AxleRegime; 2] {
+        let mut series = self.series.take().unwrap_or_else(Series::new);
+        let end = self.walk(&mut series, x, iv, regime);
+        self.series = Some(series);
+        end
+    }
+
+    fn walk(
+        &mut self,
+        series: &mut Series<N>,
+        x: &mut [f64; N],
+        iv: &Interval,
+        mut regime: [AxleRegime; 2],
+    ) -> [AxleRegime; 2] {
         let h_s = self.cache.h_s;
         let (mut s0, mut switches) = (0.0f64, 0u32);
         // Past the cap, pieces of a fixed length, not located.
@@ -614,9 +647,13 @@ impl<const N: usize> Walk<'_, N> {
             let want = capped_piece_s.map_or(remaining, |p| p.min(remaining));
             let inputs = self.inputs.series_at(iv, s0);
             let flow = &self.cache.regime(&regime).flow;
-            let (series, len) = Series::build(flow, x, &inputs, want);
+            let len = series.build(flow, x, &inputs, want);
             let last = len >= remaining;
-            let w_end = if last { iv.w1 } else { self.inputs.at(iv, s0 + len) };
+            let w_end = if last {
+                iv.w1
+            } else {
+                self.inputs.at(iv, s0 + len)
+            };
             let x_end = series.eval(if last { remaining } else { len });
             let end = regime_at(&self.model, &x_end, &w_end, iv.rate_m_s);
             if end == regime || capped_piece_s.is_some() {
@@ -628,9 +665,13 @@ impl<const N: usize> Walk<'_, N> {
                 s0 += len;
                 continue;
             }
-            let sigma = self.locate(&series, iv, s0, len.min(remaining), &regime, &end);
+            let sigma = self.locate(series, iv, s0, len.min(remaining), &regime, &end);
             let at_end = last && sigma >= remaining;
-            let w = if at_end { iv.w1 } else { self.inputs.at(iv, s0 + sigma) };
+            let w = if at_end {
+                iv.w1
+            } else {
+                self.inputs.at(iv, s0 + sigma)
+            };
             *x = series.eval(sigma);
             let new = regime_at(&self.model, x, &w, iv.rate_m_s);
             switches += 1;
@@ -674,7 +715,12 @@ impl<const N: usize> Walk<'_, N> {
             if f.side(g0) == f.side(g1) {
                 continue;
             }
-            first = illinois(|s| value(f, s), |g| f.side(g) == f.side(g0), (0.0, g0), (first, g1));
+            first = illinois(
+                |s| value(f, s),
+                |g| f.side(g) == f.side(g0),
+                (0.0, g0),
+                (first, g1),
+            );
         }
         first
     }
@@ -756,6 +802,7 @@ fn run_fixed<const N: usize, const D: usize>(
             }),
         },
         stats: PiecewiseStats::default(),
+        series: None,
     };
     let mut x = [0.0; N];
     let mut inputs = excitation.at(0.0);

@@ -422,4 +422,3 @@ fn bad_settings_are_refused() {
         SolverKind::Piecewise
     );
 }
-
