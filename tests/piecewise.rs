@@ -164,7 +164,7 @@ fn a_stop_engages_when_and_as_the_closed_form_solution_says() {
     }
     // The engaging instant is located to rounding on the switching
     // function; the kink makes the state error second order in the
-    // location error, so 1e-9 of the 2 cm clearance leaves room for the
+    // location error, so 5e-12 of the 2 cm clearance leaves room for the
     // exponential's and the series' rounding.
     // Seen: 2.9e-16 m.
     assert!(
