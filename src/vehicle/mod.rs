@@ -717,19 +717,8 @@ impl ElementModel<'_> {
         let mut body_moment = force_n * force_x_m;
         *qdd = [0.0; D];
         for (i, axle) in self.vehicle.axles.iter().enumerate() {
-            let zb = q[0] + axle.x_m * q[1];
-            let vb = qd[0] + axle.x_m * qd[1];
-            let wheel = self.wheel[i].filter(|&w| w < D);
-            let (zl, vl) = match wheel {
-                Some(w) => (q[w], qd[w]),
-                None => (road.elevation_m[i], road.rate_m_s[i]),
-            };
-            let travel = zl - zb;
-            let rate = vl - vb;
-            let mut fs = axle.spring_n_m * travel + axle.damper.force_n(rate);
-            if let Some(s) = &axle.stops {
-                fs += s.force_n(travel);
-            }
+            let (travel, rate, wheel) = self.axle_motion(i, q, qd, road);
+            let mut fs = suspension_force_n(axle, travel, rate);
             let mut contact = true;
             match (wheel, &axle.tyre) {
                 (Some(w), Some(t)) => {
@@ -822,31 +811,50 @@ impl ElementModel<'_> {
         road: &RoadState,
     ) -> (f64, f64, f64) {
         let axle = &self.vehicle.axles[i];
-        let zb = q[0] + axle.x_m * q[1];
-        let vb = qd[0] + axle.x_m * qd[1];
-        let wheel = self.wheel[i].filter(|&w| w < D);
-        let (zl, vl) = match wheel {
-            Some(w) => (q[w], qd[w]),
-            None => (road.elevation_m[i], road.rate_m_s[i]),
-        };
-        let travel = zl - zb;
-        let rate = vl - vb;
+        let (travel, rate, wheel) = self.axle_motion(i, q, qd, road);
         let margin = match (wheel, &axle.tyre) {
             (Some(w), Some(t)) => {
                 let ft = t.rate_n_m * (road.elevation_m[i] - q[w])
                     + t.damping_n_s_m * (road.rate_m_s[i] - qd[w]);
                 ft + self.static_contact_n[i]
             }
-            _ => {
-                let mut fs = axle.spring_n_m * travel + axle.damper.force_n(rate);
-                if let Some(s) = &axle.stops {
-                    fs += s.force_n(travel);
-                }
-                fs + self.static_suspension_n[i]
-            }
+            _ => suspension_force_n(axle, travel, rate) + self.static_suspension_n[i],
         };
         (travel, rate, margin)
     }
+
+    /// Axle `i`'s travel (m, compression positive) and travel rate (m/s),
+    /// and its wheel's coordinate when the wheel is modelled (otherwise the
+    /// suspension stands on the road).
+    #[inline(always)]
+    fn axle_motion<const D: usize>(
+        &self,
+        i: usize,
+        q: &[f64; D],
+        qd: &[f64; D],
+        road: &RoadState,
+    ) -> (f64, f64, Option<usize>) {
+        let x_m = self.vehicle.axles[i].x_m;
+        let zb = q[0] + x_m * q[1];
+        let vb = qd[0] + x_m * qd[1];
+        let wheel = self.wheel[i].filter(|&w| w < D);
+        let (zl, vl) = match wheel {
+            Some(w) => (q[w], qd[w]),
+            None => (road.elevation_m[i], road.rate_m_s[i]),
+        };
+        (zl - zb, vl - vb, wheel)
+    }
+}
+
+/// Spring, damper and stop force of an axle's suspension, N (compression
+/// positive).
+#[inline(always)]
+fn suspension_force_n(axle: &Axle, travel_m: f64, rate_m_s: f64) -> f64 {
+    let mut fs = axle.spring_n_m * travel_m + axle.damper.force_n(rate_m_s);
+    if let Some(s) = &axle.stops {
+        fs += s.force_n(travel_m);
+    }
+    fs
 }
 
 /// Per-axle travel, travel rate and contact: the part of an
