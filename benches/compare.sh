@@ -36,8 +36,8 @@ BIN=target/release/roughride
 cpu_model=$(grep -m1 'model name' /proc/cpuinfo 2>/dev/null | cut -d: -f2- | sed 's/^ *//' || true)
 cpu_model=${cpu_model:-unknown cpu}
 cores=$(nproc)
-slug=$(printf '%s' "$cpu_model" | tr 'A-Z' 'a-z' | tr -cs 'a-z0-9' '-' | sed 's/^-//;s/-$//' | cut -c1-40)
-OUT="benches/results/$(date +%F)-${cores}cpu-${slug}"
+. benches/common.sh
+OUT=$(machine_results_dir)
 mkdir -p "$OUT"
 TAG="${LENGTH_M}m"
 
@@ -47,27 +47,8 @@ PROFILE="$WORK/road.csv"
 "$BIN" profile --class "$CLASS" --length "$LENGTH_M" --spacing "$SPACING_M" --seed "$SEED" \
     -o "$PROFILE" >/dev/null
 
-HAVE_TIME=0
-if [ -x /usr/bin/time ]; then HAVE_TIME=1; fi
-
-# One timed run: tool name, then the command. Appends a row to times-<length>m.csv.
-run_one() {
-    local rep=$1 order=$2 tool=$3
-    shift 3
-    local t0 t1 cpu="," 
-    t0=$(date +%s%N)
-    if [ "$HAVE_TIME" = 1 ]; then
-        /usr/bin/time -f "%U,%S" -o "$WORK/cpu" "$@" >"$WORK/$tool.json" 2>"$WORK/$tool.err"
-        cpu=$(tail -n 1 "$WORK/cpu")
-    else
-        "$@" >"$WORK/$tool.json" 2>"$WORK/$tool.err"
-    fi
-    t1=$(date +%s%N)
-    local wall
-    wall=$(awk -v a="$t0" -v b="$t1" 'BEGIN { printf "%.4f", (b - a) / 1e9 }')
-    echo "$rep,$order,$tool,$wall,$cpu" >>"$OUT/times-$TAG.csv"
-    printf '  rep %s  %-9s %7s s\n' "$rep" "$tool" "$wall"
-}
+# One timed run: repetition, order, tool name, then the command.
+run_one() { timed_run "$OUT/times-$TAG.csv" 9 "$@"; }
 
 RR=("$BIN" simulate --vehicle "$VEHICLE" --profile "$PROFILE" --speed "$SPEED_M_S" --solver exact --json)
 PY=(python3 benches/baseline_scipy.py --vehicle "$VEHICLE" --profile "$PROFILE" --speed "$SPEED_M_S")

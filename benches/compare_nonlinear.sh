@@ -58,8 +58,8 @@ python3 -c "import numpy, scipy" 2>/dev/null || {
 cargo build --release --quiet --bin roughride
 BIN=target/release/roughride
 
-slug=$(printf '%s' "$cpu_model" | tr 'A-Z' 'a-z' | tr -cs 'a-z0-9' '-' | sed 's/^-//;s/-$//' | cut -c1-40)
-OUT="benches/results/$(date +%F)-${cores}cpu-${slug}"
+. benches/common.sh
+OUT=$(machine_results_dir)
 mkdir -p "$OUT"
 TAG="${LENGTH_M}m"
 
@@ -69,28 +69,8 @@ PROFILE="$WORK/road.csv"
 "$BIN" profile --class "$CLASS" --length "$LENGTH_M" --spacing "$SPACING_M" --seed "$SEED" \
     -o "$PROFILE" >/dev/null
 
-HAVE_TIME=0
-if [ -x /usr/bin/time ]; then HAVE_TIME=1; fi
-
-# One timed run: repetition, order, tool name, then the command. Appends a
-# row to nonlinear-times-<length>m.csv; the output is kept as <tool>.json.
-run_one() {
-    local rep=$1 order=$2 tool=$3
-    shift 3
-    local t0 t1 cpu=","
-    t0=$(date +%s%N)
-    if [ "$HAVE_TIME" = 1 ]; then
-        /usr/bin/time -f "%U,%S" -o "$WORK/cpu" "$@" >"$WORK/$tool.json" 2>"$WORK/$tool.err"
-        cpu=$(tail -n 1 "$WORK/cpu")
-    else
-        "$@" >"$WORK/$tool.json" 2>"$WORK/$tool.err"
-    fi
-    t1=$(date +%s%N)
-    local wall
-    wall=$(awk -v a="$t0" -v b="$t1" 'BEGIN { printf "%.4f", (b - a) / 1e9 }')
-    echo "$rep,$order,$tool,$wall,$cpu" >>"$OUT/nonlinear-times-$TAG.csv"
-    printf '  rep %s  %-19s %8s s\n' "$rep" "$tool" "$wall"
-}
+# One timed run: repetition, order, tool name, then the command.
+run_one() { timed_run "$OUT/nonlinear-times-$TAG.csv" 19 "$@"; }
 
 RR=("$BIN" simulate --vehicle "$VEHICLE" --profile "$PROFILE" --speed "$SPEED_M_S" --json)
 PY=(python3 benches/nonlinear_scipy.py --vehicle "$VEHICLE" --profile "$PROFILE" --speed "$SPEED_M_S")
