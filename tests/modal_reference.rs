@@ -75,17 +75,7 @@ fn check_against_scipy(path: &std::path::Path) {
     }
     // Damped: one entry per conjugate pair; compared as sets ordered by
     // damped frequency, so the check does not depend on our matching.
-    let mut pairs: Vec<(f64, f64)> = r["pairs"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|p| {
-            (
-                p["damped_hz"].as_f64().unwrap(),
-                p["damping_ratio"].as_f64().unwrap(),
-            )
-        })
-        .collect();
+    let mut pairs = common::damped_pairs(&r);
     let mut got: Vec<(f64, f64)> = ours
         .modes
         .iter()

@@ -286,17 +286,7 @@ fn two_suspended_seats_have_the_coupled_eigenvalues_of_scipy() {
         );
     }
     // Every mode of this fixture is underdamped: six conjugate pairs.
-    let mut pairs: Vec<(f64, f64)> = r["pairs"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|p| {
-            (
-                p["damped_hz"].as_f64().unwrap(),
-                p["damping_ratio"].as_f64().unwrap(),
-            )
-        })
-        .collect();
+    let mut pairs = common::damped_pairs(&r);
     let mut got: Vec<(f64, f64)> = ours
         .modes
         .iter()

@@ -103,3 +103,19 @@ pub fn scratch() -> tempfile::TempDir {
 pub fn read(path: &Path) -> String {
     std::fs::read_to_string(path).unwrap_or_else(|e| panic!("{}: {e}", path.display()))
 }
+
+/// The scipy eigenvalue script's conjugate pairs: `(damped_hz, damping_ratio)`
+/// for each entry of its `pairs` array.
+pub fn damped_pairs(r: &serde_json::Value) -> Vec<(f64, f64)> {
+    r["pairs"]
+        .as_array()
+        .expect("the reference's pairs array")
+        .iter()
+        .map(|p| {
+            (
+                p["damped_hz"].as_f64().expect("damped_hz"),
+                p["damping_ratio"].as_f64().expect("damping_ratio"),
+            )
+        })
+        .collect()
+}
