@@ -70,7 +70,9 @@ impl Histogram {
             self.overflow += 1;
         } else {
             // u < len, so the index is in range even after rounding.
-            let i = (u as usize).min(self.counts.len() - 1);
+            // At most 10⁷ bins, so u < 2³²: the u32 cast is exact here and
+            // cheaper than the saturating cast to usize.
+            let i = (u as u32 as usize).min(self.counts.len() - 1);
             self.counts[i] += 1;
         }
     }
@@ -295,6 +297,25 @@ mod tests {
         assert_eq!(h.percentile(10.0), None);
         assert_eq!(h.percentile(90.0), None);
         assert!(h.percentile(50.0).is_some());
+    }
+
+    #[test]
+    fn the_largest_allowed_histogram_bins_values_at_their_floor_index() {
+        // 10^7 unit bins (the limit): the value k + 0.5 belongs to bin k by
+        // the definition of a bin [k, k+1) — checked near both ends, where
+        // the index cast would first go wrong.
+        let mut h = Histogram::new(0.0, 1e7, 1.0).unwrap();
+        let last = h.counts().len() - 1;
+        assert_eq!(last, 9_999_999);
+        for k in [0usize, 1, 4_294_967 % last, last - 1, last] {
+            h.push(k as f64 + 0.5);
+        }
+        h.push(1e7); // the upper edge is outside the last bin
+        for k in [0usize, 1, 4_294_967 % last, last - 1, last] {
+            assert_eq!(h.counts()[k], 1, "bin {k}");
+        }
+        assert_eq!(h.overflow(), 1);
+        assert_eq!(h.total(), 6);
     }
 
     #[test]
