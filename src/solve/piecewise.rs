@@ -56,9 +56,10 @@
 
 use super::exact::{discretise_state_space, harmonic_columns, hold_inputs};
 use super::{Excitation, Plan, RunInfo, Sample, SampleSink, SolveError, SolverKind, sample_count};
+#[cfg(test)]
+use crate::vehicle::AxleKinematics;
 use crate::vehicle::{
-    AxleKinematics, AxleRegime, Contact, DamperSide, ElementModel, MAX_DOF, RoadState, StopSide,
-    Vehicle,
+    AxleRegime, Contact, DamperSide, ElementModel, MAX_DOF, RoadState, StopSide, Vehicle,
 };
 
 /// Switches located per output interval before the rest is taken without
@@ -266,6 +267,7 @@ fn fixed<const N: usize>(d: &super::Discrete, gc: Option<&nalgebra::DVector<f64>
 /// The regime the element model is in at `el` (same comparisons as the
 /// element model: damper bump at travel rate ≥ 0, a stop past its
 /// clearance, contact as the model found it).
+#[cfg(test)]
 pub(crate) fn regime_of(vehicle: &Vehicle, el: &AxleKinematics) -> [AxleRegime; 2] {
     let mut out = [AxleRegime::LINEAR; 2];
     for (i, axle) in vehicle.axles.iter().enumerate() {
@@ -385,6 +387,8 @@ impl<const N: usize> Series<N> {
         s.e[0] = *x;
         // ω^j/j! for the harmonic force's terms.
         let mut om_pow = 1.0;
+        let mut watch = Convergence::new(len_s);
+        watch.push(&s.e[0]);
         for k in 1..MAX_TERMS {
             let j = k - 1;
             let mut v = flow.times(&s.e[j]);
@@ -411,8 +415,8 @@ impl<const N: usize> Series<N> {
                 *vi /= kf;
             }
             s.e[k] = v;
-            if let Some(t) = converged_terms(&s.e[..=k], len_s) {
-                s.terms = t;
+            if watch.push(&s.e[k]) {
+                s.terms = k + 1;
                 return len_s;
             }
         }
@@ -443,25 +447,50 @@ impl<const N: usize> Series<N> {
 /// Terms needed over `len_s`: the first `k` past which two terms in a row
 /// are below [`TERM_TOL`] of each component's largest term, if any.
 fn converged_terms<const N: usize>(e: &[[f64; N]], len_s: f64) -> Option<usize> {
-    let mut largest = [0.0f64; N];
-    let mut small_run = 0;
-    let mut scale = 1.0;
-    for (k, term) in e.iter().enumerate() {
-        let mut small = k > 1;
-        for (m, &t) in largest.iter_mut().zip(term) {
-            let size = t.abs() * scale;
+    let mut watch = Convergence::new(len_s);
+    e.iter().position(|term| watch.push(term)).map(|k| k + 1)
+}
+
+/// The test of [`converged_terms`] taken one term at a time as the terms
+/// are built, so building `K` terms checks `K` terms, not `K²/2`.
+struct Convergence<const N: usize> {
+    /// Each component's largest term so far, scaled to the piece's end.
+    largest: [f64; N],
+    /// Terms in a row below the tolerance.
+    small_run: u32,
+    /// `len^k` for the next term `k`.
+    scale: f64,
+    len_s: f64,
+    k: usize,
+}
+
+impl<const N: usize> Convergence<N> {
+    fn new(len_s: f64) -> Self {
+        Convergence {
+            largest: [0.0; N],
+            small_run: 0,
+            scale: 1.0,
+            len_s,
+            k: 0,
+        }
+    }
+
+    /// Takes the next term; true once two terms in a row were negligible.
+    #[inline]
+    fn push(&mut self, term: &[f64; N]) -> bool {
+        let mut small = self.k > 1;
+        for (m, &t) in self.largest.iter_mut().zip(term) {
+            let size = t.abs() * self.scale;
             if size > TERM_TOL * *m {
                 small = false;
             }
             *m = m.max(size);
         }
-        small_run = if small { small_run + 1 } else { 0 };
-        if small_run == 2 {
-            return Some(k + 1);
-        }
-        scale *= len_s;
+        self.small_run = if small { self.small_run + 1 } else { 0 };
+        self.scale *= self.len_s;
+        self.k += 1;
+        self.small_run == 2
     }
-    None
 }
 
 /// One switching function of an axle: a number whose sign decides one
@@ -485,18 +514,13 @@ impl Switching {
         x: &[f64; N],
         road: &RoadState,
     ) -> f64 {
-        let n = N / 2;
-        let mut q = [0.0; MAX_DOF];
-        let mut qd = [0.0; MAX_DOF];
-        q[..n].copy_from_slice(&x[..n]);
-        qd[..n].copy_from_slice(&x[n..]);
         let axle = match self {
             Switching::Rate(i)
             | Switching::BumpStop(i, _)
             | Switching::ReboundStop(i, _)
             | Switching::Contact(i) => i,
         };
-        let (travel, rate, margin) = model.axle_margins(axle, &q, &qd, road);
+        let (travel, rate, margin) = model.axle_margins_of_state(axle, x, road);
         match self {
             Switching::Rate(_) => rate,
             Switching::BumpStop(_, c) => travel - c,
@@ -538,25 +562,67 @@ fn candidates(vehicle: &Vehicle, a: &[AxleRegime; 2], b: &[AxleRegime; 2]) -> Ve
     out
 }
 
-/// The regime at `x` with held inputs `w` (road rates of the hold): travel,
-/// travel rate and contact only, as the element model computes them
-/// ([`ElementModel::axle_kinematics`]), not the whole element state.
-#[inline]
-fn regime_at<const N: usize>(
-    model: &ElementModel<'_>,
-    x: &[f64; N],
-    w: &[f64; 3],
-    rate_m_s: [f64; 2],
-) -> [AxleRegime; 2] {
-    let n = N / 2;
-    let mut q = [0.0; MAX_DOF];
-    let mut qd = [0.0; MAX_DOF];
-    q[..n].copy_from_slice(&x[..n]);
-    qd[..n].copy_from_slice(&x[n..]);
-    regime_of(
-        model.vehicle(),
-        &model.axle_kinematics(&q, &qd, &road(w, rate_m_s)),
-    )
+/// The regime test of [`regime_of`] with each axle's damper and stops read
+/// once per run: at every interval end it reads travel, travel rate and
+/// contact margin from the state in place
+/// ([`ElementModel::axle_margins_of_state`], the element model's
+/// arithmetic) and compares them as `regime_of` does.
+struct Probe<'a> {
+    model: ElementModel<'a>,
+    /// Per axle: whether the damper is one-sided.
+    asymmetric: [bool; 2],
+    /// Per axle: bump and rebound clearances (infinite when absent, which
+    /// no travel passes, as `regime_of` never engages an absent stop).
+    clearance_m: [(f64, f64); 2],
+}
+
+impl<'a> Probe<'a> {
+    fn new(vehicle: &'a Vehicle) -> Self {
+        let axle = |i: usize| &vehicle.axles[i];
+        let clearance = |i: usize| {
+            axle(i).stops.map_or((f64::INFINITY, f64::INFINITY), |s| {
+                (
+                    s.bump_clearance_m.unwrap_or(f64::INFINITY),
+                    s.rebound_clearance_m.unwrap_or(f64::INFINITY),
+                )
+            })
+        };
+        Probe {
+            model: vehicle.element_model(),
+            asymmetric: [0, 1].map(|i| axle(i).damper.is_asymmetric()),
+            clearance_m: [clearance(0), clearance(1)],
+        }
+    }
+
+    /// The regime at `x` with held inputs `w` (road rates of the hold).
+    #[inline]
+    fn regime<const N: usize>(
+        &self,
+        x: &[f64; N],
+        w: &[f64; 3],
+        rate_m_s: [f64; 2],
+    ) -> [AxleRegime; 2] {
+        let road = road(w, rate_m_s);
+        let mut out = [AxleRegime::LINEAR; 2];
+        for (i, r) in out.iter_mut().enumerate() {
+            let (travel, rate, margin) = self.model.axle_margins_of_state(i, x, &road);
+            if self.asymmetric[i] {
+                r.damper = if rate >= 0.0 {
+                    DamperSide::Bump
+                } else {
+                    DamperSide::Rebound
+                };
+            }
+            let (bump_m, rebound_m) = self.clearance_m[i];
+            if travel > bump_m {
+                r.stop = StopSide::Bump;
+            } else if travel < -rebound_m {
+                r.stop = StopSide::Rebound;
+            }
+            r.on_road = !(margin < 0.0);
+        }
+        out
+    }
 }
 
 fn road(w: &[f64; 3], rate_m_s: [f64; 2]) -> RoadState {
@@ -582,7 +648,7 @@ pub(super) fn run(
 /// State of the stepping across intervals.
 struct Walk<'a, const N: usize> {
     cache: Cache<'a, N>,
-    model: ElementModel<'a>,
+    probe: Probe<'a>,
     inputs: Inputs,
     stats: PiecewiseStats,
     /// The series' storage, reused from switch to switch.
@@ -607,9 +673,9 @@ impl<const N: usize> Walk<'_, N> {
     /// end. The whole-interval update is tried first; only when the regime
     /// at its end differs is the interval walked along the series.
     fn interval(&mut self, x: &mut [f64; N], iv: &Interval) -> [AxleRegime; 2] {
-        let start = regime_at(&self.model, x, &iv.w0, iv.rate_m_s);
+        let start = self.probe.regime(x, &iv.w0, iv.rate_m_s);
         let x_try = self.cache.regime(&start).update.advance(x, &iv.w0, &iv.w1);
-        let end = regime_at(&self.model, &x_try, &iv.w1, iv.rate_m_s);
+        let end = self.probe.regime(&x_try, &iv.w1, iv.rate_m_s);
         if end == start {
             *x = x_try;
             return end;
@@ -655,7 +721,7 @@ impl<const N: usize> Walk<'_, N> {
                 self.inputs.at(iv, s0 + len)
             };
             let x_end = series.eval(if last { remaining } else { len });
-            let end = regime_at(&self.model, &x_end, &w_end, iv.rate_m_s);
+            let end = self.probe.regime(&x_end, &w_end, iv.rate_m_s);
             if end == regime || capped_piece_s.is_some() {
                 *x = x_end;
                 regime = end;
@@ -673,7 +739,7 @@ impl<const N: usize> Walk<'_, N> {
                 self.inputs.at(iv, s0 + sigma)
             };
             *x = series.eval(sigma);
-            let new = regime_at(&self.model, x, &w, iv.rate_m_s);
+            let new = self.probe.regime(x, &w, iv.rate_m_s);
             switches += 1;
             if new != regime {
                 self.count(&regime, &new);
@@ -706,10 +772,14 @@ impl<const N: usize> Walk<'_, N> {
     ) -> f64 {
         let value = |f: Switching, sigma: f64| {
             let w = self.inputs.at(iv, s0 + sigma);
-            f.value(&self.model, &series.eval(sigma), &road(&w, iv.rate_m_s))
+            f.value(
+                &self.probe.model,
+                &series.eval(sigma),
+                &road(&w, iv.rate_m_s),
+            )
         };
         let mut first = len;
-        for f in candidates(self.model.vehicle(), from, to) {
+        for f in candidates(self.probe.model.vehicle(), from, to) {
             let g0 = value(f, 0.0);
             let g1 = value(f, first);
             if f.side(g0) == f.side(g1) {
@@ -793,7 +863,7 @@ fn run_fixed<const N: usize, const D: usize>(
             slots: (0..AXLE_CODES * AXLE_CODES).map(|_| None).collect(),
             met: 0,
         },
-        model: vehicle.element_model(),
+        probe: Probe::new(vehicle),
         inputs: Inputs {
             h_s: dt,
             harmonic: harmonic_hz.and_then(|f_hz| {
@@ -812,8 +882,15 @@ fn run_fixed<const N: usize, const D: usize>(
         let mut qd = [0.0; MAX_DOF];
         q[..n].copy_from_slice(&x[..n]);
         qd[..n].copy_from_slice(&x[n..]);
-        let sample =
-            Sample::from_inputs(&walk.model, force_x_m, t, inputs, q, qd, Contact::LiftOff);
+        let sample = Sample::from_inputs(
+            &walk.probe.model,
+            force_x_m,
+            t,
+            inputs,
+            q,
+            qd,
+            Contact::LiftOff,
+        );
         super::check_block(k, &x, t, vehicle)?;
         sink.accept(&sample)?;
         if k + 1 < total {
@@ -842,4 +919,55 @@ fn run_fixed<const N: usize, const D: usize>(
         bonded_pull_samples: [0, 0],
         piecewise: Some(stats),
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::vehicle::parse_vehicle;
+
+    #[test]
+    fn the_probe_reads_the_regime_regime_of_reads_from_the_element_model() {
+        // Self-check (no outside reference): the per-run probe must give
+        // the regime `regime_of` reads from the full kinematics, bit for
+        // bit, or switches would be taken at other instants. The demo van
+        // with stops and one-sided dampers, and the hatchback without
+        // them, over states past the stops and off the road.
+        let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("profiles/vehicles");
+        let mut seed = 0x9e37_79b9_7f4a_7c15u64;
+        let mut next = |scale: f64| {
+            // Knuth's MMIX linear congruential generator.
+            seed = seed
+                .wrapping_mul(6_364_136_223_846_793_005)
+                .wrapping_add(1_442_695_040_888_963_407);
+            scale * ((seed >> 11) as f64 / (1u64 << 53) as f64 - 0.5)
+        };
+        let mut seen = std::collections::HashSet::new();
+        for file in ["demo_van_stops.toml", "demo_hatchback.toml"] {
+            let path = dir.join(file);
+            let text = std::fs::read_to_string(&path).expect("demo vehicle");
+            let vehicle = parse_vehicle(&text, &path).expect("demo vehicle parses");
+            assert_eq!(vehicle.dof_count(), 4, "{file}: a half car with wheels");
+            let probe = Probe::new(&vehicle);
+            let model = vehicle.element_model();
+            for _ in 0..20_000 {
+                let x: [f64; 8] = std::array::from_fn(|j| next(if j < 4 { 0.3 } else { 3.0 }));
+                let w = [next(0.3), next(0.3), 0.0];
+                let rate = [next(3.0), next(3.0)];
+                let mut q = [0.0; MAX_DOF];
+                let mut qd = [0.0; MAX_DOF];
+                q[..4].copy_from_slice(&x[..4]);
+                qd[..4].copy_from_slice(&x[4..]);
+                let want = regime_of(&vehicle, &model.axle_kinematics(&q, &qd, &road(&w, rate)));
+                let got = probe.regime(&x, &w, rate);
+                assert_eq!(got, want, "{file}: {x:?} {w:?} {rate:?}");
+                seen.insert(regime_key(&got));
+            }
+        }
+        assert!(
+            seen.len() > 40,
+            "the states must reach many regimes: {}",
+            seen.len()
+        );
+    }
 }

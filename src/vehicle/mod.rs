@@ -810,12 +810,39 @@ impl ElementModel<'_> {
         qd: &[f64; D],
         road: &RoadState,
     ) -> (f64, f64, f64) {
+        self.axle_margins_by(i, D, |j| q[j], |j| qd[j], road)
+    }
+
+    /// [`ElementModel::axle_margins`] for a state laid out as the solvers
+    /// hold it: `x = [q, q̇]` with `N / 2` coordinates each, read in place.
+    #[inline(always)]
+    pub fn axle_margins_of_state<const N: usize>(
+        &self,
+        i: usize,
+        x: &[f64; N],
+        road: &RoadState,
+    ) -> (f64, f64, f64) {
+        let n = N / 2;
+        self.axle_margins_by(i, n, |j| x[j], |j| x[n + j], road)
+    }
+
+    /// The margins with coordinate `j`'s displacement `q(j)` and rate
+    /// `qd(j)` (`dof` coordinates): one expression for both layouts.
+    #[inline(always)]
+    fn axle_margins_by(
+        &self,
+        i: usize,
+        dof: usize,
+        q: impl Fn(usize) -> f64,
+        qd: impl Fn(usize) -> f64,
+        road: &RoadState,
+    ) -> (f64, f64, f64) {
         let axle = &self.vehicle.axles[i];
-        let (travel, rate, wheel) = self.axle_motion(i, q, qd, road);
+        let (travel, rate, wheel) = self.axle_motion_by(i, dof, &q, &qd, road);
         let margin = match (wheel, &axle.tyre) {
             (Some(w), Some(t)) => {
-                let ft = t.rate_n_m * (road.elevation_m[i] - q[w])
-                    + t.damping_n_s_m * (road.rate_m_s[i] - qd[w]);
+                let ft = t.rate_n_m * (road.elevation_m[i] - q(w))
+                    + t.damping_n_s_m * (road.rate_m_s[i] - qd(w));
                 ft + self.static_contact_n[i]
             }
             _ => suspension_force_n(axle, travel, rate) + self.static_suspension_n[i],
@@ -834,12 +861,24 @@ impl ElementModel<'_> {
         qd: &[f64; D],
         road: &RoadState,
     ) -> (f64, f64, Option<usize>) {
+        self.axle_motion_by(i, D, &|j| q[j], &|j| qd[j], road)
+    }
+
+    #[inline(always)]
+    fn axle_motion_by(
+        &self,
+        i: usize,
+        dof: usize,
+        q: &impl Fn(usize) -> f64,
+        qd: &impl Fn(usize) -> f64,
+        road: &RoadState,
+    ) -> (f64, f64, Option<usize>) {
         let x_m = self.vehicle.axles[i].x_m;
-        let zb = q[0] + x_m * q[1];
-        let vb = qd[0] + x_m * qd[1];
-        let wheel = self.wheel[i].filter(|&w| w < D);
+        let zb = q(0) + x_m * q(1);
+        let vb = qd(0) + x_m * qd(1);
+        let wheel = self.wheel[i].filter(|&w| w < dof);
         let (zl, vl) = match wheel {
-            Some(w) => (q[w], qd[w]),
+            Some(w) => (q(w), qd(w)),
             None => (road.elevation_m[i], road.rate_m_s[i]),
         };
         (zl - zb, vl - vb, wheel)

@@ -277,6 +277,17 @@ fn axle_kinematics_are_the_element_models_travel_rate_and_contact_bit_for_bit() 
             let full = model.evaluate_with(&q, &qd, &road, 0.0, 0.0, Contact::LiftOff, &mut qdd);
             let lean = model.axle_kinematics(&q, &qd, &road);
             assert_eq!(lean, AxleKinematics::from(&full), "{q:?} {qd:?} {road:?}");
+            // The same read from the solvers' state layout `[q, q̇]`.
+            let mut x = [0.0; 2 * MAX_DOF];
+            x[..MAX_DOF].copy_from_slice(&q);
+            x[MAX_DOF..].copy_from_slice(&qd);
+            for i in 0..2 {
+                let flat = model.axle_margins_of_state(i, &x, &road);
+                let arrays = model.axle_margins(i, &q, &qd, &road);
+                assert_eq!(flat.0.to_bits(), arrays.0.to_bits());
+                assert_eq!(flat.1.to_bits(), arrays.1.to_bits());
+                assert_eq!(flat.2.to_bits(), arrays.2.to_bits());
+            }
             lifted += full.in_contact.iter().filter(|c| !**c).count();
         }
     }
