@@ -477,10 +477,9 @@ fn run_streaming(
                         for s in &chunk {
                             evaluators.accept(s)?;
                         }
-                        // Back for reuse, empty; a full return queue only
-                        // means one buffer fewer to reuse.
-                        let mut chunk = chunk;
-                        chunk.clear();
+                        // Back for reuse, samples and all (the solver
+                        // overwrites them); a full return queue only means
+                        // one buffer fewer to reuse.
                         let _ = back_tx.try_send(chunk);
                     }
                 }
@@ -490,7 +489,8 @@ fn run_streaming(
         let mut feed = Feed {
             tx,
             back: back_rx,
-            chunk: Vec::with_capacity(CHUNK_SAMPLES),
+            chunk: vec![Sample::default(); CHUNK_SAMPLES],
+            filled: 0,
             energy: &mut energy,
         };
         let solved = solve::run(vehicle, excitation, plan, &mut feed).and_then(|info| {
@@ -523,7 +523,11 @@ enum Handover {
 struct Feed<'e> {
     tx: mpsc::SyncSender<Handover>,
     back: mpsc::Receiver<Vec<Sample>>,
+    /// Always [`CHUNK_SAMPLES`] long, so the solver can build each sample
+    /// in its slot ([`SampleSink::next_slot`]); the first `filled` are this
+    /// run's, the rest are left over from the buffer's previous use.
     chunk: Vec<Sample>,
+    filled: usize,
     /// The energy ledger, kept on this thread.
     energy: &'e mut EnergyLedger,
 }
@@ -537,34 +541,55 @@ impl Feed<'_> {
 
     /// Sends the samples collected so far (if any) and takes a recycled buffer.
     fn hand_over(&mut self) -> Result<(), SolveError> {
-        if self.chunk.is_empty() {
+        if self.filled == 0 {
             return Ok(());
         }
-        let fresh = self
+        let mut fresh = self
             .back
             .try_recv()
-            .unwrap_or_else(|_| Vec::with_capacity(CHUNK_SAMPLES));
-        let full = std::mem::replace(&mut self.chunk, fresh);
+            .unwrap_or_else(|_| vec![Sample::default(); CHUNK_SAMPLES]);
+        // Only the run's last chunk comes back short.
+        fresh.resize(CHUNK_SAMPLES, Sample::default());
+        let mut full = std::mem::replace(&mut self.chunk, fresh);
+        full.truncate(self.filled);
+        self.filled = 0;
         self.send(Handover::Samples(full))
+    }
+
+    /// Counts in the sample in slot `filled`.
+    #[inline(always)]
+    fn take_filled(&mut self) -> Result<(), SolveError> {
+        self.energy.push(&self.chunk[self.filled]);
+        self.filled += 1;
+        if self.filled >= CHUNK_SAMPLES {
+            self.hand_over()?;
+        }
+        Ok(())
     }
 }
 
 impl SampleSink for Feed<'_> {
     fn start(&mut self, solver: SolverKind) -> Result<(), SolveError> {
         // Samples not yet handed over belong to the run being discarded.
-        self.chunk.clear();
+        self.filled = 0;
         self.energy.start(solver);
         self.send(Handover::Start(solver))
     }
 
     #[inline]
     fn accept(&mut self, sample: &Sample) -> Result<(), SolveError> {
-        self.energy.push(sample);
-        self.chunk.push(*sample);
-        if self.chunk.len() >= CHUNK_SAMPLES {
-            self.hand_over()?;
-        }
-        Ok(())
+        self.chunk[self.filled] = *sample;
+        self.take_filled()
+    }
+
+    #[inline]
+    fn next_slot(&mut self) -> Option<&mut Sample> {
+        self.chunk.get_mut(self.filled)
+    }
+
+    #[inline]
+    fn accept_slot(&mut self) -> Result<(), SolveError> {
+        self.take_filled()
     }
 }
 

@@ -236,20 +236,23 @@ fn run_fixed<const N: usize, const D: usize>(
         // n is a constant here, so these compile to plain moves.
         q[..n].copy_from_slice(&x[..n]);
         qd[..n].copy_from_slice(&x[n..]);
-        let sample = Sample::from_inputs(&model, force_x_m, t, inputs, q, qd, Contact::Bonded);
-        for (i, in_contact) in sample.elements.in_contact.iter().enumerate() {
-            if !in_contact {
-                if plan.fallback_on_lift_off {
-                    return Err(SolveError::LiftOff {
-                        axle: AXLE_NAMES[i],
-                        time_s: t,
-                    });
-                }
-                pulls[i] += 1;
+        let build = || Sample::from_inputs(&model, force_x_m, t, inputs, q, qd, Contact::Bonded);
+        // Built straight into the sink's own storage where it offers a
+        // slot (the copy of a whole sample per step is then saved).
+        match sink.next_slot() {
+            Some(slot) => {
+                *slot = build();
+                count_pulls(slot, t, plan, &mut pulls)?;
+                super::check_block(k, &x, t, vehicle)?;
+                sink.accept_slot()?;
+            }
+            None => {
+                let sample = build();
+                count_pulls(&sample, t, plan, &mut pulls)?;
+                super::check_block(k, &x, t, vehicle)?;
+                sink.accept(&sample)?;
             }
         }
-        super::check_block(k, &x, t, vehicle)?;
-        sink.accept(&sample)?;
         if k + 1 < total {
             let next = excitation.at((k + 1) as f64 * dt);
             x = step.advance(&x, &hold_inputs(&inputs), &hold_inputs(&next));
@@ -267,6 +270,29 @@ fn run_fixed<const N: usize, const D: usize>(
         bonded_pull_samples: pulls,
         piecewise: None,
     })
+}
+
+/// Counts the axles whose linear tyre pulls on the road in `sample`, or,
+/// when the plan falls back on lift-off, ends the run there.
+#[inline(always)]
+fn count_pulls(
+    sample: &Sample,
+    time_s: f64,
+    plan: &Plan,
+    pulls: &mut [u64; 2],
+) -> Result<(), SolveError> {
+    for (i, in_contact) in sample.elements.in_contact.iter().enumerate() {
+        if !in_contact {
+            if plan.fallback_on_lift_off {
+                return Err(SolveError::LiftOff {
+                    axle: AXLE_NAMES[i],
+                    time_s,
+                });
+            }
+            pulls[i] += 1;
+        }
+    }
+    Ok(())
 }
 
 #[cfg(test)]

@@ -565,6 +565,22 @@ pub trait SampleSink {
     fn start(&mut self, solver: SolverKind) -> Result<(), SolveError>;
     /// One sample.
     fn accept(&mut self, sample: &Sample) -> Result<(), SolveError>;
+    /// A place where a sink that keeps its samples lets the solver build
+    /// the next one, saving the copy that [`SampleSink::accept`] makes;
+    /// `None` (the default) means: build it elsewhere and call `accept`.
+    /// The slot counts as received only once [`SampleSink::accept_slot`]
+    /// is called; until then the solver may leave it, and the next call
+    /// hands out the same slot again.
+    fn next_slot(&mut self) -> Option<&mut Sample> {
+        None
+    }
+    /// Receives the sample built in the slot of [`SampleSink::next_slot`]
+    /// (only called after it returned `Some`).
+    fn accept_slot(&mut self) -> Result<(), SolveError> {
+        Err(SolveError::Settings(
+            "internal: a sample slot was accepted by a sink that has none".to_string(),
+        ))
+    }
 }
 
 /// Number of output samples: `t_i = i / rate` for `i = 0..=N` with
