@@ -434,6 +434,7 @@ impl EnergyLedger {
     /// continuous where the road's slope jumps, so an output instant that
     /// falls on a road sample (taking the slope of the segment ahead) biases
     /// nothing.
+    #[inline(always)]
     pub fn push(&mut self, s: &Sample) {
         // The current sample's terms go to the slot not holding the last.
         let now = self.last ^ 1;
