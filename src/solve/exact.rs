@@ -263,7 +263,8 @@ fn run_fixed<const N: usize, const D: usize>(
     let mut x = [0.0; N];
     // Inputs are evaluated once per sample: those of sample k+1 drive the
     // update and are then reused for that sample's output.
-    let mut inputs = excitation.at(0.0);
+    let road = excitation.profile.reader();
+    let mut inputs = excitation.at_with(&road, 0.0);
     let mut pulls = [0u64; 2];
     for k in 0..total {
         let t = k as f64 * dt;
@@ -290,7 +291,7 @@ fn run_fixed<const N: usize, const D: usize>(
             }
         }
         if k + 1 < total {
-            let next = excitation.at((k + 1) as f64 * dt);
+            let next = excitation.at_with(&road, (k + 1) as f64 * dt);
             x = step.advance(&x, &hold_inputs(&inputs), &hold_inputs(&next));
             inputs = next;
         }
