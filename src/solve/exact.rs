@@ -156,18 +156,39 @@ impl<const N: usize> Step<N> {
     /// `Φ x + G₀ w_k + G₁ w_{k+1}`.
     #[inline(always)]
     pub fn advance(&self, x: &[f64; N], w_k: &[f64; 3], w_next: &[f64; 3]) -> [f64; N] {
+        self.advance_first::<3>(x, w_k, w_next)
+    }
+
+    /// [`Step::advance`] for a run without a body force (`w[2] = 0` at
+    /// every instant), leaving out the force columns: their products are
+    /// ±0, and adding ±0 changes no sum here (a sum that starts at +0
+    /// cannot become −0 under round-to-nearest), so the result has the
+    /// same bits.
+    #[inline(always)]
+    pub fn advance_unforced(&self, x: &[f64; N], w_k: &[f64; 3], w_next: &[f64; 3]) -> [f64; N] {
+        self.advance_first::<2>(x, w_k, w_next)
+    }
+
+    /// The update with only the first `M` input columns.
+    #[inline(always)]
+    fn advance_first<const M: usize>(
+        &self,
+        x: &[f64; N],
+        w_k: &[f64; 3],
+        w_next: &[f64; 3],
+    ) -> [f64; N] {
         let mut y = [0.0; N];
         for (col, &xj) in self.phi.iter().zip(x) {
             for (yi, &a) in y.iter_mut().zip(col) {
                 *yi += a * xj;
             }
         }
-        for (col, &wj) in self.g0.iter().zip(w_k) {
+        for (col, &wj) in self.g0.iter().zip(w_k).take(M) {
             for (yi, &a) in y.iter_mut().zip(col) {
                 *yi += a * wj;
             }
         }
-        for (col, &wj) in self.g1.iter().zip(w_next) {
+        for (col, &wj) in self.g1.iter().zip(w_next).take(M) {
             for (yi, &a) in y.iter_mut().zip(col) {
                 *yi += a * wj;
             }
@@ -264,6 +285,8 @@ fn run_fixed<const N: usize, const D: usize>(
     // Inputs are evaluated once per sample: those of sample k+1 drive the
     // update and are then reused for that sample's output.
     let road = excitation.profile.reader();
+    // Without a body force its input is 0.0 at every instant.
+    let unforced = excitation.force.is_none();
     let mut inputs = excitation.at_with(&road, 0.0);
     let mut pulls = [0u64; 2];
     for k in 0..total {
@@ -292,7 +315,12 @@ fn run_fixed<const N: usize, const D: usize>(
         }
         if k + 1 < total {
             let next = excitation.at_with(&road, (k + 1) as f64 * dt);
-            x = step.advance(&x, &hold_inputs(&inputs), &hold_inputs(&next));
+            let (w_k, w_next) = (hold_inputs(&inputs), hold_inputs(&next));
+            x = if unforced {
+                step.advance_unforced(&x, &w_k, &w_next)
+            } else {
+                step.advance(&x, &w_k, &w_next)
+            };
             inputs = next;
         }
     }
@@ -381,6 +409,20 @@ x = 0.3
         want.gemv(1.0, &d.g0, &DVector::from_column_slice(&w0), 1.0);
         want.gemv(1.0, &d.g1, &DVector::from_column_slice(&w1), 1.0);
         assert_eq!(step.advance(&x, &w0, &w1).as_slice(), want.as_slice());
+        // Without a force the shortened update gives the same bits, signs
+        // of zero included (the zero state of a run's start among them).
+        let bits = |y: [f64; 6]| y.map(f64::to_bits);
+        for x in [x, [0.0; 6], [-0.0, 0.0, -0.0, 1e-300, -2e-3, 0.0]] {
+            for (a, b) in [
+                ([0.0, 0.0, 0.0], [0.0, -0.0, 0.0]),
+                ([0.01, -0.004, 0.0], [0.0, 0.02, 0.0]),
+            ] {
+                assert_eq!(
+                    bits(step.advance_unforced(&x, &a, &b)),
+                    bits(step.advance(&x, &a, &b))
+                );
+            }
+        }
     }
 
     /// Sink keeping the front travel and the seat acceleration.
