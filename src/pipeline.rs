@@ -589,7 +589,7 @@ impl Feed<'_> {
     /// Counts in the sample in slot `filled`.
     #[inline(always)]
     fn take_filled(&mut self) -> Result<(), SolveError> {
-        self.energy.push(&self.chunk[self.filled]);
+        self.energy.push_inlined(&self.chunk[self.filled]);
         self.filled += 1;
         if self.filled >= CHUNK_SAMPLES {
             self.hand_over()?;

@@ -434,8 +434,19 @@ impl EnergyLedger {
     /// continuous where the road's slope jumps, so an output instant that
     /// falls on a road sample (taking the slope of the segment ahead) biases
     /// nothing.
-    #[inline(always)]
+    // Kept out of line: inlined, it crowds the evaluators' loop (which
+    // calls it only when the ledger is not on the solver's thread).
+    #[inline(never)]
     pub fn push(&mut self, s: &Sample) {
+        self.push_inlined(s)
+    }
+
+    /// [`EnergyLedger::push`], always inlined: for a caller compiled with
+    /// other instruction-set features (the solver thread's AVX path),
+    /// which a call could not carry into the ledger. Other callers use
+    /// `push`, so their own loops stay as compact as before.
+    #[inline(always)]
+    pub fn push_inlined(&mut self, s: &Sample) {
         // The current sample's terms go to the slot not holding the last.
         let now = self.last ^ 1;
         let [w0, w1] = &mut self.work;
