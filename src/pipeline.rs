@@ -477,10 +477,9 @@ fn run_streaming(
                         for s in &chunk {
                             evaluators.accept(s)?;
                         }
-                        // Back for reuse, empty; a full return queue only
-                        // means one buffer fewer to reuse.
-                        let mut chunk = chunk;
-                        chunk.clear();
+                        // Back for reuse, samples and all (the solver
+                        // overwrites them); a full return queue only means
+                        // one buffer fewer to reuse.
                         let _ = back_tx.try_send(chunk);
                     }
                 }
@@ -490,7 +489,9 @@ fn run_streaming(
         let mut feed = Feed {
             tx,
             back: back_rx,
-            chunk: Vec::with_capacity(CHUNK_SAMPLES),
+            chunk: vec![Sample::default(); CHUNK_SAMPLES],
+            filled: 0,
+            avx: has_avx(),
             energy: &mut energy,
         };
         let solved = solve::run(vehicle, excitation, plan, &mut feed).and_then(|info| {
@@ -511,6 +512,14 @@ fn run_streaming(
     result
 }
 
+/// Whether the processor has AVX (never on other architectures).
+fn has_avx() -> bool {
+    #[cfg(target_arch = "x86_64")]
+    return std::arch::is_x86_feature_detected!("avx");
+    #[cfg(not(target_arch = "x86_64"))]
+    false
+}
+
 /// What the solver hands to the evaluator thread, in order.
 enum Handover {
     /// A (re)start: discard everything evaluated so far.
@@ -523,7 +532,13 @@ enum Handover {
 struct Feed<'e> {
     tx: mpsc::SyncSender<Handover>,
     back: mpsc::Receiver<Vec<Sample>>,
+    /// Always [`CHUNK_SAMPLES`] long, so the solver can build each sample
+    /// in its slot ([`SampleSink::next_slot`]); the first `filled` are this
+    /// run's, the rest are left over from the buffer's previous use.
     chunk: Vec<Sample>,
+    filled: usize,
+    /// Whether the processor has AVX ([`Feed::take_filled_avx`]).
+    avx: bool,
     /// The energy ledger, kept on this thread.
     energy: &'e mut EnergyLedger,
 }
@@ -537,34 +552,74 @@ impl Feed<'_> {
 
     /// Sends the samples collected so far (if any) and takes a recycled buffer.
     fn hand_over(&mut self) -> Result<(), SolveError> {
-        if self.chunk.is_empty() {
+        if self.filled == 0 {
             return Ok(());
         }
-        let fresh = self
+        let mut fresh = self
             .back
             .try_recv()
-            .unwrap_or_else(|_| Vec::with_capacity(CHUNK_SAMPLES));
-        let full = std::mem::replace(&mut self.chunk, fresh);
+            .unwrap_or_else(|_| vec![Sample::default(); CHUNK_SAMPLES]);
+        // Only the run's last chunk comes back short.
+        fresh.resize(CHUNK_SAMPLES, Sample::default());
+        let mut full = std::mem::replace(&mut self.chunk, fresh);
+        full.truncate(self.filled);
+        self.filled = 0;
         self.send(Handover::Samples(full))
+    }
+
+    /// [`Feed::take_filled`] compiled for AVX where the processor has it
+    /// (the ledger's arithmetic is the same, so are its bits).
+    #[inline(always)]
+    fn take_filled_fastest(&mut self) -> Result<(), SolveError> {
+        #[cfg(target_arch = "x86_64")]
+        if self.avx {
+            // SAFETY: `avx` is true only where the processor has AVX.
+            return unsafe { self.take_filled_avx() };
+        }
+        self.take_filled()
+    }
+
+    /// [`Feed::take_filled`] with AVX enabled.
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "avx")]
+    fn take_filled_avx(&mut self) -> Result<(), SolveError> {
+        self.take_filled()
+    }
+
+    /// Counts in the sample in slot `filled`.
+    #[inline(always)]
+    fn take_filled(&mut self) -> Result<(), SolveError> {
+        self.energy.push_inlined(&self.chunk[self.filled]);
+        self.filled += 1;
+        if self.filled >= CHUNK_SAMPLES {
+            self.hand_over()?;
+        }
+        Ok(())
     }
 }
 
 impl SampleSink for Feed<'_> {
     fn start(&mut self, solver: SolverKind) -> Result<(), SolveError> {
         // Samples not yet handed over belong to the run being discarded.
-        self.chunk.clear();
+        self.filled = 0;
         self.energy.start(solver);
         self.send(Handover::Start(solver))
     }
 
     #[inline]
     fn accept(&mut self, sample: &Sample) -> Result<(), SolveError> {
-        self.energy.push(sample);
-        self.chunk.push(*sample);
-        if self.chunk.len() >= CHUNK_SAMPLES {
-            self.hand_over()?;
-        }
-        Ok(())
+        self.chunk[self.filled] = *sample;
+        self.take_filled_fastest()
+    }
+
+    #[inline]
+    fn next_slot(&mut self) -> Option<&mut Sample> {
+        self.chunk.get_mut(self.filled)
+    }
+
+    #[inline]
+    fn accept_slot(&mut self) -> Result<(), SolveError> {
+        self.take_filled_fastest()
     }
 }
 

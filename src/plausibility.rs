@@ -161,14 +161,31 @@ fn clamped(x: f64, release: f64, static_n: f64, v: impl Fn(f64) -> f64) -> f64 {
 /// trapezoidal rule on the output grid.
 #[derive(Debug, Clone)]
 pub struct EnergyLedger {
+    model: LedgerModel,
+    /// Work terms of the previous and the current sample, used in turn
+    /// ([`EnergyLedger::push`]), so neither is copied per sample.
+    work: [Work; 2],
+    /// Which of `work` holds the previous sample's terms.
+    last: usize,
+    /// Whether a previous sample exists.
+    has_last: bool,
+    sums: Sums,
+}
+
+/// What the ledger knows of the vehicle, worked out once.
+#[derive(Debug, Clone)]
+struct LedgerModel {
     axles: [AxleEnergy; 2],
     masses_kg: [f64; MAX_DOF],
+    /// Degrees of freedom: the masses past them are zero, so are their terms.
+    dof_count: usize,
     /// Spring rate of each seat suspension (0 for an absent one), N/m.
     seat_rates_n_m: [f64; MAX_SUSPENDED_SEATS],
+    /// Damping slots in use: the four of the axles plus one per suspended seat.
+    damping_slots: usize,
     force_x_m: f64,
     /// Tyres kept on the road (the exact solver's linear model).
     bonded: bool,
-    sums: Sums,
 }
 
 impl Sums {
@@ -200,31 +217,69 @@ impl Sums {
     }
 }
 
-/// (force, displacement) pairs of the work terms at one sample.
+/// Forces and displacements of the work terms at one sample.
 #[derive(Debug, Clone, Copy, Default)]
 struct Work {
-    /// Road under the front and rear axle, body force.
-    input: [(f64, f64); 3],
+    /// Road under the front and rear axle, then the body force: forces, N.
+    input_n: [f64; 3],
+    /// Their displacements, m.
+    input_m: [f64; 3],
     /// Damping part of the suspension and tyre forces of each axle, then
-    /// of each seat suspension.
-    damping: [(f64, f64); 4 + MAX_SUSPENDED_SEATS],
+    /// of each seat suspension, N (a slot stays zero where there is no
+    /// such element).
+    damping_n: [f64; 4 + MAX_SUSPENDED_SEATS],
+    /// Their displacements, m.
+    damping_m: [f64; 4 + MAX_SUSPENDED_SEATS],
+}
+
+/// `½ (F₀ + F₁)(x₁ − x₀)`: one trapezoid of `∫ F dx`.
+#[inline(always)]
+fn trapezoid_j(f0_n: f64, f1_n: f64, x0_m: f64, x1_m: f64) -> f64 {
+    0.5 * (f0_n + f1_n) * (x1_m - x0_m)
 }
 
 impl Work {
-    /// `Σ ½ (F₀ + F₁)(x₁ − x₀)` over matching pairs.
-    fn sum(prev: &[(f64, f64)], now: &[(f64, f64)]) -> f64 {
-        prev.iter()
-            .zip(now)
-            .map(|((f0, x0), (f1, x1))| 0.5 * (f0 + f1) * (x1 - x0))
-            .sum()
+    /// Input work from `prev` to `self`: `Σ ½ (F₀ + F₁)(x₁ − x₀)`, summed in
+    /// slot order.
+    #[inline(always)]
+    fn input_j(&self, prev: &Work) -> f64 {
+        let t = |j: usize| {
+            trapezoid_j(
+                prev.input_n[j],
+                self.input_n[j],
+                prev.input_m[j],
+                self.input_m[j],
+            )
+        };
+        t(0) + t(1) + t(2)
+    }
+
+    /// Damping work from `prev` to `self` over the first `slots` slots.
+    /// The slots left out are zero in both samples, so their terms are +0,
+    /// and leaving a +0 out of a sum changes at most the sign of a zero sum,
+    /// which the ledger's running totals (never −0) absorb: the bits of
+    /// the totals are the same.
+    #[inline(always)]
+    fn damping_j(&self, prev: &Work, slots: usize) -> f64 {
+        let t = |j: usize| {
+            trapezoid_j(
+                prev.damping_n[j],
+                self.damping_n[j],
+                prev.damping_m[j],
+                self.damping_m[j],
+            )
+        };
+        let mut sum = t(0) + t(1) + t(2) + t(3);
+        for j in 4..slots.min(4 + MAX_SUSPENDED_SEATS) {
+            sum += t(j);
+        }
+        sum
     }
 }
 
 /// What the ledger has added up so far.
 #[derive(Debug, Clone, Copy, Default)]
 struct Sums {
-    /// Work terms of the previous sample.
-    last: Option<Work>,
     input_j: f64,
     input_max_j: f64,
     dissipated_j: f64,
@@ -339,7 +394,7 @@ impl EnergyLedger {
             axle.release_m = axle.release_point(wheel.map(|(_, kt)| kt));
             axle
         });
-        EnergyLedger {
+        let model = LedgerModel {
             axles,
             masses_kg: vehicle.mass_diagonal(),
             seat_rates_n_m: {
@@ -349,8 +404,16 @@ impl EnergyLedger {
                 }
                 k
             },
+            damping_slots: 4 + vehicle.suspended_seat_count().min(MAX_SUSPENDED_SEATS),
+            dof_count: vehicle.dof_count().min(MAX_DOF),
             force_x_m,
             bonded: false,
+        };
+        EnergyLedger {
+            model,
+            work: [Work::default(); 2],
+            last: 0,
+            has_last: false,
             sums: Sums::default(),
         }
     }
@@ -358,66 +421,10 @@ impl EnergyLedger {
     /// Starts over for a run on `solver` (the exact path keeps tyres bonded
     /// to the road; the adaptive one lets them lift).
     pub fn start(&mut self, solver: SolverKind) {
-        self.bonded = solver == SolverKind::Exact;
+        self.model.bonded = solver == SolverKind::Exact;
+        self.work = [Work::default(); 2];
+        self.has_last = false;
         self.sums = Sums::default();
-    }
-
-    /// Stored energy and the (force, displacement) pairs of the work terms
-    /// at one sample: inputs first (road under each axle, body force), then
-    /// the damping parts of each element force.
-    fn terms(&self, s: &Sample) -> (f64, Work) {
-        let mut stored: f64 = (0..MAX_DOF)
-            .map(|j| 0.5 * self.masses_kg[j] * s.qd[j] * s.qd[j])
-            .sum();
-        let road = &s.inputs.road;
-        let el = &s.elements;
-        let mut w = Work::default();
-        w.input[2] = (s.inputs.force_n, s.q[0] + self.force_x_m * s.q[1]);
-        for (i, a) in self.axles.iter().enumerate() {
-            let d = el.travel_m[i];
-            w.input[i] = (el.contact_n[i], road.elevation_m[i]);
-            let s_n = a.static_contact_n;
-            match a.wheel {
-                Some((wdof, kt)) => {
-                    stored += a.suspension_j(d);
-                    w.damping[2 * i] = (el.suspension_n[i] - a.elastic_n(d), d);
-                    let e = road.elevation_m[i] - s.q[wdof];
-                    let (v, elastic) = if self.bonded {
-                        (0.5 * kt * e * e, kt * e)
-                    } else {
-                        let release = a.release_m;
-                        (
-                            clamped(e, release, s_n, |x| 0.5 * kt * x * x),
-                            (kt * e).max(-s_n),
-                        )
-                    };
-                    stored += v;
-                    w.damping[2 * i + 1] = (el.contact_n[i] - elastic, e);
-                }
-                None => {
-                    let (v, elastic) = if self.bonded {
-                        (a.suspension_j(d), a.elastic_n(d))
-                    } else {
-                        let release = a.release_m;
-                        (
-                            clamped(d, release, s_n, |x| a.suspension_j(x)),
-                            a.elastic_n(d).max(-s_n),
-                        )
-                    };
-                    stored += v;
-                    w.damping[2 * i] = (el.suspension_n[i] - elastic, d);
-                }
-            }
-        }
-        // Seat suspensions: linear, always in contact.
-        for (k, &ks) in self.seat_rates_n_m.iter().enumerate() {
-            if ks > 0.0 {
-                let d = el.seat_travel_m[k];
-                stored += 0.5 * ks * d * d;
-                w.damping[4 + k] = (el.seat_force_n[k] - ks * d, d);
-            }
-        }
-        (stored, w)
     }
 
     /// Adds one output sample (in time order).
@@ -427,14 +434,31 @@ impl EnergyLedger {
     /// continuous where the road's slope jumps, so an output instant that
     /// falls on a road sample (taking the slope of the segment ahead) biases
     /// nothing.
+    // Kept out of line: inlined, it crowds the evaluators' loop (which
+    // calls it only when the ledger is not on the solver's thread).
+    #[inline(never)]
     pub fn push(&mut self, s: &Sample) {
-        let (stored, work) = self.terms(s);
+        self.push_inlined(s)
+    }
+
+    /// [`EnergyLedger::push`], always inlined: for a caller compiled with
+    /// other instruction-set features (the solver thread's AVX path),
+    /// which a call could not carry into the ledger. Other callers use
+    /// `push`, so their own loops stay as compact as before.
+    #[inline(always)]
+    pub fn push_inlined(&mut self, s: &Sample) {
+        // The current sample's terms go to the slot not holding the last.
+        let now = self.last ^ 1;
+        let [w0, w1] = &mut self.work;
+        let (work, prev) = if now == 0 { (w0, &*w1) } else { (w1, &*w0) };
+        let stored = self.model.terms(s, work);
         let m = &mut self.sums;
-        if let Some(prev) = &m.last {
-            m.input_j += Work::sum(&prev.input, &work.input);
-            m.dissipated_j += Work::sum(&prev.damping, &work.damping);
+        if self.has_last {
+            m.input_j += work.input_j(prev);
+            m.dissipated_j += work.damping_j(prev, self.model.damping_slots);
         }
-        m.last = Some(work);
+        self.last = now;
+        self.has_last = true;
         m.input_max_j = m.input_max_j.max(m.input_j);
         m.stored_max_j = m.stored_max_j.max(stored);
         let signed = stored - (m.input_j - m.dissipated_j);
@@ -462,7 +486,87 @@ impl EnergyLedger {
 
     /// Energy the spring and stop of axle `i` hold at travel `d`, J.
     pub fn suspension_energy_j(&self, i: usize, d: f64) -> f64 {
-        self.axles[i].suspension_j(d)
+        self.model.axles[i].suspension_j(d)
+    }
+}
+
+impl LedgerModel {
+    /// Stored energy at one sample, with the (force, displacement) pairs of
+    /// the work terms written to `w`: inputs (road under each axle, body
+    /// force), then the damping parts of each element force.
+    #[inline(always)]
+    fn terms(&self, s: &Sample, w: &mut Work) -> f64 {
+        // Kinetic energy in coordinate order; the masses past the vehicle's
+        // degrees of freedom are zero and their terms +0, which a sum of
+        // non-negative terms does not feel.
+        let mut stored = 0.5 * self.masses_kg[0] * s.qd[0] * s.qd[0];
+        for j in 1..self.dof_count {
+            stored += 0.5 * self.masses_kg[j] * s.qd[j] * s.qd[j];
+        }
+        let road = &s.inputs.road;
+        let el = &s.elements;
+        w.input_n[2] = s.inputs.force_n;
+        w.input_m[2] = s.q[0] + self.force_x_m * s.q[1];
+        for (i, a) in self.axles.iter().enumerate() {
+            w.input_n[i] = el.contact_n[i];
+            w.input_m[i] = road.elevation_m[i];
+            stored = self.axle_terms(i, a, s, w, stored);
+        }
+        // Seat suspensions: linear, always in contact.
+        for k in 0..self.damping_slots - 4 {
+            let ks = self.seat_rates_n_m[k];
+            if ks > 0.0 {
+                let d = el.seat_travel_m[k];
+                stored += 0.5 * ks * d * d;
+                w.damping_n[4 + k] = el.seat_force_n[k] - ks * d;
+                w.damping_m[4 + k] = d;
+            }
+        }
+        stored
+    }
+
+    /// `stored_j` plus axle `i`'s stored energy (the suspension's, then the
+    /// tyre's, added in that order), with its damping pairs written to `w`.
+    #[inline(always)]
+    fn axle_terms(&self, i: usize, a: &AxleEnergy, s: &Sample, w: &mut Work, stored_j: f64) -> f64 {
+        let road = &s.inputs.road;
+        let el = &s.elements;
+        let d = el.travel_m[i];
+        let s_n = a.static_contact_n;
+        match a.wheel {
+            Some((wdof, kt)) => {
+                let spring_j = a.suspension_j(d);
+                w.damping_n[2 * i] = el.suspension_n[i] - a.elastic_n(d);
+                w.damping_m[2 * i] = d;
+                let e = road.elevation_m[i] - s.q[wdof];
+                let (v, elastic) = if self.bonded {
+                    (0.5 * kt * e * e, kt * e)
+                } else {
+                    let release = a.release_m;
+                    (
+                        clamped(e, release, s_n, |x| 0.5 * kt * x * x),
+                        (kt * e).max(-s_n),
+                    )
+                };
+                w.damping_n[2 * i + 1] = el.contact_n[i] - elastic;
+                w.damping_m[2 * i + 1] = e;
+                stored_j + spring_j + v
+            }
+            None => {
+                let (v, elastic) = if self.bonded {
+                    (a.suspension_j(d), a.elastic_n(d))
+                } else {
+                    let release = a.release_m;
+                    (
+                        clamped(d, release, s_n, |x| a.suspension_j(x)),
+                        a.elastic_n(d).max(-s_n),
+                    )
+                };
+                w.damping_n[2 * i] = el.suspension_n[i] - elastic;
+                w.damping_m[2 * i] = d;
+                stored_j + v
+            }
+        }
     }
 }
 

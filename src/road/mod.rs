@@ -86,26 +86,6 @@ impl Profile {
         self.start_m + i as f64 * self.spacing_m
     }
 
-    /// Index of the segment holding `x_m` and the fraction along it, with
-    /// `x_m` clamped to the profile.
-    #[inline(always)]
-    fn locate(&self, x_m: f64) -> (usize, f64) {
-        let u = (x_m - self.start_m) * self.per_spacing_m;
-        let last = self.len() - 1;
-        if u <= 0.0 || u.is_nan() {
-            return (0, 0.0);
-        }
-        if u >= last as f64 {
-            return (last - 1, 1.0);
-        }
-        // 0 < u < last here, so truncation is the floor (and needs no libm
-        // call on targets without a rounding instruction). Through i64, which
-        // the processor converts in one instruction each way (usize takes a
-        // longer unsigned sequence); the value is the same.
-        let i = u as i64;
-        ((i as usize).min(last - 1), u - i as f64)
-    }
-
     /// Elevation at distance `x_m`, m: linear between samples, held at the
     /// end values outside the profile.
     #[inline]
@@ -124,15 +104,23 @@ impl Profile {
     /// one segment lookup (the same numbers as the two calls).
     #[inline(always)]
     pub fn elevation_and_slope_at(&self, x_m: f64) -> (f64, f64) {
-        let (i, f) = self.locate(x_m);
-        let (a, b) = (self.elevation_m[i], self.elevation_m[i + 1]);
-        let elevation = a + f * (b - a);
-        let slope = if x_m < self.start_m || x_m >= self.end_m() {
-            0.0
-        } else {
-            (b - a) * self.per_spacing_m
-        };
-        (elevation, slope)
+        self.reader().elevation_and_slope_at(x_m)
+    }
+
+    /// The lookup constants of this profile, for a loop that reads the
+    /// road at every sample (the end distance and the last index are then
+    /// worked out once, not per lookup).
+    #[inline(always)]
+    pub fn reader(&self) -> ProfileReader<'_> {
+        let last = self.len() - 1;
+        ProfileReader {
+            elevation_m: &self.elevation_m,
+            start_m: self.start_m,
+            per_spacing_m: self.per_spacing_m,
+            end_m: self.end_m(),
+            last,
+            last_f: last as f64,
+        }
     }
 
     /// R.m.s. elevation about the mean, m.
@@ -150,6 +138,55 @@ impl Profile {
 }
 
 /// A road profile could not be read, generated or classified.
+/// A [`Profile`]'s segment lookup with its constants worked out once
+/// ([`Profile::reader`]); the same arithmetic, so the same numbers.
+#[derive(Debug, Clone, Copy)]
+pub struct ProfileReader<'a> {
+    elevation_m: &'a [f64],
+    start_m: f64,
+    per_spacing_m: f64,
+    end_m: f64,
+    /// Index of the last sample (≥ 1), and as f64.
+    last: usize,
+    last_f: f64,
+}
+
+impl ProfileReader<'_> {
+    /// Index of the segment holding `x_m` and the fraction along it, with
+    /// `x_m` clamped to the profile.
+    #[inline(always)]
+    fn locate(&self, x_m: f64) -> (usize, f64) {
+        let u = (x_m - self.start_m) * self.per_spacing_m;
+        let last = self.last;
+        if u <= 0.0 || u.is_nan() {
+            return (0, 0.0);
+        }
+        if u >= self.last_f {
+            return (last - 1, 1.0);
+        }
+        // 0 < u < last here, so truncation is the floor (and needs no libm
+        // call on targets without a rounding instruction). Through i64, which
+        // the processor converts in one instruction each way (usize takes a
+        // longer unsigned sequence); the value is the same.
+        let i = u as i64;
+        ((i as usize).min(last - 1), u - i as f64)
+    }
+
+    /// See [`Profile::elevation_and_slope_at`].
+    #[inline(always)]
+    pub fn elevation_and_slope_at(&self, x_m: f64) -> (f64, f64) {
+        let (i, f) = self.locate(x_m);
+        let (a, b) = (self.elevation_m[i], self.elevation_m[i + 1]);
+        let elevation = a + f * (b - a);
+        let slope = if x_m < self.start_m || x_m >= self.end_m {
+            0.0
+        } else {
+            (b - a) * self.per_spacing_m
+        };
+        (elevation, slope)
+    }
+}
+
 #[derive(Debug, Error)]
 pub enum ProfileError {
     /// The file could not be opened or read.

@@ -40,7 +40,7 @@ pub use piecewise::{MAX_SWITCHES_PER_INTERVAL, PiecewiseStats};
 
 use thiserror::Error;
 
-use crate::road::Profile;
+use crate::road::{Profile, ProfileReader};
 use crate::vehicle::{
     AXLE_NAMES, Contact, ElementModel, ElementState, MAX_DOF, RoadState, Vehicle,
 };
@@ -107,13 +107,20 @@ impl Excitation<'_> {
     /// Inputs at time `t_s`.
     #[inline(always)]
     pub fn at(&self, t_s: f64) -> Inputs {
+        self.at_with(&self.profile.reader(), t_s)
+    }
+
+    /// [`Excitation::at`] through `road`, this excitation's
+    /// [`Profile::reader`] made once for a loop over many instants.
+    #[inline(always)]
+    pub fn at_with(&self, road: &ProfileReader<'_>, t_s: f64) -> Inputs {
         let p = self.profile;
         let z0 = p.elevation_m[0];
         let x_front = p.start_m + self.speed_m_s * t_s;
         let x_rear = x_front - self.wheelbase_m;
         // One segment lookup per axle for both elevation and slope.
-        let (e_front, s_front) = p.elevation_and_slope_at(x_front);
-        let (e_rear, s_rear) = p.elevation_and_slope_at(x_rear);
+        let (e_front, s_front) = road.elevation_and_slope_at(x_front);
+        let (e_rear, s_rear) = road.elevation_and_slope_at(x_rear);
         let road = RoadState {
             elevation_m: [e_front - z0, e_rear - z0],
             rate_m_s: [s_front * self.speed_m_s, s_rear * self.speed_m_s],
@@ -565,6 +572,22 @@ pub trait SampleSink {
     fn start(&mut self, solver: SolverKind) -> Result<(), SolveError>;
     /// One sample.
     fn accept(&mut self, sample: &Sample) -> Result<(), SolveError>;
+    /// A place where a sink that keeps its samples lets the solver build
+    /// the next one, saving the copy that [`SampleSink::accept`] makes;
+    /// `None` (the default) means: build it elsewhere and call `accept`.
+    /// The slot counts as received only once [`SampleSink::accept_slot`]
+    /// is called; until then the solver may leave it, and the next call
+    /// hands out the same slot again.
+    fn next_slot(&mut self) -> Option<&mut Sample> {
+        None
+    }
+    /// Receives the sample built in the slot of [`SampleSink::next_slot`]
+    /// (only called after it returned `Some`).
+    fn accept_slot(&mut self) -> Result<(), SolveError> {
+        Err(SolveError::Settings(
+            "internal: a sample slot was accepted by a sink that has none".to_string(),
+        ))
+    }
 }
 
 /// Number of output samples: `t_i = i / rate` for `i = 0..=N` with
