@@ -474,9 +474,7 @@ fn run_streaming(
                 match item {
                     Handover::Start(kind) => evaluators.start(kind)?,
                     Handover::Samples(chunk) => {
-                        for s in &chunk {
-                            evaluators.accept(s)?;
-                        }
+                        evaluators.accept_chunk(&chunk)?;
                         // Back for reuse, empty; a full return queue only
                         // means one buffer fewer to reuse.
                         let mut chunk = chunk;
@@ -893,6 +891,85 @@ impl SampleSink for Evaluators<'_> {
 }
 
 impl Evaluators<'_> {
+    /// [`SampleSink::accept`] on every sample of `chunk`, in order, with the
+    /// same results bit for bit: each evaluator takes its whole column of
+    /// the chunk in one loop (its state in registers, its per-run tests
+    /// taken once) instead of every evaluator in turn per sample. Each
+    /// evaluator still sees its values in sample order, and they share
+    /// nothing, so the order between evaluators does not matter.
+    fn accept_chunk(&mut self, chunk: &[Sample]) -> Result<(), SolveError> {
+        if self.any_suspended {
+            self.push_seats_general_chunk(chunk);
+        } else {
+            self.push_floor_seats_chunk(chunk);
+        }
+        for i in 0..2 {
+            let travel_m = chunk.iter().map(move |s| s.elements.travel_m[i]);
+            let force_n = chunk.iter().map(move |s| s.elements.suspension_n[i]);
+            let contact_n = chunk.iter().map(move |s| s.elements.contact_n[i]);
+            self.travel[i].push_all(travel_m.clone());
+            self.suspension[i].push_all(force_n.clone());
+            self.contact[i].push_all(contact_n.clone());
+            self.durability[i].push_all(travel_m, force_n, contact_n);
+            let off = chunk.iter().filter(|s| !s.elements.in_contact[i]).count();
+            self.off_ground[i] += off as u64;
+        }
+        if self.energy_here {
+            chunk.iter().for_each(|s| self.energy.push(s));
+        }
+        self.heave.push_all(chunk.iter().map(|s| s.q[0]));
+        self.pitch.push_all(chunk.iter().map(|s| s.q[1]));
+        self.heave_acc.push_all(chunk.iter().map(|s| s.qdd[0]));
+        self.pitch_acc.push_all(chunk.iter().map(|s| s.qdd[1]));
+        if self.history.is_some() {
+            for s in chunk {
+                self.write_history(s)?;
+            }
+        }
+        Ok(())
+    }
+
+    /// [`Evaluators::push_floor_seats`] over a chunk, seat by seat.
+    fn push_floor_seats_chunk(&mut self, chunk: &[Sample]) {
+        let seats = self.seats.iter_mut().zip(&mut self.fore_aft);
+        for ((m, fa), (&x, &h)) in seats.zip(self.seat_x_m.iter().zip(&self.seat_h_m)) {
+            m.push_all(chunk.iter().map(|s| s.body_point_accel_m_s2(x)));
+            if h != 0.0 {
+                fa.push_all(chunk.iter().map(|s| fore_aft_accel_m_s2(s, h)));
+            }
+        }
+    }
+
+    /// [`Evaluators::push_seats_general`] over a chunk, seat by seat.
+    fn push_seats_general_chunk(&mut self, chunk: &[Sample]) {
+        for ((m, &x), d) in self
+            .seats
+            .iter_mut()
+            .zip(&self.seat_x_m)
+            .zip(&self.seat_dof)
+        {
+            let dof = d.map(|d| d.0);
+            m.push_all(chunk.iter().map(|s| seat_accel_m_s2(s, x, dof)));
+        }
+        for ((f, &x), d) in self
+            .floor
+            .iter_mut()
+            .zip(&self.seat_x_m)
+            .zip(&self.seat_dof)
+        {
+            if let (Some((m, travel)), Some((_, slot))) = (f, d) {
+                m.push_all(chunk.iter().map(|s| s.body_point_accel_m_s2(x)));
+                let slot = *slot;
+                travel.push_all(chunk.iter().map(|s| s.elements.seat_travel_m[slot]));
+            }
+        }
+        for (m, &h) in self.fore_aft.iter_mut().zip(&self.seat_h_m) {
+            if h != 0.0 {
+                m.push_all(chunk.iter().map(|s| fore_aft_accel_m_s2(s, h)));
+            }
+        }
+    }
+
     /// The seats' measures when every seat sits on the floor (the common
     /// case): one pass, no suspended-seat bookkeeping.
     #[inline(always)]

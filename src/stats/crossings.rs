@@ -9,21 +9,63 @@
 //! per sample, over whatever span the signal covers.
 
 /// Streaming up-crossing counts for a set of levels.
+///
+/// The levels are also kept sorted, with the rank of the previous sample
+/// among them (how many levels lie at or below it): a rising step from `p`
+/// to `x` up-crosses exactly the sorted levels from rank(p) to rank(x), so
+/// a sample costs a comparison or two against its neighbouring levels
+/// instead of a pass over all of them (a signal moves past a level rarely).
 #[derive(Debug, Clone)]
 pub struct LevelCrossings {
     levels: Vec<f64>,
     counts: Vec<u64>,
+    /// The non-NaN levels ascending, each with its index in `levels` (a NaN
+    /// level is never crossed: every comparison with it is false).
+    sorted: Vec<(f64, usize)>,
     prev: Option<f64>,
+    /// Number of `sorted` levels at or below `prev`.
+    rank: usize,
 }
 
 impl LevelCrossings {
     /// Counters for `levels` (any order; reported in the order given).
     pub fn new(levels: Vec<f64>) -> Self {
         let counts = vec![0; levels.len()];
+        let mut sorted: Vec<(f64, usize)> = levels
+            .iter()
+            .enumerate()
+            .filter(|(_, l)| !l.is_nan())
+            .map(|(i, &l)| (l, i))
+            .collect();
+        sorted.sort_by(|a, b| a.0.total_cmp(&b.0));
         LevelCrossings {
             levels,
             counts,
+            sorted,
             prev: None,
+            rank: 0,
+        }
+    }
+
+    /// Number of sorted levels `≤ x`, walking from `rank` (the rank of a
+    /// nearby value). Ascending in total order means non-decreasing under
+    /// `<=` (−0 and +0 compare equal), so the levels `≤ x` are a prefix.
+    #[inline(always)]
+    fn rank_from(&self, mut rank: usize, x: f64) -> usize {
+        while rank < self.sorted.len() && self.sorted[rank].0 <= x {
+            rank += 1;
+        }
+        while rank > 0 && self.sorted[rank - 1].0 > x {
+            rank -= 1;
+        }
+        rank
+    }
+
+    /// Counts the levels of sorted ranks `from..to`: those in `(p, x]`.
+    #[inline(always)]
+    fn count_ranks(&mut self, from: usize, to: usize) {
+        for &(_, i) in &self.sorted[from..to] {
+            self.counts[i] += 1;
         }
     }
 
@@ -33,16 +75,39 @@ impl LevelCrossings {
         if x.is_nan() {
             return;
         }
-        if let Some(p) = self.prev {
-            if x > p {
-                for (l, c) in self.levels.iter().zip(self.counts.iter_mut()) {
-                    if p < *l && *l <= x {
-                        *c += 1;
-                    }
-                }
-            }
+        let rank = self.rank_from(self.rank, x);
+        // rank(x) > rank(p) only when x > p and a level lies in (p, x]:
+        // the rule `p < l ≤ x` of the module doc.
+        if self.prev.is_some() && rank > self.rank {
+            self.count_ranks(self.rank, rank);
         }
         self.prev = Some(x);
+        self.rank = rank;
+    }
+
+    /// Adds every sample of `xs` in order (the same counts as
+    /// [`LevelCrossings::push`] on each).
+    #[inline]
+    pub fn push_all(&mut self, xs: impl Iterator<Item = f64>) {
+        let mut xs = xs.filter(|x| !x.is_nan());
+        if self.prev.is_none() {
+            match xs.next() {
+                Some(x) => self.push(x),
+                None => return,
+            }
+        }
+        let mut rank = self.rank;
+        let mut last = self.prev;
+        for x in xs {
+            let r = self.rank_from(rank, x);
+            if r > rank {
+                self.count_ranks(rank, r);
+            }
+            rank = r;
+            last = Some(x);
+        }
+        self.prev = last;
+        self.rank = rank;
     }
 
     /// The levels, as given.

@@ -176,6 +176,19 @@ impl Channel {
         });
     }
 
+    /// [`Channel::push`] on every value of `xs`, in order.
+    #[inline]
+    fn push_all(&mut self, xs: impl Iterator<Item = f64> + Clone) {
+        if let Some(l) = &mut self.levels {
+            xs.clone().for_each(|x| l.push(x));
+        }
+        let (table, damage) = (&mut self.table, &mut self.damage);
+        self.rainflow.push_all(xs, &mut |c: Cycle| {
+            table.add(&c);
+            damage.iter_mut().for_each(|d| d.add(&c));
+        });
+    }
+
     /// Closes the residue.
     fn finish(&mut self) {
         let (table, damage) = (&mut self.table, &mut self.damage);
@@ -305,6 +318,37 @@ impl AxleDurability {
         self.force.push(force_n);
         if let Some(t) = &mut self.tyre {
             t.push(tyre_load_n);
+        }
+    }
+
+    /// [`AxleDurability::push`] on every sample of a block, given as one
+    /// iterator per quantity (same length): each counter takes its whole
+    /// column in one tight loop, and the results are the same, bit for bit.
+    #[inline]
+    pub fn push_all(
+        &mut self,
+        travel_m: impl Iterator<Item = f64> + Clone,
+        force_n: impl Iterator<Item = f64> + Clone,
+        tyre_load_n: impl Iterator<Item = f64> + Clone,
+    ) {
+        self.fine.push_all(travel_m.clone());
+        self.wide.push_all(travel_m.clone());
+        self.coarse.push_all(travel_m.clone());
+        self.crossings.push_all(travel_m.clone());
+        // No stop: a clearance of ∞, which no travel (nor NaN) passes.
+        let bump_m = self.clearances_m.0.unwrap_or(f64::INFINITY);
+        let rebound_m = self.clearances_m.1.unwrap_or(f64::INFINITY);
+        let (mut bump, mut rebound) = (0, 0);
+        for t in travel_m.clone() {
+            bump += (t > bump_m) as u64;
+            rebound += (t < -rebound_m) as u64;
+        }
+        self.past_bump += bump;
+        self.past_rebound += rebound;
+        self.travel.push_all(travel_m);
+        self.force.push_all(force_n);
+        if let Some(t) = &mut self.tyre {
+            t.push_all(tyre_load_n);
         }
     }
 

@@ -77,6 +77,35 @@ impl Histogram {
         }
     }
 
+    /// Adds every value of `xs`: the same counts as [`Histogram::push`] on
+    /// each. One range test per value covers NaN too (a NaN `x` gives a NaN
+    /// `u`, which fails both bounds), and the bin count as `f64` is worked
+    /// out once.
+    #[inline]
+    pub fn push_all(&mut self, xs: impl Iterator<Item = f64>) {
+        let (lower, per_bin) = (self.lower, self.per_bin);
+        let len_f = self.counts.len() as f64;
+        let last = self.counts.len() - 1;
+        // Outside counts in locals: a store through `counts` could alias them.
+        let (mut under, mut over, mut nan) = (0, 0, 0);
+        for x in xs {
+            let u = (x - lower) * per_bin;
+            if u >= 0.0 && u < len_f {
+                // As in `push`: u < len < 2³², so the u32 cast is exact.
+                self.counts[(u as u32 as usize).min(last)] += 1;
+            } else if u < 0.0 {
+                under += 1;
+            } else if u >= len_f {
+                over += 1;
+            } else {
+                nan += 1;
+            }
+        }
+        self.underflow += under;
+        self.overflow += over;
+        self.not_a_number += nan;
+    }
+
     /// Bin width.
     pub fn bin_width(&self) -> f64 {
         self.bin_width

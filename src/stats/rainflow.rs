@@ -157,6 +157,41 @@ impl Rainflow {
         }
     }
 
+    /// Adds every sample of `xs` in order: the same cycles, in the same
+    /// order, as [`Rainflow::push`] on each. Past the first two samples the
+    /// loop is only the reversal test (slope changes sign) with its state in
+    /// locals; the stack is touched at reversals only, a small fraction of
+    /// the samples of a sampled ride signal.
+    pub fn push_all(&mut self, xs: impl Iterator<Item = f64>, sink: &mut impl FnMut(Cycle)) {
+        let mut xs = xs.filter(|x| !x.is_nan());
+        while self.n < 2 {
+            match xs.next() {
+                Some(x) => self.push(x, sink),
+                None => return,
+            }
+        }
+        let (mut n, mut prev, mut d_last) = (self.n, self.x, self.d_last);
+        for x in xs {
+            n += 1;
+            // Equal samples are skipped; `prev` already equals `x`.
+            if x == prev {
+                continue;
+            }
+            let d = x - prev;
+            if d_last * d < 0.0 {
+                // `prev` was sample n − 2 (0-based) of the non-NaN ones.
+                self.reversal((n - 2, prev), sink);
+            }
+            prev = x;
+            d_last = d;
+        }
+        self.n = n;
+        self.x = prev;
+        self.d_last = d_last;
+        // The last sample: after a skipped equal sample it equals `prev`.
+        self.last = prev;
+    }
+
     /// The three-point rule of ASTM E1049-85 5.4.4 on a new reversal.
     fn reversal(&mut self, p: (u64, f64), sink: &mut impl FnMut(Cycle)) {
         self.stack.push(p);
