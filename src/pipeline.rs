@@ -28,11 +28,11 @@ use crate::solve::{
     self, Excitation, HarmonicForce, RunInfo, Sample, SampleSink, SolveError, SolverKind,
     SolverSettings,
 };
-use crate::stats::Moments;
 use crate::stats::durability::{
     AxleDurability, DurabilitySettings, DurabilitySummary, write_rainflow_header,
     write_travel_histograms,
 };
+use crate::stats::{Moments, SecondMoments, push_columns};
 use crate::vehicle::response::{PredictedRms, SpectralSettings, predicted_rms_with};
 use crate::vehicle::{AXLE_NAMES, FLOOR_SUFFIX, FORE_AFT_SUFFIX, Vehicle};
 
@@ -612,13 +612,14 @@ struct Evaluators<'h> {
     seats: Vec<Meter>,
     fore_aft: Vec<Meter>,
     travel: [Moments; 2],
-    suspension: [Moments; 2],
-    contact: [Moments; 2],
+    // Only the r.m.s. of these is reported: no extremes to track.
+    suspension: [SecondMoments; 2],
+    contact: [SecondMoments; 2],
     off_ground: [u64; 2],
-    heave: Moments,
-    pitch: Moments,
-    heave_acc: Moments,
-    pitch_acc: Moments,
+    heave: SecondMoments,
+    pitch: SecondMoments,
+    heave_acc: SecondMoments,
+    pitch_acc: SecondMoments,
     durability: [AxleDurability; 2],
     durability_settings: DurabilitySettings,
     clearances: [(Option<f64>, Option<f64>); 2],
@@ -685,10 +686,10 @@ impl<'h> Evaluators<'h> {
             suspension: Default::default(),
             contact: Default::default(),
             off_ground: [0; 2],
-            heave: Moments::default(),
-            pitch: Moments::default(),
-            heave_acc: Moments::default(),
-            pitch_acc: Moments::default(),
+            heave: SecondMoments::default(),
+            pitch: SecondMoments::default(),
+            heave_acc: SecondMoments::default(),
+            pitch_acc: SecondMoments::default(),
             history,
             header: history_header(vehicle),
             line: String::with_capacity(256),
@@ -720,10 +721,10 @@ impl<'h> Evaluators<'h> {
         self.suspension = Default::default();
         self.contact = Default::default();
         self.off_ground = [0; 2];
-        self.heave = Moments::default();
-        self.pitch = Moments::default();
-        self.heave_acc = Moments::default();
-        self.pitch_acc = Moments::default();
+        self.heave = SecondMoments::default();
+        self.pitch = SecondMoments::default();
+        self.heave_acc = SecondMoments::default();
+        self.pitch_acc = SecondMoments::default();
         Ok(())
     }
 
@@ -903,13 +904,27 @@ impl Evaluators<'_> {
         } else {
             self.push_floor_seats_chunk(chunk);
         }
+        // Neighbouring columns of a sample side by side (front, rear).
+        let [t0, t1] = &mut self.travel;
+        push_columns([t0, t1], chunk.iter().map(|s| s.elements.travel_m));
+        let ([f0, f1], [c0, c1]) = (&mut self.suspension, &mut self.contact);
+        let forces = |s: &Sample| {
+            let (f, c) = (s.elements.suspension_n, s.elements.contact_n);
+            [f[0], f[1], c[0], c[1]]
+        };
+        push_columns([f0, f1, c0, c1], chunk.iter().map(forces));
+        let body = |s: &Sample| [s.q[0], s.q[1], s.qdd[0], s.qdd[1]];
+        let (h, p, ha, pa) = (
+            &mut self.heave,
+            &mut self.pitch,
+            &mut self.heave_acc,
+            &mut self.pitch_acc,
+        );
+        push_columns([h, p, ha, pa], chunk.iter().map(body));
         for i in 0..2 {
             let travel_m = chunk.iter().map(move |s| s.elements.travel_m[i]);
             let force_n = chunk.iter().map(move |s| s.elements.suspension_n[i]);
             let contact_n = chunk.iter().map(move |s| s.elements.contact_n[i]);
-            self.travel[i].push_all(travel_m.clone());
-            self.suspension[i].push_all(force_n.clone());
-            self.contact[i].push_all(contact_n.clone());
             self.durability[i].push_all(travel_m, force_n, contact_n);
             let off = chunk.iter().filter(|s| !s.elements.in_contact[i]).count();
             self.off_ground[i] += off as u64;
@@ -917,10 +932,6 @@ impl Evaluators<'_> {
         if self.energy_here {
             chunk.iter().for_each(|s| self.energy.push(s));
         }
-        self.heave.push_all(chunk.iter().map(|s| s.q[0]));
-        self.pitch.push_all(chunk.iter().map(|s| s.q[1]));
-        self.heave_acc.push_all(chunk.iter().map(|s| s.qdd[0]));
-        self.pitch_acc.push_all(chunk.iter().map(|s| s.qdd[1]));
         if self.history.is_some() {
             for s in chunk {
                 self.write_history(s)?;

@@ -29,7 +29,8 @@ pub enum StatsError {
     Parameter(String),
 }
 
-/// Streaming count, mean, r.m.s., standard deviation, minimum and maximum.
+/// Streaming count, mean, r.m.s. and standard deviation (no extremes: see
+/// [`Moments`] for those).
 ///
 /// Sums of the deviations from the first value pushed (the shifted-data
 /// algorithm: Chan, Golub & LeVeque, "Algorithms for computing the sample
@@ -37,17 +38,52 @@ pub enum StatsError {
 /// unlike Welford's update, and no catastrophic cancellation as long as the
 /// first value is not far from the mean compared with the spread — true of
 /// every dynamic quantity of a run, which starts at rest at zero.
-#[derive(Debug, Clone, Default)]
-pub struct Moments {
+#[derive(Debug, Clone, Copy, Default)]
+pub struct SecondMoments {
     n: u64,
     shift: f64,
     sum_d: f64,
     sum_d2: f64,
-    min: f64,
-    max: f64,
 }
 
-impl Moments {
+/// A streaming accumulator of one column of values, for [`push_columns`].
+pub trait Column: Copy {
+    /// Adds one value.
+    fn push(&mut self, x: f64);
+    /// Adds a value to an accumulator that already holds one (no first-value
+    /// test): `push` without its first branch.
+    fn push_more(&mut self, x: f64);
+}
+
+/// Pushes `K` columns at once, row by row: `accumulators[k]` gets `row[k]`
+/// of every row, in order, exactly as `push` on each would give. The
+/// accumulators are copied into locals for the loop and the first-value
+/// test is taken once, so each value costs its arithmetic and little else
+/// (and neighbouring columns can share vector instructions).
+#[inline]
+pub fn push_columns<M: Column, const K: usize>(
+    accumulators: [&mut M; K],
+    rows: impl Iterator<Item = [f64; K]>,
+) {
+    let mut rows = rows;
+    let Some(first) = rows.next() else {
+        return;
+    };
+    let mut local: [M; K] = std::array::from_fn(|k| *accumulators[k]);
+    for k in 0..K {
+        local[k].push(first[k]);
+    }
+    for row in rows {
+        for k in 0..K {
+            local[k].push_more(row[k]);
+        }
+    }
+    for (a, l) in accumulators.into_iter().zip(local) {
+        *a = l;
+    }
+}
+
+impl SecondMoments {
     /// An empty accumulator.
     pub fn new() -> Self {
         Self::default()
@@ -56,47 +92,7 @@ impl Moments {
     /// Adds one value.
     #[inline]
     pub fn push(&mut self, x: f64) {
-        if self.n == 0 {
-            self.start(x);
-        }
-        self.add(x);
-    }
-
-    /// Adds every value of `xs` in order: the same as [`Moments::push`] on
-    /// each, bit for bit (the sums see the values in the same order), with
-    /// the first-value test taken once and the accumulator in locals.
-    #[inline]
-    pub fn push_all(&mut self, xs: impl Iterator<Item = f64>) {
-        let mut xs = xs.peekable();
-        if self.n == 0 {
-            match xs.peek() {
-                Some(&x) => self.start(x),
-                None => return,
-            }
-        }
-        let mut m = self.clone();
-        xs.for_each(|x| m.add(x));
-        *self = m;
-    }
-
-    /// Takes `x` as the shift and empties the extremes (before the first value).
-    #[inline(always)]
-    fn start(&mut self, x: f64) {
-        self.shift = x;
-        self.min = f64::INFINITY;
-        self.max = f64::NEG_INFINITY;
-    }
-
-    #[inline(always)]
-    fn add(&mut self, x: f64) {
-        // Selects the compiler turns into `minsd`/`maxsd` (no branch); a NaN
-        // compares false and is skipped, as `f64::min`/`max` skip it.
-        self.min = if x < self.min { x } else { self.min };
-        self.max = if x > self.max { x } else { self.max };
-        self.n += 1;
-        let d = x - self.shift;
-        self.sum_d += d;
-        self.sum_d2 += d * d;
+        Column::push(self, x);
     }
 
     /// Number of values pushed.
@@ -150,10 +146,112 @@ impl Moments {
         let mean = self.mean();
         (mean * mean + self.variance()).sqrt()
     }
+}
+
+impl Column for SecondMoments {
+    #[inline]
+    fn push(&mut self, x: f64) {
+        if self.n == 0 {
+            self.shift = x;
+        }
+        self.push_more(x);
+    }
+
+    #[inline(always)]
+    fn push_more(&mut self, x: f64) {
+        self.n += 1;
+        let d = x - self.shift;
+        self.sum_d += d;
+        self.sum_d2 += d * d;
+    }
+}
+
+/// Streaming count, mean, r.m.s., standard deviation, minimum and maximum:
+/// [`SecondMoments`] and the extremes.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct Moments {
+    sums: SecondMoments,
+    min: f64,
+    max: f64,
+}
+
+impl Column for Moments {
+    #[inline]
+    fn push(&mut self, x: f64) {
+        if self.sums.n == 0 {
+            self.min = f64::INFINITY;
+            self.max = f64::NEG_INFINITY;
+        }
+        self.sums.push(x);
+        self.extremes(x);
+    }
+
+    #[inline(always)]
+    fn push_more(&mut self, x: f64) {
+        self.sums.push_more(x);
+        self.extremes(x);
+    }
+}
+
+impl Moments {
+    /// An empty accumulator.
+    pub fn new() -> Self {
+        Self::default()
+    }
+
+    /// Adds one value.
+    #[inline]
+    pub fn push(&mut self, x: f64) {
+        Column::push(self, x);
+    }
+
+    /// Adds every value of `xs` in order: the same as [`Moments::push`] on
+    /// each, bit for bit.
+    #[inline]
+    pub fn push_all(&mut self, xs: impl Iterator<Item = f64>) {
+        push_columns([self], xs.map(|x| [x]));
+    }
+
+    #[inline(always)]
+    fn extremes(&mut self, x: f64) {
+        // A NaN compares false and is skipped, as `f64::min`/`max` skip it.
+        self.min = if x < self.min { x } else { self.min };
+        self.max = if x > self.max { x } else { self.max };
+    }
+
+    /// Number of values pushed.
+    pub fn count(&self) -> u64 {
+        self.sums.count()
+    }
+
+    /// Arithmetic mean (0 when empty).
+    pub fn mean(&self) -> f64 {
+        self.sums.mean()
+    }
+
+    /// Population variance `Σ(x − mean)²/n` (0 when empty).
+    pub fn variance(&self) -> f64 {
+        self.sums.variance()
+    }
+
+    /// Population standard deviation (divisor n; 0 when empty).
+    pub fn std(&self) -> f64 {
+        self.sums.std()
+    }
+
+    /// Sample standard deviation (divisor n − 1; 0 with fewer than two values).
+    pub fn sample_std(&self) -> f64 {
+        self.sums.sample_std()
+    }
+
+    /// Root mean square `√(Σx²/n) = √(mean² + variance)` (0 when empty).
+    pub fn rms(&self) -> f64 {
+        self.sums.rms()
+    }
 
     /// Smallest value (NaN when empty or every value was NaN).
     pub fn min(&self) -> f64 {
-        if self.n == 0 || self.min > self.max {
+        if self.sums.n == 0 || self.min > self.max {
             f64::NAN
         } else {
             self.min
@@ -162,7 +260,7 @@ impl Moments {
 
     /// Largest value (NaN when empty or every value was NaN).
     pub fn max(&self) -> f64 {
-        if self.n == 0 || self.min > self.max {
+        if self.sums.n == 0 || self.min > self.max {
             f64::NAN
         } else {
             self.max
