@@ -1129,4 +1129,24 @@ mod tests {
             "the rough road should make the auto run fall back"
         );
     }
+
+    #[test]
+    fn suspended_and_raised_seats_give_the_one_thread_results_bit_for_bit() {
+        // The block path for suspended seats (seat, floor and seat travel)
+        // and for seats above the CG (fore-aft meters): the demo van, whose
+        // seats are suspended and raised, against the same evaluators fed on
+        // the solver's own thread.
+        let path = format!(
+            "{}/profiles/vehicles/demo_van_suspended_seat.toml",
+            env!("CARGO_MANIFEST_DIR")
+        );
+        let v = crate::vehicle::read_vehicle(std::path::Path::new(&path)).unwrap();
+        assert!(v.suspended_seat_count() > 0 && v.seats.iter().any(|s| s.height_m != 0.0));
+        let road = generate(&RoadSpec::from_class(RoadClass::C, 300.0, 0.05, 3)).unwrap();
+        for choice in [SolverChoice::Exact, SolverChoice::Auto] {
+            let threaded = json(&v, &road, choice, false);
+            assert_eq!(threaded, json(&v, &road, choice, true), "{choice:?}");
+            assert!(threaded.contains("\"suspension_travel\":{"), "{threaded}");
+        }
+    }
 }

@@ -263,6 +263,57 @@ mod tests {
         }
     }
 
+    /// Every figure of a meter's measures, as bits.
+    fn measure_bits(m: &Meter) -> Vec<u64> {
+        let r = m.finish();
+        let figures = [
+            r.accel_rms,
+            r.aw,
+            r.vdv,
+            r.mtvv,
+            r.crest_factor,
+            r.peak_weighted,
+            r.duration_s,
+            r.mtvv_ratio,
+            r.vdv_ratio,
+        ];
+        let mut v: Vec<u64> = figures.iter().map(|x| x.to_bits()).collect();
+        v.push(m.samples());
+        v.push(r.additional_methods_advised as u64);
+        v
+    }
+
+    #[test]
+    fn a_block_push_gives_the_one_by_one_measures_bit_for_bit() {
+        // Reference: `push` sample by sample, for weightings with 0, 3 and 4
+        // filter stages; a ride-like signal (several full 1 s windows, so the
+        // running r.m.s. re-adds its ring), in blocks that do and do not
+        // divide the window.
+        let fs = 1000.0;
+        let signal: Vec<f64> = (0..7500)
+            .map(|i| {
+                let t = i as f64 / fs;
+                (2.0 * PI * 1.3 * t).sin() + 0.4 * (2.0 * PI * 11.0 * t).sin() * (t * 0.7).cos()
+            })
+            .collect();
+        for w in [
+            Weighting::Unweighted,
+            Weighting::Wd,
+            Weighting::Wk,
+            Weighting::Wf,
+        ] {
+            let mut one = Meter::new(w, fs).unwrap();
+            signal.iter().for_each(|&x| one.push(x));
+            for block in [1, 7, 1000, 1024, signal.len()] {
+                let mut all = Meter::new(w, fs).unwrap();
+                signal
+                    .chunks(block)
+                    .for_each(|c| all.push_all(c.iter().copied()));
+                assert_eq!(measure_bits(&all), measure_bits(&one), "{w}, block {block}");
+            }
+        }
+    }
+
     #[test]
     fn aw_of_a_sine_is_the_table_factor_over_root_two() {
         // ISO 2631-1 Table 3 (Wk, nominal centres):

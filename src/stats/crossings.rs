@@ -299,4 +299,47 @@ mod tests {
         assert!(checked > 20, "only {checked} levels crossed");
         assert!(LevelSpectrum::new(0.0).is_err());
     }
+
+    /// The rule of the module doc, level by level and step by step.
+    fn naive(levels: &[f64], xs: &[f64]) -> Vec<u64> {
+        let xs: Vec<f64> = xs.iter().copied().filter(|x| !x.is_nan()).collect();
+        levels
+            .iter()
+            .map(|&l| xs.windows(2).filter(|w| w[0] < l && l <= w[1]).count() as u64)
+            .collect()
+    }
+
+    #[test]
+    fn ranked_counting_in_blocks_equals_testing_every_level() {
+        // Reference: `x[i−1] < L ≤ x[i]` tested for every level at every
+        // step. Levels unsorted, repeated, NaN, ±∞ and −0; samples with
+        // NaN, ±∞, −0 and flats, hitting levels exactly.
+        let levels = vec![
+            0.03,
+            -0.05,
+            0.0,
+            f64::NAN,
+            0.03,
+            -0.0,
+            f64::INFINITY,
+            0.1,
+            f64::NEG_INFINITY,
+            -0.2,
+            0.25,
+        ];
+        for seed in [1, 2] {
+            let data = crate::stats::awkward_series(20_000, seed);
+            let want = naive(&levels, &data);
+            assert!(want[0] > 10 && want[6] > 0, "{want:?}");
+            let mut one = LevelCrossings::new(levels.clone());
+            data.iter().for_each(|&x| one.push(x));
+            assert_eq!(one.counts(), &want[..]);
+            for block in [1, 2, 5, 1024, data.len()] {
+                let mut all = LevelCrossings::new(levels.clone());
+                data.chunks(block)
+                    .for_each(|c| all.push_all(c.iter().copied()));
+                assert_eq!(all.counts(), &want[..], "block {block}");
+            }
+        }
+    }
 }

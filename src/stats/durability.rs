@@ -584,4 +584,70 @@ mod tests {
         }
         assert!(r.time_past_bump_fraction.is_none());
     }
+
+    /// What a finished axle evaluator reports, as text: the summary, the
+    /// load counts of every quantity, the rainflow rows and the histogram.
+    fn report(mut d: AxleDurability) -> String {
+        let summary = serde_json::to_string(&d.finish()).unwrap();
+        let mut out = Vec::new();
+        d.write_rainflow_rows("front", &mut out).unwrap();
+        let counts: Vec<String> = Quantity::ALL
+            .iter()
+            .map(|q| format!("{:?}", d.load_counts(*q)))
+            .collect();
+        let h = d.travel_histogram();
+        format!(
+            "{summary}\n{}\n{counts:?}\n{:?} {} {} {}\n{:?}",
+            String::from_utf8(out).unwrap(),
+            h.counts(),
+            h.underflow(),
+            h.overflow(),
+            h.not_a_number(),
+            d.samples_past_stops()
+        )
+    }
+
+    #[test]
+    fn a_block_push_gives_the_sample_by_sample_results() {
+        // Reference: `push` sample by sample. Travel, force and tyre load
+        // from awkward series (flats, NaN, ±∞), with and without stops, with
+        // the tyre load and level spectra counted and both residue methods.
+        let travel = crate::stats::awkward_series(12_000, 8);
+        let force: Vec<f64> = crate::stats::awkward_series(12_000, 9)
+            .iter()
+            .map(|x| x * 3e4)
+            .collect();
+        let tyre: Vec<f64> = force.iter().map(|x| 4000.0 - 0.7 * x).collect();
+        let spectra = DurabilitySettings {
+            load_spectra: true,
+            residue: ResidueMethod::Repeated,
+            ..Default::default()
+        };
+        for settings in [DurabilitySettings::default(), spectra] {
+            for clearances in [(None, None), (Some(0.05), Some(0.08))] {
+                let mut one = AxleDurability::new(&settings, clearances).unwrap();
+                for i in 0..travel.len() {
+                    one.push(travel[i], force[i], tyre[i]);
+                }
+                let want = report(one);
+                assert!(
+                    clearances.0.is_none() || !want.ends_with("(0, 0)"),
+                    "{want}"
+                );
+                for block in [1, 5, 1024, travel.len()] {
+                    let mut all = AxleDurability::new(&settings, clearances).unwrap();
+                    let chunks = travel.chunks(block).zip(force.chunks(block));
+                    for ((t, f), y) in chunks.zip(tyre.chunks(block)) {
+                        let col = |c: &[f64]| c.to_vec().into_iter();
+                        all.push_all(col(t), col(f), col(y));
+                    }
+                    assert_eq!(
+                        report(all),
+                        want,
+                        "{settings:?} {clearances:?} block {block}"
+                    );
+                }
+            }
+        }
+    }
 }

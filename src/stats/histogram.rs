@@ -353,4 +353,25 @@ mod tests {
         assert!(Histogram::new(1.0, 1.0, 0.1).is_err());
         assert!(Histogram::new(0.0, 1e9, 1e-3).is_err());
     }
+
+    #[test]
+    fn a_block_push_counts_as_pushing_one_by_one() {
+        // Reference: `push` value by value; the awkward series (NaN, ±∞,
+        // values on bin edges) scaled so that some values fall outside.
+        let data: Vec<f64> = crate::stats::awkward_series(20_000, 5)
+            .into_iter()
+            .map(|x| x * 0.3)
+            .collect();
+        for block in [1, 3, 1024, data.len()] {
+            let mut one = Histogram::new(-0.5, 0.5, 0.01).unwrap();
+            let mut all = one.clone();
+            data.iter().for_each(|&x| one.push(x));
+            data.chunks(block)
+                .for_each(|c| all.push_all(c.iter().copied()));
+            assert_eq!(all.counts(), one.counts(), "block {block}");
+            let outside = |h: &Histogram| (h.underflow(), h.overflow(), h.not_a_number());
+            assert_eq!(outside(&all), outside(&one), "block {block}");
+            assert!(one.underflow() > 0 && one.overflow() > 0 && one.not_a_number() > 0);
+        }
+    }
 }
