@@ -926,9 +926,15 @@ impl Evaluators<'_> {
             let force_n = chunk.iter().map(move |s| s.elements.suspension_n[i]);
             let contact_n = chunk.iter().map(move |s| s.elements.contact_n[i]);
             self.durability[i].push_all(travel_m, force_n, contact_n);
-            let off = chunk.iter().filter(|s| !s.elements.in_contact[i]).count();
-            self.off_ground[i] += off as u64;
         }
+        let mut off = [0u64; 2];
+        for s in chunk {
+            let c = s.elements.in_contact;
+            off[0] += !c[0] as u64;
+            off[1] += !c[1] as u64;
+        }
+        self.off_ground[0] += off[0];
+        self.off_ground[1] += off[1];
         if self.energy_here {
             chunk.iter().for_each(|s| self.energy.push(s));
         }

@@ -74,7 +74,6 @@ struct Sums {
     peak_w: f64,
     ring_pos: usize,
     ring_sum: f64,
-    since_resum: usize,
     // Largest window sum seen (divided by the window length only in
     // `finish`: division by a positive constant keeps the order, so the
     // maximum of the quotients is the quotient of the maximum).
@@ -99,16 +98,13 @@ impl Sums {
         let len = ring.len();
         let old = std::mem::replace(&mut ring[self.ring_pos], w2);
         self.ring_pos += 1;
+        self.ring_sum += w2 - old;
         if self.ring_pos == len {
             self.ring_pos = 0;
-        }
-        self.ring_sum += w2 - old;
-        self.since_resum += 1;
-        if self.since_resum >= len {
-            // Re-add the window once per window length so subtraction
-            // rounding cannot accumulate over a long record.
+            // Re-add the window once per window length (each time the ring
+            // wraps) so subtraction rounding cannot accumulate over a long
+            // record.
             self.ring_sum = ring.iter().sum();
-            self.since_resum = 0;
         }
         if self.n >= len as u64 {
             // The maximum is never negative, so a sum rounded below zero
@@ -212,7 +208,6 @@ impl Meter {
         let len = self.ring.len() as u64;
         self.sums.n += count;
         self.sums.ring_pos = ((self.sums.ring_pos as u64 + count) % len) as usize;
-        self.sums.since_resum = ((self.sums.since_resum as u64 + count) % len) as usize;
     }
 }
 
