@@ -331,9 +331,8 @@ impl AxleDurability {
         force_n: impl Iterator<Item = f64> + Clone,
         tyre_load_n: impl Iterator<Item = f64> + Clone,
     ) {
-        self.fine.push_all(travel_m.clone());
-        self.wide.push_all(travel_m.clone());
-        self.coarse.push_all(travel_m.clone());
+        let histograms = [&mut self.fine, &mut self.wide, &mut self.coarse];
+        Histogram::push_all_into(histograms, travel_m.clone());
         self.crossings.push_all(travel_m.clone());
         // No stop: a clearance of ∞, which no travel (nor NaN) passes.
         let bump_m = self.clearances_m.0.unwrap_or(f64::INFINITY);

@@ -78,37 +78,67 @@ impl Histogram {
     }
 
     /// Adds every value of `xs`: the same counts as [`Histogram::push`] on
-    /// each. One range test per value covers NaN too (a NaN `x` gives a NaN
-    /// `u`, which fails both bounds), and the bin count as `f64` is worked
-    /// out once.
+    /// each.
     #[inline]
     pub fn push_all(&mut self, xs: impl Iterator<Item = f64>) {
-        let (lower, per_bin) = (self.lower, self.per_bin);
-        let len_f = self.counts.len() as f64;
+        Histogram::push_all_into([self], xs);
+    }
+
+    /// Adds every value of `xs` to each of `histograms` (one pass over the
+    /// values for all of them): the same counts as [`Histogram::push`] on
+    /// each. One range test per value covers NaN too (a NaN `x` gives a NaN
+    /// `u`, which fails both bounds), and the bin counts as `f64` are worked
+    /// out once.
+    #[inline]
+    pub fn push_all_into<const K: usize>(
+        histograms: [&mut Histogram; K],
+        xs: impl Iterator<Item = f64>,
+    ) {
+        let lower: [f64; K] = std::array::from_fn(|k| histograms[k].lower);
+        let per_bin: [f64; K] = std::array::from_fn(|k| histograms[k].per_bin);
+        let len_f: [f64; K] = std::array::from_fn(|k| histograms[k].counts.len() as f64);
         // Outside counts in locals: a store through `counts` could alias them.
-        let (mut under, mut over, mut nan) = (0, 0, 0);
+        let mut outside = [[0u64; 3]; K];
+        let mut parts = histograms.map(|h| {
+            let Histogram {
+                counts,
+                underflow,
+                overflow,
+                not_a_number,
+                ..
+            } = h;
+            (&mut counts[..], [underflow, overflow, not_a_number])
+        });
         for x in xs {
-            let u = (x - lower) * per_bin;
-            if u >= 0.0 && u < len_f {
-                // SAFETY: 0 ≤ u < len ≤ 10⁷ here (checked just above), so u
-                // truncates to an integer that fits a u32, which is all
-                // `to_int_unchecked` asks; it spares the saturating cast's
-                // clamps (a third of this loop). Truncating u < len gives at
-                // most len − 1 (len is exact as f64), so no `min` is needed;
-                // the index stays bounds-checked.
-                let i = unsafe { u.to_int_unchecked::<u32>() } as usize;
-                self.counts[i] += 1;
-            } else if u < 0.0 {
-                under += 1;
-            } else if u >= len_f {
-                over += 1;
-            } else {
-                nan += 1;
+            for k in 0..K {
+                let u = (x - lower[k]) * per_bin[k];
+                if u >= 0.0 && u < len_f[k] {
+                    // SAFETY: 0 ≤ u < len ≤ 10⁷ here (checked just above),
+                    // so u truncates to an integer that fits a u32, which is
+                    // all `to_int_unchecked` asks; it spares the saturating
+                    // cast's clamps (a third of this loop). Truncating
+                    // u < len gives at most len − 1 (len is exact as f64), so
+                    // no `min` is needed; the index stays bounds-checked.
+                    let i = unsafe { u.to_int_unchecked::<u32>() } as usize;
+                    parts[k].0[i] += 1;
+                } else {
+                    // Underflow, overflow, or NaN (fails every comparison).
+                    let class = if u < 0.0 {
+                        0
+                    } else if u >= len_f[k] {
+                        1
+                    } else {
+                        2
+                    };
+                    outside[k][class] += 1;
+                }
             }
         }
-        self.underflow += under;
-        self.overflow += over;
-        self.not_a_number += nan;
+        for (k, (_, totals)) in parts.iter_mut().enumerate() {
+            for (total, n) in totals.iter_mut().zip(outside[k]) {
+                **total += n;
+            }
+        }
     }
 
     /// Bin width.
@@ -377,6 +407,18 @@ mod tests {
             let outside = |h: &Histogram| (h.underflow(), h.overflow(), h.not_a_number());
             assert_eq!(outside(&all), outside(&one), "block {block}");
             assert!(one.underflow() > 0 && one.overflow() > 0 && one.not_a_number() > 0);
+            // Several histograms in one pass: each as if alone.
+            let mut other_one = Histogram::new(-2.0, 0.1, 0.003).unwrap();
+            let mut other_all = other_one.clone();
+            data.iter().for_each(|&x| other_one.push(x));
+            let mut again = Histogram::new(-0.5, 0.5, 0.01).unwrap();
+            for c in data.chunks(block) {
+                Histogram::push_all_into([&mut again, &mut other_all], c.iter().copied());
+            }
+            for (a, o) in [(&again, &one), (&other_all, &other_one)] {
+                assert_eq!(a.counts(), o.counts(), "block {block}");
+                assert_eq!(outside(a), outside(o), "block {block}");
+            }
         }
     }
 }
