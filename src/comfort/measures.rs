@@ -58,20 +58,62 @@ pub struct Measures {
 pub struct Meter {
     filter: WeightingFilter,
     dt_s: f64,
+    // Running r.m.s.: ring of squared weighted samples over the last τ.
+    ring: Vec<f64>,
+    sums: Sums,
+}
+
+/// The scalar state of a [`Meter`] besides its filter and ring: `Copy`, so
+/// [`Meter::push_all`] works on a local copy the compiler keeps in registers.
+#[derive(Debug, Clone, Copy, Default)]
+struct Sums {
     n: u64,
     sum_x2: f64,
     sum_w2: f64,
     sum_w4: f64,
     peak_w: f64,
-    // Running r.m.s.: ring of squared weighted samples over the last τ.
-    ring: Vec<f64>,
     ring_pos: usize,
     ring_sum: f64,
-    since_resum: usize,
     // Largest window sum seen (divided by the window length only in
     // `finish`: division by a positive constant keeps the order, so the
     // maximum of the quotients is the quotient of the maximum).
     max_window_sum: f64,
+}
+
+impl Sums {
+    /// Takes one sample `x` and its weighted value `w` (m/s²).
+    #[inline(always)]
+    fn add(&mut self, ring: &mut [f64], x: f64, w: f64) {
+        let w2 = w * w;
+        self.n += 1;
+        self.sum_x2 += x * x;
+        self.sum_w2 += w2;
+        self.sum_w4 += w2 * w2;
+        // Branches rather than `f64::max`: a new peak is rare, and a NaN
+        // compares false and is skipped as `max` would skip it.
+        if w.abs() > self.peak_w {
+            self.peak_w = w.abs();
+        }
+
+        let len = ring.len();
+        let old = std::mem::replace(&mut ring[self.ring_pos], w2);
+        self.ring_pos += 1;
+        self.ring_sum += w2 - old;
+        if self.ring_pos == len {
+            self.ring_pos = 0;
+            // Re-add the window once per window length (each time the ring
+            // wraps) so subtraction rounding cannot accumulate over a long
+            // record.
+            self.ring_sum = ring.iter().sum();
+        }
+        if self.n >= len as u64 {
+            // The maximum is never negative, so a sum rounded below zero
+            // (or NaN) leaves it as `max(sum, 0)` would.
+            if self.ring_sum > self.max_window_sum {
+                self.max_window_sum = self.ring_sum;
+            }
+        }
+    }
 }
 
 impl Meter {
@@ -83,16 +125,8 @@ impl Meter {
         Ok(Meter {
             filter,
             dt_s: 1.0 / sample_rate_hz,
-            n: 0,
-            sum_x2: 0.0,
-            sum_w2: 0.0,
-            sum_w4: 0.0,
-            peak_w: 0.0,
             ring: vec![0.0; window],
-            ring_pos: 0,
-            ring_sum: 0.0,
-            since_resum: 0,
-            max_window_sum: 0.0,
+            sums: Sums::default(),
         })
     }
 
@@ -100,64 +134,45 @@ impl Meter {
     #[inline]
     pub fn push(&mut self, accel_m_s2: f64) {
         let w = self.filter.process(accel_m_s2);
-        let w2 = w * w;
-        self.n += 1;
-        self.sum_x2 += accel_m_s2 * accel_m_s2;
-        self.sum_w2 += w2;
-        self.sum_w4 += w2 * w2;
-        // Branches rather than `f64::max`: a new peak is rare, and a NaN
-        // compares false and is skipped as `max` would skip it.
-        if w.abs() > self.peak_w {
-            self.peak_w = w.abs();
-        }
+        self.sums.add(&mut self.ring, accel_m_s2, w);
+    }
 
-        let len = self.ring.len();
-        let old = std::mem::replace(&mut self.ring[self.ring_pos], w2);
-        self.ring_pos += 1;
-        if self.ring_pos == len {
-            self.ring_pos = 0;
-        }
-        self.ring_sum += w2 - old;
-        self.since_resum += 1;
-        if self.since_resum >= len {
-            // Re-add the window once per window length so subtraction
-            // rounding cannot accumulate over a long record.
-            self.ring_sum = self.ring.iter().sum();
-            self.since_resum = 0;
-        }
-        if self.n >= len as u64 {
-            // The maximum is never negative, so a sum rounded below zero
-            // (or NaN) leaves it as `max(sum, 0)` would.
-            if self.ring_sum > self.max_window_sum {
-                self.max_window_sum = self.ring_sum;
-            }
-        }
+    /// Adds every sample of `accel_m_s2` in order: the same as calling
+    /// [`Meter::push`] on each, bit for bit, with the filter state and the
+    /// sums held in locals for the whole loop.
+    #[inline]
+    pub fn push_all(&mut self, accel_m_s2: impl Iterator<Item = f64>) {
+        let mut sums = self.sums;
+        let ring = &mut self.ring[..];
+        self.filter
+            .process_all(accel_m_s2, |x, w| sums.add(ring, x, w));
+        self.sums = sums;
     }
 
     /// The measures so far. A record shorter than the 1 s window has no full
     /// window: its MTVV is then the r.m.s. of the whole record (= aw).
     pub fn finish(&self) -> Measures {
-        let n = self.n.max(1) as f64;
-        let duration_s = self.n as f64 * self.dt_s;
-        let aw = (self.sum_w2 / n).sqrt();
-        let vdv = (self.sum_w4 * self.dt_s).powf(0.25);
-        let mtvv = if self.n >= self.ring.len() as u64 {
-            (self.max_window_sum / self.ring.len() as f64).sqrt()
+        let n = self.sums.n.max(1) as f64;
+        let duration_s = self.sums.n as f64 * self.dt_s;
+        let aw = (self.sums.sum_w2 / n).sqrt();
+        let vdv = (self.sums.sum_w4 * self.dt_s).powf(0.25);
+        let mtvv = if self.sums.n >= self.ring.len() as u64 {
+            (self.sums.max_window_sum / self.ring.len() as f64).sqrt()
         } else {
             aw
         };
         let ratio = |num: f64, den: f64| if den > 0.0 { num / den } else { 0.0 };
-        let crest_factor = ratio(self.peak_w, aw);
+        let crest_factor = ratio(self.sums.peak_w, aw);
         let mtvv_ratio = ratio(mtvv, aw);
         let vdv_ratio = ratio(vdv, aw * duration_s.powf(0.25));
         Measures {
             weighting: self.filter.weighting().to_string(),
-            accel_rms: (self.sum_x2 / n).sqrt(),
+            accel_rms: (self.sums.sum_x2 / n).sqrt(),
             aw,
             vdv,
             mtvv,
             crest_factor,
-            peak_weighted: self.peak_w,
+            peak_weighted: self.sums.peak_w,
             duration_s,
             mtvv_ratio,
             vdv_ratio,
@@ -169,7 +184,7 @@ impl Meter {
 
     /// Number of samples pushed.
     pub fn samples(&self) -> u64 {
-        self.n
+        self.sums.n
     }
 
     /// Adds `count` samples of zero acceleration, giving what `count` calls
@@ -180,20 +195,19 @@ impl Meter {
     /// million zeros per run cost about a sixth of the evaluators' time.
     pub fn push_zeros(&mut self, count: u64) {
         let at_rest = self.filter.is_at_rest()
-            && self.sum_x2 == 0.0
-            && self.sum_w2 == 0.0
-            && self.sum_w4 == 0.0
-            && self.peak_w == 0.0
-            && self.ring_sum == 0.0
-            && self.max_window_sum == 0.0;
+            && self.sums.sum_x2 == 0.0
+            && self.sums.sum_w2 == 0.0
+            && self.sums.sum_w4 == 0.0
+            && self.sums.peak_w == 0.0
+            && self.sums.ring_sum == 0.0
+            && self.sums.max_window_sum == 0.0;
         if !at_rest {
             (0..count).for_each(|_| self.push(0.0));
             return;
         }
         let len = self.ring.len() as u64;
-        self.n += count;
-        self.ring_pos = ((self.ring_pos as u64 + count) % len) as usize;
-        self.since_resum = ((self.since_resum as u64 + count) % len) as usize;
+        self.sums.n += count;
+        self.sums.ring_pos = ((self.sums.ring_pos as u64 + count) % len) as usize;
     }
 }
 
@@ -240,6 +254,57 @@ mod tests {
                 (b.duration_s, s.duration_s),
             ] {
                 assert_eq!(x.to_bits(), y.to_bits(), "signal {signal}: {x} vs {y}");
+            }
+        }
+    }
+
+    /// Every figure of a meter's measures, as bits.
+    fn measure_bits(m: &Meter) -> Vec<u64> {
+        let r = m.finish();
+        let figures = [
+            r.accel_rms,
+            r.aw,
+            r.vdv,
+            r.mtvv,
+            r.crest_factor,
+            r.peak_weighted,
+            r.duration_s,
+            r.mtvv_ratio,
+            r.vdv_ratio,
+        ];
+        let mut v: Vec<u64> = figures.iter().map(|x| x.to_bits()).collect();
+        v.push(m.samples());
+        v.push(r.additional_methods_advised as u64);
+        v
+    }
+
+    #[test]
+    fn a_block_push_gives_the_one_by_one_measures_bit_for_bit() {
+        // Reference: `push` sample by sample, for weightings with 0, 3 and 4
+        // filter stages; a ride-like signal (several full 1 s windows, so the
+        // running r.m.s. re-adds its ring), in blocks that do and do not
+        // divide the window.
+        let fs = 1000.0;
+        let signal: Vec<f64> = (0..7500)
+            .map(|i| {
+                let t = i as f64 / fs;
+                (2.0 * PI * 1.3 * t).sin() + 0.4 * (2.0 * PI * 11.0 * t).sin() * (t * 0.7).cos()
+            })
+            .collect();
+        for w in [
+            Weighting::Unweighted,
+            Weighting::Wd,
+            Weighting::Wk,
+            Weighting::Wf,
+        ] {
+            let mut one = Meter::new(w, fs).unwrap();
+            signal.iter().for_each(|&x| one.push(x));
+            for block in [1, 7, 1000, 1024, signal.len()] {
+                let mut all = Meter::new(w, fs).unwrap();
+                signal
+                    .chunks(block)
+                    .for_each(|c| all.push_all(c.iter().copied()));
+                assert_eq!(measure_bits(&all), measure_bits(&one), "{w}, block {block}");
             }
         }
     }

@@ -9,21 +9,63 @@
 //! per sample, over whatever span the signal covers.
 
 /// Streaming up-crossing counts for a set of levels.
+///
+/// The levels are also kept sorted, with the rank of the previous sample
+/// among them (how many levels lie at or below it): a rising step from `p`
+/// to `x` up-crosses exactly the sorted levels from rank(p) to rank(x), so
+/// a sample costs a comparison or two against its neighbouring levels
+/// instead of a pass over all of them (a signal moves past a level rarely).
 #[derive(Debug, Clone)]
 pub struct LevelCrossings {
     levels: Vec<f64>,
     counts: Vec<u64>,
+    /// The non-NaN levels ascending, each with its index in `levels` (a NaN
+    /// level is never crossed: every comparison with it is false).
+    sorted: Vec<(f64, usize)>,
     prev: Option<f64>,
+    /// Number of `sorted` levels at or below `prev`.
+    rank: usize,
 }
 
 impl LevelCrossings {
     /// Counters for `levels` (any order; reported in the order given).
     pub fn new(levels: Vec<f64>) -> Self {
         let counts = vec![0; levels.len()];
+        let mut sorted: Vec<(f64, usize)> = levels
+            .iter()
+            .enumerate()
+            .filter(|(_, l)| !l.is_nan())
+            .map(|(i, &l)| (l, i))
+            .collect();
+        sorted.sort_by(|a, b| a.0.total_cmp(&b.0));
         LevelCrossings {
             levels,
             counts,
+            sorted,
             prev: None,
+            rank: 0,
+        }
+    }
+
+    /// Number of sorted levels `≤ x`, walking from `rank` (the rank of a
+    /// nearby value). Ascending in total order means non-decreasing under
+    /// `<=` (−0 and +0 compare equal), so the levels `≤ x` are a prefix.
+    #[inline(always)]
+    fn rank_from(&self, mut rank: usize, x: f64) -> usize {
+        while rank < self.sorted.len() && self.sorted[rank].0 <= x {
+            rank += 1;
+        }
+        while rank > 0 && self.sorted[rank - 1].0 > x {
+            rank -= 1;
+        }
+        rank
+    }
+
+    /// Counts the levels of sorted ranks `from..to`: those in `(p, x]`.
+    #[inline(always)]
+    fn count_ranks(&mut self, from: usize, to: usize) {
+        for &(_, i) in &self.sorted[from..to] {
+            self.counts[i] += 1;
         }
     }
 
@@ -33,16 +75,64 @@ impl LevelCrossings {
         if x.is_nan() {
             return;
         }
-        if let Some(p) = self.prev {
-            if x > p {
-                for (l, c) in self.levels.iter().zip(self.counts.iter_mut()) {
-                    if p < *l && *l <= x {
-                        *c += 1;
-                    }
-                }
-            }
+        let rank = self.rank_from(self.rank, x);
+        // rank(x) > rank(p) only when x > p and a level lies in (p, x]:
+        // the rule `p < l ≤ x` of the module doc.
+        if self.prev.is_some() && rank > self.rank {
+            self.count_ranks(self.rank, rank);
         }
         self.prev = Some(x);
+        self.rank = rank;
+    }
+
+    /// The levels around rank `rank`: `(below, above)` with
+    /// `below ≤ x < above` exactly when `x` has that rank (−∞ and +∞ stand
+    /// for no level; an `x` of +∞ fails the test and takes the full walk).
+    #[inline(always)]
+    fn bracket(&self, rank: usize) -> (f64, f64) {
+        let below = rank
+            .checked_sub(1)
+            .map_or(f64::NEG_INFINITY, |r| self.sorted[r].0);
+        let above = self.sorted.get(rank).map_or(f64::INFINITY, |l| l.0);
+        (below, above)
+    }
+
+    /// Adds every sample of `xs` in order (the same counts as
+    /// [`LevelCrossings::push`] on each). A sample between the levels
+    /// around the previous one costs two comparisons (a NaN fails both and
+    /// is skipped on the slow side).
+    #[inline]
+    pub fn push_all(&mut self, xs: impl Iterator<Item = f64>) {
+        let mut xs = xs;
+        while self.prev.is_none() {
+            match xs.next() {
+                Some(x) => self.push(x),
+                None => return,
+            }
+        }
+        let mut rank = self.rank;
+        let (mut below, mut above) = self.bracket(rank);
+        let mut last = None;
+        for x in xs {
+            if x >= below && x < above {
+                last = Some(x);
+                continue;
+            }
+            if x.is_nan() {
+                continue;
+            }
+            let r = self.rank_from(rank, x);
+            if r > rank {
+                self.count_ranks(rank, r);
+            }
+            rank = r;
+            (below, above) = self.bracket(rank);
+            last = Some(x);
+        }
+        if last.is_some() {
+            self.prev = last;
+        }
+        self.rank = rank;
     }
 
     /// The levels, as given.
@@ -208,5 +298,48 @@ mod tests {
         }
         assert!(checked > 20, "only {checked} levels crossed");
         assert!(LevelSpectrum::new(0.0).is_err());
+    }
+
+    /// The rule of the module doc, level by level and step by step.
+    fn naive(levels: &[f64], xs: &[f64]) -> Vec<u64> {
+        let xs: Vec<f64> = xs.iter().copied().filter(|x| !x.is_nan()).collect();
+        levels
+            .iter()
+            .map(|&l| xs.windows(2).filter(|w| w[0] < l && l <= w[1]).count() as u64)
+            .collect()
+    }
+
+    #[test]
+    fn ranked_counting_in_blocks_equals_testing_every_level() {
+        // Reference: `x[i−1] < L ≤ x[i]` tested for every level at every
+        // step. Levels unsorted, repeated, NaN, ±∞ and −0; samples with
+        // NaN, ±∞, −0 and flats, hitting levels exactly.
+        let levels = vec![
+            0.03,
+            -0.05,
+            0.0,
+            f64::NAN,
+            0.03,
+            -0.0,
+            f64::INFINITY,
+            0.1,
+            f64::NEG_INFINITY,
+            -0.2,
+            0.25,
+        ];
+        for seed in [1, 2] {
+            let data = crate::stats::awkward_series(20_000, seed);
+            let want = naive(&levels, &data);
+            assert!(want[0] > 10 && want[6] > 0, "{want:?}");
+            let mut one = LevelCrossings::new(levels.clone());
+            data.iter().for_each(|&x| one.push(x));
+            assert_eq!(one.counts(), &want[..]);
+            for block in [1, 2, 5, 1024, data.len()] {
+                let mut all = LevelCrossings::new(levels.clone());
+                data.chunks(block)
+                    .for_each(|c| all.push_all(c.iter().copied()));
+                assert_eq!(all.counts(), &want[..], "block {block}");
+            }
+        }
     }
 }

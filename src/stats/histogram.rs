@@ -77,6 +77,70 @@ impl Histogram {
         }
     }
 
+    /// Adds every value of `xs`: the same counts as [`Histogram::push`] on
+    /// each.
+    #[inline]
+    pub fn push_all(&mut self, xs: impl Iterator<Item = f64>) {
+        Histogram::push_all_into([self], xs);
+    }
+
+    /// Adds every value of `xs` to each of `histograms` (one pass over the
+    /// values for all of them): the same counts as [`Histogram::push`] on
+    /// each. One range test per value covers NaN too (a NaN `x` gives a NaN
+    /// `u`, which fails both bounds), and the bin counts as `f64` are worked
+    /// out once.
+    #[inline]
+    pub fn push_all_into<const K: usize>(
+        histograms: [&mut Histogram; K],
+        xs: impl Iterator<Item = f64>,
+    ) {
+        let lower: [f64; K] = std::array::from_fn(|k| histograms[k].lower);
+        let per_bin: [f64; K] = std::array::from_fn(|k| histograms[k].per_bin);
+        let len_f: [f64; K] = std::array::from_fn(|k| histograms[k].counts.len() as f64);
+        // Outside counts in locals: a store through `counts` could alias them.
+        let mut outside = [[0u64; 3]; K];
+        let mut parts = histograms.map(|h| {
+            let Histogram {
+                counts,
+                underflow,
+                overflow,
+                not_a_number,
+                ..
+            } = h;
+            (&mut counts[..], [underflow, overflow, not_a_number])
+        });
+        for x in xs {
+            for k in 0..K {
+                let u = (x - lower[k]) * per_bin[k];
+                if u >= 0.0 && u < len_f[k] {
+                    // SAFETY: 0 ≤ u < len ≤ 10⁷ here (checked just above),
+                    // so u truncates to an integer that fits a u32, which is
+                    // all `to_int_unchecked` asks; it spares the saturating
+                    // cast's clamps (a third of this loop). Truncating
+                    // u < len gives at most len − 1 (len is exact as f64), so
+                    // no `min` is needed; the index stays bounds-checked.
+                    let i = unsafe { u.to_int_unchecked::<u32>() } as usize;
+                    parts[k].0[i] += 1;
+                } else {
+                    // Underflow, overflow, or NaN (fails every comparison).
+                    let class = if u < 0.0 {
+                        0
+                    } else if u >= len_f[k] {
+                        1
+                    } else {
+                        2
+                    };
+                    outside[k][class] += 1;
+                }
+            }
+        }
+        for (k, (_, totals)) in parts.iter_mut().enumerate() {
+            for (total, n) in totals.iter_mut().zip(outside[k]) {
+                **total += n;
+            }
+        }
+    }
+
     /// Bin width.
     pub fn bin_width(&self) -> f64 {
         self.bin_width
@@ -323,5 +387,38 @@ mod tests {
         assert!(Histogram::new(0.0, 1.0, 0.0).is_err());
         assert!(Histogram::new(1.0, 1.0, 0.1).is_err());
         assert!(Histogram::new(0.0, 1e9, 1e-3).is_err());
+    }
+
+    #[test]
+    fn a_block_push_counts_as_pushing_one_by_one() {
+        // Reference: `push` value by value; the awkward series (NaN, ±∞,
+        // values on bin edges) scaled so that some values fall outside.
+        let data: Vec<f64> = crate::stats::awkward_series(20_000, 5)
+            .into_iter()
+            .map(|x| x * 0.3)
+            .collect();
+        for block in [1, 3, 1024, data.len()] {
+            let mut one = Histogram::new(-0.5, 0.5, 0.01).unwrap();
+            let mut all = one.clone();
+            data.iter().for_each(|&x| one.push(x));
+            data.chunks(block)
+                .for_each(|c| all.push_all(c.iter().copied()));
+            assert_eq!(all.counts(), one.counts(), "block {block}");
+            let outside = |h: &Histogram| (h.underflow(), h.overflow(), h.not_a_number());
+            assert_eq!(outside(&all), outside(&one), "block {block}");
+            assert!(one.underflow() > 0 && one.overflow() > 0 && one.not_a_number() > 0);
+            // Several histograms in one pass: each as if alone.
+            let mut other_one = Histogram::new(-2.0, 0.1, 0.003).unwrap();
+            let mut other_all = other_one.clone();
+            data.iter().for_each(|&x| other_one.push(x));
+            let mut again = Histogram::new(-0.5, 0.5, 0.01).unwrap();
+            for c in data.chunks(block) {
+                Histogram::push_all_into([&mut again, &mut other_all], c.iter().copied());
+            }
+            for (a, o) in [(&again, &one), (&other_all, &other_one)] {
+                assert_eq!(a.counts(), o.counts(), "block {block}");
+                assert_eq!(outside(a), outside(o), "block {block}");
+            }
+        }
     }
 }

@@ -29,7 +29,8 @@ pub enum StatsError {
     Parameter(String),
 }
 
-/// Streaming count, mean, r.m.s., standard deviation, minimum and maximum.
+/// Streaming count, mean, r.m.s. and standard deviation (no extremes: see
+/// [`Moments`] for those).
 ///
 /// Sums of the deviations from the first value pushed (the shifted-data
 /// algorithm: Chan, Golub & LeVeque, "Algorithms for computing the sample
@@ -37,17 +38,52 @@ pub enum StatsError {
 /// unlike Welford's update, and no catastrophic cancellation as long as the
 /// first value is not far from the mean compared with the spread — true of
 /// every dynamic quantity of a run, which starts at rest at zero.
-#[derive(Debug, Clone, Default)]
-pub struct Moments {
+#[derive(Debug, Clone, Copy, Default)]
+pub struct SecondMoments {
     n: u64,
     shift: f64,
     sum_d: f64,
     sum_d2: f64,
-    min: f64,
-    max: f64,
 }
 
-impl Moments {
+/// A streaming accumulator of one column of values, for [`push_columns`].
+pub trait Column: Copy {
+    /// Adds one value.
+    fn push(&mut self, x: f64);
+    /// Adds a value to an accumulator that already holds one (no first-value
+    /// test): `push` without its first branch.
+    fn push_more(&mut self, x: f64);
+}
+
+/// Pushes `K` columns at once, row by row: `accumulators[k]` gets `row[k]`
+/// of every row, in order, exactly as `push` on each would give. The
+/// accumulators are copied into locals for the loop and the first-value
+/// test is taken once, so each value costs its arithmetic and little else
+/// (and neighbouring columns can share vector instructions).
+#[inline]
+pub fn push_columns<M: Column, const K: usize>(
+    accumulators: [&mut M; K],
+    rows: impl Iterator<Item = [f64; K]>,
+) {
+    let mut rows = rows;
+    let Some(first) = rows.next() else {
+        return;
+    };
+    let mut local: [M; K] = std::array::from_fn(|k| *accumulators[k]);
+    for k in 0..K {
+        local[k].push(first[k]);
+    }
+    for row in rows {
+        for k in 0..K {
+            local[k].push_more(row[k]);
+        }
+    }
+    for (a, l) in accumulators.into_iter().zip(local) {
+        *a = l;
+    }
+}
+
+impl SecondMoments {
     /// An empty accumulator.
     pub fn new() -> Self {
         Self::default()
@@ -56,23 +92,7 @@ impl Moments {
     /// Adds one value.
     #[inline]
     pub fn push(&mut self, x: f64) {
-        if self.n == 0 {
-            self.shift = x;
-            self.min = f64::INFINITY;
-            self.max = f64::NEG_INFINITY;
-        }
-        // New extremes are rare, so these branches are nearly free; a NaN
-        // compares false and is skipped, as `f64::min`/`max` skip it.
-        if x < self.min {
-            self.min = x;
-        }
-        if x > self.max {
-            self.max = x;
-        }
-        self.n += 1;
-        let d = x - self.shift;
-        self.sum_d += d;
-        self.sum_d2 += d * d;
+        Column::push(self, x);
     }
 
     /// Number of values pushed.
@@ -126,10 +146,112 @@ impl Moments {
         let mean = self.mean();
         (mean * mean + self.variance()).sqrt()
     }
+}
+
+impl Column for SecondMoments {
+    #[inline]
+    fn push(&mut self, x: f64) {
+        if self.n == 0 {
+            self.shift = x;
+        }
+        self.push_more(x);
+    }
+
+    #[inline(always)]
+    fn push_more(&mut self, x: f64) {
+        self.n += 1;
+        let d = x - self.shift;
+        self.sum_d += d;
+        self.sum_d2 += d * d;
+    }
+}
+
+/// Streaming count, mean, r.m.s., standard deviation, minimum and maximum:
+/// [`SecondMoments`] and the extremes.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct Moments {
+    sums: SecondMoments,
+    min: f64,
+    max: f64,
+}
+
+impl Column for Moments {
+    #[inline]
+    fn push(&mut self, x: f64) {
+        if self.sums.n == 0 {
+            self.min = f64::INFINITY;
+            self.max = f64::NEG_INFINITY;
+        }
+        self.sums.push(x);
+        self.extremes(x);
+    }
+
+    #[inline(always)]
+    fn push_more(&mut self, x: f64) {
+        self.sums.push_more(x);
+        self.extremes(x);
+    }
+}
+
+impl Moments {
+    /// An empty accumulator.
+    pub fn new() -> Self {
+        Self::default()
+    }
+
+    /// Adds one value.
+    #[inline]
+    pub fn push(&mut self, x: f64) {
+        Column::push(self, x);
+    }
+
+    /// Adds every value of `xs` in order: the same as [`Moments::push`] on
+    /// each, bit for bit.
+    #[inline]
+    pub fn push_all(&mut self, xs: impl Iterator<Item = f64>) {
+        push_columns([self], xs.map(|x| [x]));
+    }
+
+    #[inline(always)]
+    fn extremes(&mut self, x: f64) {
+        // A NaN compares false and is skipped, as `f64::min`/`max` skip it.
+        self.min = if x < self.min { x } else { self.min };
+        self.max = if x > self.max { x } else { self.max };
+    }
+
+    /// Number of values pushed.
+    pub fn count(&self) -> u64 {
+        self.sums.count()
+    }
+
+    /// Arithmetic mean (0 when empty).
+    pub fn mean(&self) -> f64 {
+        self.sums.mean()
+    }
+
+    /// Population variance `Σ(x − mean)²/n` (0 when empty).
+    pub fn variance(&self) -> f64 {
+        self.sums.variance()
+    }
+
+    /// Population standard deviation (divisor n; 0 when empty).
+    pub fn std(&self) -> f64 {
+        self.sums.std()
+    }
+
+    /// Sample standard deviation (divisor n − 1; 0 with fewer than two values).
+    pub fn sample_std(&self) -> f64 {
+        self.sums.sample_std()
+    }
+
+    /// Root mean square `√(Σx²/n) = √(mean² + variance)` (0 when empty).
+    pub fn rms(&self) -> f64 {
+        self.sums.rms()
+    }
 
     /// Smallest value (NaN when empty or every value was NaN).
     pub fn min(&self) -> f64 {
-        if self.n == 0 || self.min > self.max {
+        if self.sums.n == 0 || self.min > self.max {
             f64::NAN
         } else {
             self.min
@@ -138,12 +260,34 @@ impl Moments {
 
     /// Largest value (NaN when empty or every value was NaN).
     pub fn max(&self) -> f64 {
-        if self.n == 0 || self.min > self.max {
+        if self.sums.n == 0 || self.min > self.max {
             f64::NAN
         } else {
             self.max
         }
     }
+}
+
+/// An awkward test series for the block (`push_all`) paths: a random walk on
+/// a grid of `1/100` (levels such as 0.03 hit exactly, flats of repeated
+/// values), with NaN, −0 and ±∞ sprinkled in.
+#[cfg(test)]
+pub(crate) fn awkward_series(n: usize, seed: u64) -> Vec<f64> {
+    use rand::{Rng, SeedableRng};
+    let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(seed);
+    let mut k = 0i64;
+    (0..n)
+        .map(|i| {
+            k += rng.random_range(-3i64..=3);
+            match (i % 997, rng.random_range(0..400)) {
+                (500, _) => f64::INFINITY,
+                (900, _) => f64::NEG_INFINITY,
+                (_, 0) => f64::NAN,
+                _ if k == 0 && i % 2 == 0 => -0.0,
+                _ => k as f64 / 100.0,
+            }
+        })
+        .collect()
 }
 
 #[cfg(test)]
@@ -239,5 +383,84 @@ mod tests {
             );
         }
         assert_eq!(Moments::new().rms(), 0.0);
+    }
+
+    /// The bits of `x`, any NaN as one: the sign of a NaN sum depends on
+    /// which operand the compiler puts first, and nothing reports it.
+    fn b(x: f64) -> u64 {
+        if x.is_nan() {
+            f64::NAN.to_bits()
+        } else {
+            x.to_bits()
+        }
+    }
+
+    fn bits(m: &Moments) -> [u64; 8] {
+        [
+            m.count(),
+            b(m.mean()),
+            b(m.variance()),
+            b(m.std()),
+            b(m.sample_std()),
+            b(m.rms()),
+            b(m.min()),
+            b(m.max()),
+        ]
+    }
+
+    fn bits2(m: &SecondMoments) -> [u64; 6] {
+        [
+            m.count(),
+            b(m.mean()),
+            b(m.variance()),
+            b(m.std()),
+            b(m.sample_std()),
+            b(m.rms()),
+        ]
+    }
+
+    #[test]
+    fn block_pushes_give_the_one_by_one_results_bit_for_bit() {
+        // Reference: `push` value by value (itself checked against the
+        // two-pass definitions above), on finite data and on data with NaN,
+        // −0 and ±∞, in blocks of several sizes.
+        let awkward = awkward_series(5000, 3);
+        let finite: Vec<f64> = awkward.iter().map(|x| x.clamp(-5.0, 5.0)).collect();
+        let finite: Vec<f64> = finite.into_iter().filter(|x| !x.is_nan()).collect();
+        for data in [&awkward, &finite] {
+            let (mut one, mut one_sums, mut one_neg) =
+                (Moments::new(), SecondMoments::new(), SecondMoments::new());
+            for &x in data.iter() {
+                one.push(x);
+                one_sums.push(x);
+                one_neg.push(-x);
+            }
+            for block in [1, 2, 7, 1024, data.len()] {
+                let mut all = Moments::new();
+                let (mut a, mut b) = (SecondMoments::new(), SecondMoments::new());
+                for c in data.chunks(block) {
+                    all.push_all(c.iter().copied());
+                    push_columns([&mut a, &mut b], c.iter().map(|&x| [x, -x]));
+                }
+                assert_eq!(bits(&all), bits(&one), "block {block}");
+                assert_eq!(bits2(&a), bits2(&one_sums), "block {block}");
+                assert_eq!(bits2(&b), bits2(&one_neg), "block {block}");
+            }
+        }
+        // The finite data's extremes and r.m.s. as a plain fold gives them.
+        let mut m = Moments::new();
+        m.push_all(finite.iter().copied());
+        assert_eq!(
+            m.min(),
+            finite.iter().cloned().fold(f64::INFINITY, f64::min)
+        );
+        assert_eq!(
+            m.max(),
+            finite.iter().cloned().fold(f64::NEG_INFINITY, f64::max)
+        );
+        let mut empty = Moments::new();
+        empty.push_all(std::iter::empty());
+        assert_eq!(empty.count(), 0);
+        assert!(empty.min().is_nan());
     }
 }
