@@ -7,6 +7,8 @@ use std::io::{Read, Write};
 use std::path::{Path, PathBuf};
 
 use super::{Profile, ProfileError};
+
+mod streamed;
 use crate::limits::{self, DISTANCE, ELEVATION, SPACING};
 
 /// Relative spacing deviation tolerated without resampling (rounding in the
@@ -24,11 +26,31 @@ const MAX_GAP_FACTOR: f64 = 4.0;
 /// Reads a profile CSV. Warnings (resampling) are returned beside the profile
 /// so the caller decides where they go.
 pub fn read_profile_csv(path: &Path) -> Result<(Profile, Vec<String>), ProfileError> {
-    let bytes = std::fs::read(path).map_err(|source| ProfileError::Read {
+    let read_error = |source| ProfileError::Read {
         path: path.to_path_buf(),
         source,
-    })?;
+    };
+    let file = std::fs::File::open(path).map_err(read_error)?;
+    if let Some(profile) = read_streamed(&file) {
+        return Ok((profile, Vec::new()));
+    }
+    let bytes = std::fs::read(path).map_err(read_error)?;
     read_profile_bytes(&bytes, path)
+}
+
+/// A large plain file read block by block ([`streamed`]); `None` leaves
+/// the file to be read whole.
+#[cfg(any(unix, windows))]
+fn read_streamed(file: &std::fs::File) -> Option<Profile> {
+    let len = file.metadata().ok()?.len();
+    (len >= PARALLEL_PARSE_BYTES as u64)
+        .then(|| streamed::read_plain_streamed(file, len, streamed::BLOCK_BYTES))
+        .flatten()
+}
+
+#[cfg(not(any(unix, windows)))]
+fn read_streamed(_file: &std::fs::File) -> Option<Profile> {
+    None
 }
 
 /// Reads a profile CSV from any reader; `path` names it in messages.
@@ -70,7 +92,38 @@ fn read_plain(bytes: &[u8]) -> Option<Profile> {
     }
     let has_cr = memchr::memchr(b'\r', bytes).is_some();
     let header_end = bytes.iter().position(|&b| b == b'\n')?;
-    let header = line_of(has_cr, std::str::from_utf8(&bytes[..header_end]).ok()?)?;
+    let columns = plain_header(&bytes[..header_end], has_cr)?;
+    let body = &bytes[header_end + 1..];
+    let body = body.strip_suffix(b"\n").unwrap_or(body);
+    let mut rows = PlainRows::with_capacity(row_estimate(body.len()));
+    // A large file is parsed in two halves split at a line end, one per
+    // core, then joined: the same rows in the same order.
+    let split = (body.len() >= PARALLEL_PARSE_BYTES)
+        .then(|| body[body.len() / 2..].iter().position(|&b| b == b'\n'))
+        .flatten()
+        .map(|i| body.len() / 2 + i);
+    if let Some(split) = split {
+        let second = std::thread::scope(|scope| {
+            let second = scope.spawn(|| {
+                let tail = &body[split + 1..];
+                let mut rows = PlainRows::with_capacity(row_estimate(tail.len()));
+                plain_rows(tail, columns, has_cr, &mut rows).map(|()| rows)
+            });
+            let first = plain_rows(&body[..split], columns, has_cr, &mut rows);
+            first.and(second.join().ok().flatten())
+        })?;
+        rows.append(second)?;
+    } else {
+        plain_rows(body, columns, has_cr, &mut rows)?;
+    }
+    rows.into_profile()
+}
+
+/// Which fields of a plain file hold the distance and the elevation, and
+/// how many fields a row may have, from its header line (without the
+/// `\n`); `None` for a header the plain reader does not take.
+fn plain_header(header: &[u8], has_cr: bool) -> Option<PlainColumns> {
+    let header = line_of(has_cr, std::str::from_utf8(header).ok()?)?;
     if header.starts_with('#') {
         return None;
     }
@@ -80,60 +133,124 @@ fn read_plain(bytes: &[u8]) -> Option<Profile> {
             .iter()
             .position(|h| h.trim_start_matches('\u{feff}') == name)
     };
-    let (ix, iz) = (col("distance_m")?, col("elevation_m")?);
-    let width = names.len();
-    let body = &bytes[header_end + 1..];
-    let body = body.strip_suffix(b"\n").unwrap_or(body);
-    let (mut xs, mut zs);
-    // A large file is parsed in two halves split at a line end, one per
-    // core, then joined: the same rows in the same order.
-    let split = (body.len() >= PARALLEL_PARSE_BYTES)
-        .then(|| body[body.len() / 2..].iter().position(|&b| b == b'\n'))
-        .flatten()
-        .map(|i| body.len() / 2 + i);
-    if let Some(split) = split {
-        let (first, second) = std::thread::scope(|scope| {
-            let second = scope.spawn(|| plain_rows(&body[split + 1..], ix, iz, width, has_cr));
-            let first = plain_rows(&body[..split], ix, iz, width, has_cr);
-            (first, second.join().ok().flatten())
-        });
-        (xs, zs) = first?;
-        let (xs2, zs2) = second?;
-        if xs2
-            .first()
-            .is_some_and(|&x| xs.last().is_some_and(|&prev| x <= prev))
-        {
+    Some(PlainColumns {
+        distance: col("distance_m")?,
+        elevation: col("elevation_m")?,
+        width: names.len(),
+    })
+}
+
+/// Field positions of a plain file ([`plain_header`]).
+#[derive(Debug, Clone, Copy)]
+struct PlainColumns {
+    distance: usize,
+    elevation: usize,
+    width: usize,
+}
+
+/// Rows expected in `bytes` of body: rows printed by `write_profile_csv`
+/// take about 25 bytes, so this rarely falls short.
+fn row_estimate(bytes: usize) -> usize {
+    bytes / 20 + 1
+}
+
+/// The rows read so far by the plain reader: the elevations, and of the
+/// distances only what the checks need (first, last, and the smallest and
+/// largest gap between neighbours), so the distances are never stored.
+#[derive(Debug, Default)]
+struct PlainRows {
+    elevation_m: Vec<f64>,
+    first_m: f64,
+    last_m: f64,
+    gap_min_m: f64,
+    gap_max_m: f64,
+}
+
+impl PlainRows {
+    fn with_capacity(rows: usize) -> Self {
+        PlainRows {
+            elevation_m: Vec::with_capacity(rows),
+            gap_min_m: f64::INFINITY,
+            gap_max_m: f64::NEG_INFINITY,
+            ..Default::default()
+        }
+    }
+
+    /// The next row, or `None` when its distance does not increase.
+    #[inline(always)]
+    fn push(&mut self, x_m: f64, z_m: f64) -> Option<()> {
+        if self.elevation_m.is_empty() {
+            self.first_m = x_m;
+        } else {
+            if x_m <= self.last_m {
+                return None;
+            }
+            self.gap(x_m - self.last_m);
+        }
+        self.last_m = x_m;
+        self.elevation_m.push(z_m);
+        Some(())
+    }
+
+    #[inline(always)]
+    fn gap(&mut self, gap_m: f64) {
+        self.gap_min_m = self.gap_min_m.min(gap_m);
+        self.gap_max_m = self.gap_max_m.max(gap_m);
+    }
+
+    /// The rows of `next`, which follow these in the file.
+    fn append(&mut self, next: PlainRows) -> Option<()> {
+        if next.elevation_m.is_empty() {
+            return Some(());
+        }
+        if self.elevation_m.is_empty() {
+            *self = next;
+            return Some(());
+        }
+        if next.first_m <= self.last_m {
             return None;
         }
-        xs.extend_from_slice(&xs2);
-        zs.extend_from_slice(&zs2);
-    } else {
-        (xs, zs) = plain_rows(body, ix, iz, width, has_cr)?;
+        self.gap(next.first_m - self.last_m);
+        self.gap(next.gap_min_m);
+        self.gap(next.gap_max_m);
+        self.last_m = next.last_m;
+        self.elevation_m.extend_from_slice(&next.elevation_m);
+        Some(())
     }
-    if xs.len() < 2 {
-        return None;
+
+    /// The profile, when there are two rows or more, uniformly spaced
+    /// (the test of [`uniform_spacing`]: every gap's deviation from the
+    /// nominal spacing is a monotone function of the gap, so the smallest
+    /// and the largest gap decide for all of them) at a spacing in range.
+    fn into_profile(mut self) -> Option<Profile> {
+        let n = self.elevation_m.len();
+        if n < 2 {
+            return None;
+        }
+        let nominal = (self.last_m - self.first_m) / (n - 1) as f64;
+        let uniform =
+            within_uniform(self.gap_min_m, nominal) && within_uniform(self.gap_max_m, nominal);
+        (uniform && SPACING.contains(nominal)).then_some(())?;
+        // The capacity was a guess from the file size: the profile, held for
+        // the whole run, keeps only its samples.
+        self.elevation_m.shrink_to_fit();
+        Some(Profile::new(self.first_m, nominal, self.elevation_m))
     }
-    let spacing = uniform_spacing(&xs).filter(|s| SPACING.contains(*s))?;
-    let start = xs[0];
-    drop(xs);
-    // The capacity was a guess from the file size: the profile, held for
-    // the whole run, keeps only its samples.
-    zs.shrink_to_fit();
-    Some(Profile::new(start, spacing, zs))
 }
 
 /// The rows of `body` (whole lines, no trailing line end, at most `width`
-/// fields each): distances and elevations, or `None` as for [`read_plain`].
+/// fields each) added to `rows`, or `None` as for [`read_plain`].
 fn plain_rows(
     body: &[u8],
-    ix: usize,
-    iz: usize,
-    width: usize,
+    columns: PlainColumns,
     has_cr: bool,
-) -> Option<(Vec<f64>, Vec<f64>)> {
-    // Rows printed by `write_profile_csv` take about 25 bytes.
-    let mut xs = Vec::with_capacity(body.len() / 20 + 1);
-    let mut zs = Vec::with_capacity(body.len() / 20 + 1);
+    rows: &mut PlainRows,
+) -> Option<()> {
+    let PlainColumns {
+        distance: ix,
+        elevation: iz,
+        width,
+    } = columns;
     let two_columns = width == 2 && ix == 0 && iz == 1;
     let mut start = 0;
     while start <= body.len() {
@@ -153,13 +270,9 @@ fn plain_rows(
             }
         };
         start = next;
-        if xs.last().is_some_and(|&prev| x <= prev) {
-            return None;
-        }
-        xs.push(x);
-        zs.push(z);
+        rows.push(x, z)?;
     }
-    Some((xs, zs))
+    Some(())
 }
 
 /// The row at `start` when it is exactly `DISTANCE,ELEVATION` followed by
@@ -352,10 +465,15 @@ fn uniform_spacing(xs: &[f64]) -> Option<f64> {
     let n = xs.len();
     let nominal = (xs[n - 1] - xs[0]) / (n - 1) as f64;
     xs.windows(2)
-        .all(|w| {
-            ((w[1] - w[0]) - nominal).abs() <= UNIFORM_TOLERANCE * nominal + UNIFORM_TOLERANCE_M
-        })
+        .all(|w| within_uniform(w[1] - w[0], nominal))
         .then_some(nominal)
+}
+
+/// Whether a gap between neighbouring rows is the nominal spacing within
+/// the tolerances.
+#[inline]
+fn within_uniform(gap_m: f64, nominal_m: f64) -> bool {
+    (gap_m - nominal_m).abs() <= UNIFORM_TOLERANCE * nominal_m + UNIFORM_TOLERANCE_M
 }
 
 /// Puts the rows on a uniform grid: as they are when already uniform,
@@ -640,5 +758,146 @@ mod tests {
         for text in other {
             assert!(read_plain(text.as_bytes()).is_none(), "{text:?}");
         }
+    }
+
+    #[test]
+    fn the_block_reader_gives_what_the_whole_file_readers_give() {
+        // Reference: the general reader built on the `csv` crate, and the
+        // plain reader on the whole file. Read in blocks of any size that
+        // holds a line, every plain file without `\r` gives the same
+        // profile bit for bit; a `\r`, a quote, a line longer than a
+        // block or anything the plain reader refuses gives `None` (the
+        // file is then read whole).
+        let streamed = |text: &[u8], block: usize| {
+            streamed::read_plain_streamed(text, text.len() as u64, block)
+        };
+        let plain = [
+            "distance_m,elevation_m\n0,0e0\n0.05,-1.5494715572999945e-3\n0.1,2.5e-3\n",
+            "note,elevation_m,distance_m\nx,1.5,10\ny,-2.25,10.25\nz,3,10.5\n",
+            "\u{feff}distance_m , elevation_m\n 0 ,\t1e-3 \n1, 2E-3\n2,+3.0e-3\n",
+            "distance_m,elevation_m\n0,1e-3\n1,2e-3\n2, 3e-3\n3,4e-3 \n4,.5",
+        ];
+        for text in plain {
+            let (general, _) = read_general(text.as_bytes(), Path::new("road.csv")).unwrap();
+            for block in [40, 41, 57, 64, 1000] {
+                assert_eq!(
+                    streamed(text.as_bytes(), block),
+                    Some(general.clone()),
+                    "{text:?} {block}"
+                );
+            }
+            assert_eq!(
+                streamed(text.as_bytes(), 12),
+                None,
+                "a line longer than a block"
+            );
+        }
+        let cr = "distance_m,elevation_m\r\n0,0.001\r\n0.5,0.002\r\n1,-0.003";
+        assert!(read_plain(cr.as_bytes()).is_some());
+        assert_eq!(streamed(cr.as_bytes(), 64), None);
+        let other = [
+            "distance_m,elevation_m\n\"0\",0\n1,0\n",
+            "# comment\ndistance_m,elevation_m\n0,0\n1,0\n",
+            "distance_m,elevation_m\n0,0\n\n1,0\n",
+            "distance_m,elevation_m\n0,0\n1,0\n\n",
+            "distance_m,elevation_m\n0,0\n1,inf\n",
+            "distance_m,elevation_m\n0,0\n1,0\n1,0\n",
+            "distance_m,elevation_m\n0,0\n0.9,0.9\n2.1,2.1\n3,3\n",
+            "distance_m,elevation_m\n0,0\n",
+            "distance_m,elevation_m\n",
+            "distance_m,elevation_m",
+        ];
+        for text in other {
+            assert!(read_plain(text.as_bytes()).is_none(), "{text:?}");
+            for block in [40, 64, 1000] {
+                assert_eq!(streamed(text.as_bytes(), block), None, "{text:?} {block}");
+            }
+        }
+        // Large enough to be cut in two halves, and cut into many blocks.
+        let p = Profile::new(
+            3.0,
+            0.05,
+            (0..60_000)
+                .map(|i| 1e-3 * (i as f64 * 0.37).sin())
+                .collect(),
+        );
+        let mut big = Vec::new();
+        write_profile_csv(&p, &mut big).unwrap();
+        assert!(big.len() >= PARALLEL_PARSE_BYTES + 64);
+        let (general, _) = read_general(&big, Path::new("road.csv")).unwrap();
+        for block in [4096, 65_537, streamed::BLOCK_BYTES] {
+            assert_eq!(streamed(&big, block), Some(general.clone()), "{block}");
+        }
+        // A row out of order in the second half, and one across the cut.
+        let text = String::from_utf8(big.clone()).unwrap();
+        let lines: Vec<&str> = text.lines().collect();
+        for at in [45_000, lines.len() / 2, lines.len() / 2 + 1] {
+            let mut swapped = lines.clone();
+            swapped.swap(at, at + 1);
+            let bad = swapped.join("\n");
+            assert!(read_plain(bad.as_bytes()).is_none());
+            assert_eq!(
+                streamed(bad.as_bytes(), 4096),
+                None,
+                "rows {at} and {}",
+                at + 1
+            );
+        }
+    }
+
+    #[test]
+    fn the_smallest_and_largest_gap_decide_uniform_spacing_as_every_gap_does() {
+        // Reference: `uniform_spacing`, which tests every gap. The block
+        // reader keeps only the extremes; on rows jittered around the
+        // tolerance both must agree on every sequence.
+        use rand::{Rng, SeedableRng};
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(11);
+        let (mut uniform, mut not) = (0, 0);
+        for _ in 0..4000 {
+            let n = rng.random_range(2..40);
+            let spacing = 10f64.powi(rng.random_range(-3..1));
+            let jitter = 10f64.powf(rng.random_range(-7.0..-5.0));
+            let xs: Vec<f64> = (0..n)
+                .map(|i| 1.5 + i as f64 * spacing + rng.random_range(-jitter..jitter))
+                .collect();
+            if xs.windows(2).any(|w| w[1] <= w[0]) {
+                continue;
+            }
+            let mut rows = PlainRows::with_capacity(n);
+            for &x in &xs {
+                rows.push(x, 0.0).unwrap();
+            }
+            let reference = uniform_spacing(&xs).filter(|s| SPACING.contains(*s));
+            let got = rows.into_profile().map(|p| p.spacing_m);
+            assert_eq!(got.map(f64::to_bits), reference.map(f64::to_bits), "{xs:?}");
+            if reference.is_some() {
+                uniform += 1;
+            } else {
+                not += 1;
+            }
+        }
+        assert!(uniform > 500 && not > 500, "{uniform} uniform, {not} not");
+    }
+
+    #[test]
+    fn a_large_file_on_disk_reads_as_the_general_reader_reads_it() {
+        // Reference: the general reader (`csv` crate) on the same bytes.
+        let p = Profile::new(
+            0.0,
+            0.1,
+            (0..50_000)
+                .map(|i| 2e-3 * (i as f64 * 0.11).cos())
+                .collect(),
+        );
+        let mut big = Vec::new();
+        write_profile_csv(&p, &mut big).unwrap();
+        let path =
+            std::env::temp_dir().join(format!("roughride-csv-io-{}.csv", std::process::id()));
+        std::fs::write(&path, &big).unwrap();
+        let read = read_profile_csv(&path);
+        std::fs::remove_file(&path).unwrap();
+        let (general, _) = read_general(&big, Path::new("road.csv")).unwrap();
+        assert!(big.len() as u64 >= PARALLEL_PARSE_BYTES as u64);
+        assert_eq!(read.unwrap().0, general);
     }
 }
