@@ -535,7 +535,7 @@ struct Feed<'e> {
     /// run's, the rest are left over from the buffer's previous use.
     chunk: Vec<Sample>,
     filled: usize,
-    /// Whether the processor has AVX ([`Feed::take_filled_avx`]).
+    /// Whether the processor has AVX ([`Feed::ledger_block`]).
     avx: bool,
     /// The energy ledger, kept on this thread.
     energy: &'e mut EnergyLedger,
@@ -559,35 +559,36 @@ impl Feed<'_> {
             .unwrap_or_else(|_| vec![Sample::default(); CHUNK_SAMPLES]);
         // Only the run's last chunk comes back short.
         fresh.resize(CHUNK_SAMPLES, Sample::default());
+        // The ledger takes a chunk at a time, in order: a loop over samples
+        // still in cache, apart from the solver's own loop.
+        self.ledger_block();
         let mut full = std::mem::replace(&mut self.chunk, fresh);
         full.truncate(self.filled);
         self.filled = 0;
         self.send(Handover::Samples(full))
     }
 
-    /// [`Feed::take_filled`] compiled for AVX where the processor has it
-    /// (the ledger's arithmetic is the same, so are its bits).
-    #[inline(always)]
-    fn take_filled_fastest(&mut self) -> Result<(), SolveError> {
+    /// The ledger over the filled samples, compiled for AVX where the
+    /// processor has it (the same arithmetic, so the same bits).
+    fn ledger_block(&mut self) {
         #[cfg(target_arch = "x86_64")]
         if self.avx {
             // SAFETY: `avx` is true only where the processor has AVX.
-            return unsafe { self.take_filled_avx() };
+            return unsafe { self.ledger_block_avx() };
         }
-        self.take_filled()
+        self.energy.push_block(&self.chunk[..self.filled]);
     }
 
-    /// [`Feed::take_filled`] with AVX enabled.
+    /// [`Feed::ledger_block`] with AVX enabled.
     #[cfg(target_arch = "x86_64")]
     #[target_feature(enable = "avx")]
-    fn take_filled_avx(&mut self) -> Result<(), SolveError> {
-        self.take_filled()
+    fn ledger_block_avx(&mut self) {
+        self.energy.push_block_inlined(&self.chunk[..self.filled]);
     }
 
     /// Counts in the sample in slot `filled`.
     #[inline(always)]
     fn take_filled(&mut self) -> Result<(), SolveError> {
-        self.energy.push_inlined(&self.chunk[self.filled]);
         self.filled += 1;
         if self.filled >= CHUNK_SAMPLES {
             self.hand_over()?;
@@ -607,7 +608,7 @@ impl SampleSink for Feed<'_> {
     #[inline]
     fn accept(&mut self, sample: &Sample) -> Result<(), SolveError> {
         self.chunk[self.filled] = *sample;
-        self.take_filled_fastest()
+        self.take_filled()
     }
 
     #[inline]
@@ -617,7 +618,7 @@ impl SampleSink for Feed<'_> {
 
     #[inline]
     fn accept_slot(&mut self) -> Result<(), SolveError> {
-        self.take_filled_fastest()
+        self.take_filled()
     }
 }
 

@@ -87,9 +87,14 @@ pub const ENERGY_IMPLAUSIBLE_FRACTION: f64 = 0.10;
 #[derive(Debug, Clone, Copy)]
 struct AxleEnergy {
     spring_n_m: f64,
+    /// `0.5 * spring_n_m` (and of the stop rate below): `0.5 * k * d * d`
+    /// is `((0.5 * k) * d) * d`, so halving once gives the same bits.
+    half_spring_n_m: f64,
+    half_stop_n_m: f64,
     stops: Option<Stops>,
-    /// Wheel coordinate and tyre (rate, damping) for an axle with an unsprung mass.
-    wheel: Option<(usize, f64)>,
+    /// Wheel coordinate, tyre rate and half the rate, for an axle with an
+    /// unsprung mass.
+    wheel: Option<(usize, f64, f64)>,
     /// Static force the contact carries (a tyre's, or the spring's without one), N.
     static_contact_n: f64,
     /// Where the contact lets go ([`AxleEnergy::release_point`]), worked
@@ -105,13 +110,13 @@ impl AxleEnergy {
 
     /// Energy stored in the spring and stop at travel `d`: `∫₀ᵈ (k x + stop(x)) dx`.
     fn suspension_j(&self, d: f64) -> f64 {
-        let mut v = 0.5 * self.spring_n_m * d * d;
+        let mut v = self.half_spring_n_m * d * d;
         if let Some(s) = &self.stops {
             if let Some(c) = s.bump_clearance_m.filter(|c| d > *c) {
-                v += 0.5 * s.rate_n_m * (d - c) * (d - c);
+                v += self.half_stop_n_m * (d - c) * (d - c);
             }
             if let Some(c) = s.rebound_clearance_m.filter(|c| d < -*c) {
-                v += 0.5 * s.rate_n_m * (d + c) * (d + c);
+                v += self.half_stop_n_m * (d + c) * (d + c);
             }
         }
         v
@@ -176,7 +181,8 @@ pub struct EnergyLedger {
 #[derive(Debug, Clone)]
 struct LedgerModel {
     axles: [AxleEnergy; 2],
-    masses_kg: [f64; MAX_DOF],
+    /// Half of each mass (see [`AxleEnergy::half_spring_n_m`]), kg.
+    half_masses_kg: [f64; MAX_DOF],
     /// Degrees of freedom: the masses past them are zero, so are their terms.
     dof_count: usize,
     /// Spring rate of each seat suspension (0 for an absent one), N/m.
@@ -379,9 +385,11 @@ impl EnergyLedger {
             let wheel = vehicle
                 .wheel_dof(i)
                 .zip(a.tyre.as_ref())
-                .map(|(w, t)| (w, t.rate_n_m));
+                .map(|(w, t)| (w, t.rate_n_m, 0.5 * t.rate_n_m));
             let mut axle = AxleEnergy {
                 spring_n_m: a.spring_n_m,
+                half_spring_n_m: 0.5 * a.spring_n_m,
+                half_stop_n_m: a.stops.map_or(0.0, |s| 0.5 * s.rate_n_m),
                 stops: a.stops,
                 wheel,
                 static_contact_n: if wheel.is_some() {
@@ -391,12 +399,12 @@ impl EnergyLedger {
                 },
                 release_m: 0.0,
             };
-            axle.release_m = axle.release_point(wheel.map(|(_, kt)| kt));
+            axle.release_m = axle.release_point(wheel.map(|(_, kt, _)| kt));
             axle
         });
         let model = LedgerModel {
             axles,
-            masses_kg: vehicle.mass_diagonal(),
+            half_masses_kg: vehicle.mass_diagonal().map(|m| 0.5 * m),
             seat_rates_n_m: {
                 let mut k = [0.0; MAX_SUSPENDED_SEATS];
                 for (slot, (_, p, _)) in k.iter_mut().zip(vehicle.suspended_seats()) {
@@ -459,6 +467,29 @@ impl EnergyLedger {
         }
         self.last = now;
         self.has_last = true;
+        self.tally(s, stored);
+    }
+
+    /// [`EnergyLedger::push_inlined`] for a sample after the first, whose
+    /// terms go to slot `NOW` (the last sample's are in the other): the
+    /// same arithmetic, with the slots known where it is compiled.
+    #[inline(always)]
+    fn push_at<const NOW: usize>(&mut self, s: &Sample) {
+        let [w0, w1] = &mut self.work;
+        let (work, prev) = if NOW == 0 { (w0, &*w1) } else { (w1, &*w0) };
+        let stored = self.model.terms(s, work);
+        let m = &mut self.sums;
+        m.input_j += work.input_j(prev);
+        m.dissipated_j += work.damping_j(prev, self.model.damping_slots);
+        self.last = NOW;
+        self.tally(s, stored);
+    }
+
+    /// The running extremes and the local balance after a sample whose
+    /// stored energy is `stored`.
+    #[inline(always)]
+    fn tally(&mut self, s: &Sample, stored: f64) {
+        let m = &mut self.sums;
         m.input_max_j = m.input_max_j.max(m.input_j);
         m.stored_max_j = m.stored_max_j.max(stored);
         let signed = stored - (m.input_j - m.dissipated_j);
@@ -469,6 +500,35 @@ impl EnergyLedger {
             m.residual_at_s = s.time_s;
         }
         m.local(s.time_s, signed, stored);
+    }
+
+    /// Adds output samples in time order, as [`EnergyLedger::push`] for
+    /// each would, bit for bit: in pairs, so that each sample's work slot
+    /// is fixed in the code rather than chosen per sample.
+    pub fn push_block(&mut self, samples: &[Sample]) {
+        self.push_block_inlined(samples)
+    }
+
+    /// [`EnergyLedger::push_block`], always inlined: for a caller compiled
+    /// with other instruction-set features (see [`EnergyLedger::push_inlined`]).
+    #[inline(always)]
+    pub fn push_block_inlined(&mut self, samples: &[Sample]) {
+        let mut rest = samples;
+        while let Some((s, tail)) = rest.split_first() {
+            if self.has_last && self.last == 1 {
+                break;
+            }
+            self.push_inlined(s);
+            rest = tail;
+        }
+        let mut pairs = rest.chunks_exact(2);
+        for pair in &mut pairs {
+            self.push_at::<0>(&pair[0]);
+            self.push_at::<1>(&pair[1]);
+        }
+        if let [s] = pairs.remainder() {
+            self.push_at::<0>(s);
+        }
     }
 
     /// The balance so far.
@@ -499,9 +559,9 @@ impl LedgerModel {
         // Kinetic energy in coordinate order; the masses past the vehicle's
         // degrees of freedom are zero and their terms +0, which a sum of
         // non-negative terms does not feel.
-        let mut stored = 0.5 * self.masses_kg[0] * s.qd[0] * s.qd[0];
+        let mut stored = self.half_masses_kg[0] * s.qd[0] * s.qd[0];
         for j in 1..self.dof_count {
-            stored += 0.5 * self.masses_kg[j] * s.qd[j] * s.qd[j];
+            stored += self.half_masses_kg[j] * s.qd[j] * s.qd[j];
         }
         let road = &s.inputs.road;
         let el = &s.elements;
@@ -534,17 +594,17 @@ impl LedgerModel {
         let d = el.travel_m[i];
         let s_n = a.static_contact_n;
         match a.wheel {
-            Some((wdof, kt)) => {
+            Some((wdof, kt, half_kt)) => {
                 let spring_j = a.suspension_j(d);
                 w.damping_n[2 * i] = el.suspension_n[i] - a.elastic_n(d);
                 w.damping_m[2 * i] = d;
                 let e = road.elevation_m[i] - s.q[wdof];
                 let (v, elastic) = if self.bonded {
-                    (0.5 * kt * e * e, kt * e)
+                    (half_kt * e * e, kt * e)
                 } else {
                     let release = a.release_m;
                     (
-                        clamped(e, release, s_n, |x| 0.5 * kt * x * x),
+                        clamped(e, release, s_n, |x| half_kt * x * x),
                         (kt * e).max(-s_n),
                     )
                 };
