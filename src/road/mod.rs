@@ -167,8 +167,12 @@ impl ProfileReader<'_> {
         // 0 < u < last here, so truncation is the floor (and needs no libm
         // call on targets without a rounding instruction). Through i64, which
         // the processor converts in one instruction each way (usize takes a
-        // longer unsigned sequence); the value is the same.
-        let i = u as i64;
+        // longer unsigned sequence); the value is the same. Unchecked, as
+        // the saturating `as` adds range tests to every lookup.
+        // SAFETY: u is not NaN and 0 < u < last_f (tested above), and
+        // last_f is a Vec's length less one, at most isize::MAX, so `u`
+        // truncated fits in an i64.
+        let i: i64 = unsafe { u.to_int_unchecked() };
         ((i as usize).min(last - 1), u - i as f64)
     }
 
