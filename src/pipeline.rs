@@ -457,7 +457,14 @@ fn run_streaming(
     let samples = solve::sample_count(excitation.duration_s(), plan.output_rate_hz);
     let second_core = std::thread::available_parallelism().is_ok_and(|n| n.get() > 1);
     if samples < 4 * CHUNK_SAMPLES || !second_core || rayon::current_thread_index().is_some() {
-        return solve::run(vehicle, excitation, plan, sink);
+        let mut buffered = Buffered {
+            chunk: vec![Sample::default(); CHUNK_SAMPLES.min(samples.max(1))],
+            filled: 0,
+            evaluators: sink,
+        };
+        let info = solve::run(vehicle, excitation, plan, &mut buffered)?;
+        buffered.flush()?;
+        return Ok(info);
     }
     // The energy ledger runs beside the solver, not with the other
     // evaluators: the evaluators cost twice what the exact solver does per
@@ -489,7 +496,6 @@ fn run_streaming(
             back: back_rx,
             chunk: vec![Sample::default(); CHUNK_SAMPLES],
             filled: 0,
-            avx: has_avx(),
             energy: &mut energy,
         };
         let solved = solve::run(vehicle, excitation, plan, &mut feed).and_then(|info| {
@@ -510,12 +516,51 @@ fn run_streaming(
     result
 }
 
-/// Whether the processor has AVX (never on other architectures).
-fn has_avx() -> bool {
-    #[cfg(target_arch = "x86_64")]
-    return std::arch::is_x86_feature_detected!("avx");
-    #[cfg(not(target_arch = "x86_64"))]
-    false
+/// The evaluators on the solver's own thread, a chunk at a time: the
+/// solver builds samples in the chunk's slots and the evaluators take each
+/// full chunk column by column ([`Evaluators::accept_chunk`], the same
+/// results bit for bit as sample by sample, and cheaper).
+struct Buffered<'s, 'e> {
+    /// Never empty; the first `filled` are this run's.
+    chunk: Vec<Sample>,
+    filled: usize,
+    evaluators: &'s mut Evaluators<'e>,
+}
+
+impl Buffered<'_, '_> {
+    /// Evaluates the samples collected so far.
+    fn flush(&mut self) -> Result<(), SolveError> {
+        let filled = std::mem::take(&mut self.filled);
+        self.evaluators.accept_chunk(&self.chunk[..filled])
+    }
+}
+
+impl SampleSink for Buffered<'_, '_> {
+    fn start(&mut self, solver: SolverKind) -> Result<(), SolveError> {
+        // Samples not yet evaluated belong to the run being discarded.
+        self.filled = 0;
+        self.evaluators.start(solver)
+    }
+
+    #[inline]
+    fn accept(&mut self, sample: &Sample) -> Result<(), SolveError> {
+        self.chunk[self.filled] = *sample;
+        self.accept_slot()
+    }
+
+    #[inline]
+    fn next_slot(&mut self) -> Option<&mut Sample> {
+        self.chunk.get_mut(self.filled)
+    }
+
+    #[inline]
+    fn accept_slot(&mut self) -> Result<(), SolveError> {
+        self.filled += 1;
+        if self.filled == self.chunk.len() {
+            self.flush()?;
+        }
+        Ok(())
+    }
 }
 
 /// What the solver hands to the evaluator thread, in order.
@@ -535,8 +580,6 @@ struct Feed<'e> {
     /// run's, the rest are left over from the buffer's previous use.
     chunk: Vec<Sample>,
     filled: usize,
-    /// Whether the processor has AVX ([`Feed::ledger_block`]).
-    avx: bool,
     /// The energy ledger, kept on this thread.
     energy: &'e mut EnergyLedger,
 }
@@ -561,29 +604,11 @@ impl Feed<'_> {
         fresh.resize(CHUNK_SAMPLES, Sample::default());
         // The ledger takes a chunk at a time, in order: a loop over samples
         // still in cache, apart from the solver's own loop.
-        self.ledger_block();
+        self.energy.push_block(&self.chunk[..self.filled]);
         let mut full = std::mem::replace(&mut self.chunk, fresh);
         full.truncate(self.filled);
         self.filled = 0;
         self.send(Handover::Samples(full))
-    }
-
-    /// The ledger over the filled samples, compiled for AVX where the
-    /// processor has it (the same arithmetic, so the same bits).
-    fn ledger_block(&mut self) {
-        #[cfg(target_arch = "x86_64")]
-        if self.avx {
-            // SAFETY: `avx` is true only where the processor has AVX.
-            return unsafe { self.ledger_block_avx() };
-        }
-        self.energy.push_block(&self.chunk[..self.filled]);
-    }
-
-    /// [`Feed::ledger_block`] with AVX enabled.
-    #[cfg(target_arch = "x86_64")]
-    #[target_feature(enable = "avx")]
-    fn ledger_block_avx(&mut self) {
-        self.energy.push_block_inlined(&self.chunk[..self.filled]);
     }
 
     /// Counts in the sample in slot `filled`.
@@ -992,7 +1017,7 @@ impl Evaluators<'_> {
         self.off_ground[0] += off[0];
         self.off_ground[1] += off[1];
         if self.energy_here {
-            chunk.iter().for_each(|s| self.energy.push(s));
+            self.energy.push_block(chunk);
         }
         if self.history.is_some() {
             for s in chunk {

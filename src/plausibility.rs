@@ -192,6 +192,8 @@ struct LedgerModel {
     force_x_m: f64,
     /// Tyres kept on the road (the exact solver's linear model).
     bonded: bool,
+    /// Whether the processor has AVX ([`EnergyLedger::push_block`]).
+    avx: bool,
 }
 
 impl Sums {
@@ -416,6 +418,7 @@ impl EnergyLedger {
             dof_count: vehicle.dof_count().min(MAX_DOF),
             force_x_m,
             bonded: false,
+            avx: has_avx(),
         };
         EnergyLedger {
             model,
@@ -504,15 +507,27 @@ impl EnergyLedger {
 
     /// Adds output samples in time order, as [`EnergyLedger::push`] for
     /// each would, bit for bit: in pairs, so that each sample's work slot
-    /// is fixed in the code rather than chosen per sample.
+    /// is fixed in the code rather than chosen per sample; compiled for
+    /// AVX where the processor has it (the same arithmetic, so the same
+    /// bits; about an eighth fewer instructions).
     pub fn push_block(&mut self, samples: &[Sample]) {
+        #[cfg(target_arch = "x86_64")]
+        if self.model.avx {
+            // SAFETY: `avx` is true only where the processor has AVX.
+            return unsafe { self.push_block_avx(samples) };
+        }
         self.push_block_inlined(samples)
     }
 
-    /// [`EnergyLedger::push_block`], always inlined: for a caller compiled
-    /// with other instruction-set features (see [`EnergyLedger::push_inlined`]).
+    /// [`EnergyLedger::push_block`] with AVX enabled.
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "avx")]
+    fn push_block_avx(&mut self, samples: &[Sample]) {
+        self.push_block_inlined(samples)
+    }
+
     #[inline(always)]
-    pub fn push_block_inlined(&mut self, samples: &[Sample]) {
+    fn push_block_inlined(&mut self, samples: &[Sample]) {
         let mut rest = samples;
         while let Some((s, tail)) = rest.split_first() {
             if self.has_last && self.last == 1 {
@@ -628,6 +643,14 @@ impl LedgerModel {
             }
         }
     }
+}
+
+/// Whether the processor has AVX (never on other architectures).
+fn has_avx() -> bool {
+    #[cfg(target_arch = "x86_64")]
+    return std::arch::is_x86_feature_detected!("avx");
+    #[cfg(not(target_arch = "x86_64"))]
+    false
 }
 
 /// Findings of the energy balance and the travel it allows.
