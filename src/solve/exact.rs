@@ -301,7 +301,7 @@ fn run_fixed<const N: usize, const D: usize>(
         // slot (the copy of a whole sample per step is then saved).
         match sink.next_slot() {
             Some(slot) => {
-                *slot = build();
+                slot.fill_from_inputs(&model, force_x_m, t, inputs, &q, &qd, Contact::Bonded);
                 count_pulls(slot, t, plan, &mut pulls)?;
                 super::check_block(k, &x, t, vehicle)?;
                 sink.accept_slot()?;

@@ -414,6 +414,35 @@ impl Sample {
         }
     }
 
+    /// [`Sample::from_inputs`] written field by field into `self` (a
+    /// sink's slot), so no whole sample is built elsewhere and copied in.
+    #[inline(always)]
+    #[allow(clippy::too_many_arguments)]
+    pub(crate) fn fill_from_inputs(
+        &mut self,
+        model: &ElementModel<'_>,
+        force_x_m: f64,
+        time_s: f64,
+        inputs: Inputs,
+        q: &[f64; MAX_DOF],
+        qd: &[f64; MAX_DOF],
+        contact: Contact,
+    ) {
+        self.time_s = time_s;
+        self.inputs = inputs;
+        self.q = *q;
+        self.qd = *qd;
+        self.elements = model.evaluate_with(
+            q,
+            qd,
+            &inputs.road,
+            inputs.force_n,
+            force_x_m,
+            contact,
+            &mut self.qdd,
+        );
+    }
+
     /// Vertical acceleration of a body point at `x_m`: `z̈ + x·θ̈`, m/s².
     #[inline]
     pub fn body_point_accel_m_s2(&self, x_m: f64) -> f64 {
