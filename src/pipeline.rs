@@ -977,10 +977,12 @@ impl Evaluators<'_> {
         );
         push_columns([h, p, ha, pa], chunk.iter().map(body));
         for i in 0..2 {
-            let travel_m = chunk.iter().map(move |s| s.elements.travel_m[i]);
-            let force_n = chunk.iter().map(move |s| s.elements.suspension_n[i]);
-            let contact_n = chunk.iter().map(move |s| s.elements.contact_n[i]);
-            self.durability[i].push_all(travel_m, force_n, contact_n);
+            self.durability[i].push_rows(
+                chunk,
+                |s| s.elements.travel_m[i],
+                |s| s.elements.suspension_n[i],
+                |s| s.elements.contact_n[i],
+            );
         }
         let mut off = [0u64; 2];
         for s in chunk {
