@@ -1005,9 +1005,11 @@ impl Evaluators<'_> {
 
     /// [`Evaluators::push_floor_seats`] over a chunk, seat by seat.
     fn push_floor_seats_chunk(&mut self, chunk: &[Sample]) {
-        let seats = self.seats.iter_mut().zip(&mut self.fore_aft);
-        for ((m, fa), (&x, &h)) in seats.zip(self.seat_x_m.iter().zip(&self.seat_h_m)) {
-            m.push_all(chunk.iter().map(|s| s.body_point_accel_m_s2(x)));
+        let x_m = &self.seat_x_m;
+        push_meters(&mut self.seats, chunk, |s, i| {
+            s.body_point_accel_m_s2(x_m[i])
+        });
+        for (fa, &h) in self.fore_aft.iter_mut().zip(&self.seat_h_m) {
             if h != 0.0 {
                 fa.push_all(chunk.iter().map(|s| fore_aft_accel_m_s2(s, h)));
             }
@@ -1016,15 +1018,10 @@ impl Evaluators<'_> {
 
     /// [`Evaluators::push_seats_general`] over a chunk, seat by seat.
     fn push_seats_general_chunk(&mut self, chunk: &[Sample]) {
-        for ((m, &x), d) in self
-            .seats
-            .iter_mut()
-            .zip(&self.seat_x_m)
-            .zip(&self.seat_dof)
-        {
-            let dof = d.map(|d| d.0);
-            m.push_all(chunk.iter().map(|s| seat_accel_m_s2(s, x, dof)));
-        }
+        let (x_m, dof) = (&self.seat_x_m, &self.seat_dof);
+        push_meters(&mut self.seats, chunk, |s, i| {
+            seat_accel_m_s2(s, x_m[i], dof[i].map(|d| d.0))
+        });
         for ((f, &x), d) in self
             .floor
             .iter_mut()
@@ -1135,6 +1132,28 @@ impl Evaluators<'_> {
         h.write_all(line.as_bytes())
             .map_err(|e| history_error(h, e))?;
         Ok(())
+    }
+}
+
+/// Pushes `accel(sample, i)` of every sample of `chunk` into `meters[i]`,
+/// two meters at a time ([`Meter::push_all_pair`]: the same measures, bit
+/// for bit, as one at a time).
+fn push_meters(
+    meters: &mut [Meter],
+    chunk: &[Sample],
+    accel: impl Fn(&Sample, usize) -> f64 + Copy,
+) {
+    let last = meters.len().saturating_sub(1);
+    let mut pairs = meters.chunks_exact_mut(2);
+    for (k, pair) in (&mut pairs).enumerate() {
+        let (i, j) = (2 * k, 2 * k + 1);
+        if let [a, b] = pair {
+            let both = move |s: &Sample| [accel(s, i), accel(s, j)];
+            Meter::push_all_pair(a, b, chunk.iter().map(both));
+        }
+    }
+    if let [m] = pairs.into_remainder() {
+        m.push_all(chunk.iter().map(|s| accel(s, last)));
     }
 }
 
