@@ -7,8 +7,8 @@
 
 #[cfg(target_arch = "x86_64")]
 use std::arch::x86_64::{
-    __m128d, _mm_add_pd, _mm_andnot_pd, _mm_max_pd, _mm_mul_pd, _mm_set_pd, _mm_set1_pd,
-    _mm_storeu_pd, _mm_sub_pd,
+    __m128d, _mm_add_pd, _mm_andnot_pd, _mm_max_pd, _mm_min_pd, _mm_mul_pd, _mm_set_pd,
+    _mm_set1_pd, _mm_storeu_pd, _mm_sub_pd,
 };
 
 /// Two lanes of `f64`.
@@ -54,6 +54,13 @@ impl F2 {
         F2(unsafe { _mm_max_pd(self.0, other.0) })
     }
 
+    /// Per lane `if self < other { self } else { other }` (`minpd`, as
+    /// [`F2::greater_or`]).
+    #[inline(always)]
+    pub fn less_or(self, other: F2) -> F2 {
+        F2(unsafe { _mm_min_pd(self.0, other.0) })
+    }
+
     /// Per lane `|x|` (the sign bit cleared, as `f64::abs`).
     #[inline(always)]
     pub fn abs(self) -> F2 {
@@ -85,6 +92,13 @@ impl F2 {
     #[inline(always)]
     pub fn greater_or(self, other: F2) -> F2 {
         let pick = |a: f64, b: f64| if a > b { a } else { b };
+        F2([pick(self.0[0], other.0[0]), pick(self.0[1], other.0[1])])
+    }
+
+    /// Per lane `if self < other { self } else { other }`.
+    #[inline(always)]
+    pub fn less_or(self, other: F2) -> F2 {
+        let pick = |a: f64, b: f64| if a < b { a } else { b };
         F2([pick(self.0[0], other.0[0]), pick(self.0[1], other.0[1])])
     }
 

@@ -32,7 +32,7 @@ use crate::stats::durability::{
     AxleDurability, DurabilitySettings, DurabilitySummary, write_rainflow_header,
     write_travel_histograms,
 };
-use crate::stats::{Moments, SecondMoments, push_columns};
+use crate::stats::{Moments, SecondMoments, push_column_pairs};
 use crate::vehicle::response::{PredictedRms, SpectralSettings, predicted_rms_with};
 use crate::vehicle::{AXLE_NAMES, FLOOR_SUFFIX, FORE_AFT_SUFFIX, Vehicle};
 
@@ -959,23 +959,21 @@ impl Evaluators<'_> {
         } else {
             self.push_floor_seats_chunk(chunk);
         }
-        // Neighbouring columns of a sample side by side (front, rear).
+        // Neighbouring columns of a sample side by side (front, rear) as
+        // the two lanes of a pair.
         let [t0, t1] = &mut self.travel;
-        push_columns([t0, t1], chunk.iter().map(|s| s.elements.travel_m));
+        push_column_pairs([[t0, t1]], chunk.iter().map(|s| [s.elements.travel_m]));
         let ([f0, f1], [c0, c1]) = (&mut self.suspension, &mut self.contact);
-        let forces = |s: &Sample| {
-            let (f, c) = (s.elements.suspension_n, s.elements.contact_n);
-            [f[0], f[1], c[0], c[1]]
-        };
-        push_columns([f0, f1, c0, c1], chunk.iter().map(forces));
-        let body = |s: &Sample| [s.q[0], s.q[1], s.qdd[0], s.qdd[1]];
+        let forces = |s: &Sample| [s.elements.suspension_n, s.elements.contact_n];
+        push_column_pairs([[f0, f1], [c0, c1]], chunk.iter().map(forces));
+        let body = |s: &Sample| [[s.q[0], s.q[1]], [s.qdd[0], s.qdd[1]]];
         let (h, p, ha, pa) = (
             &mut self.heave,
             &mut self.pitch,
             &mut self.heave_acc,
             &mut self.pitch_acc,
         );
-        push_columns([h, p, ha, pa], chunk.iter().map(body));
+        push_column_pairs([[h, p], [ha, pa]], chunk.iter().map(body));
         for i in 0..2 {
             self.durability[i].push_rows(
                 chunk,
