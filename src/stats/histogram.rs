@@ -109,18 +109,25 @@ impl Histogram {
             } = h;
             (&mut counts[..], [underflow, overflow, not_a_number])
         });
+        // `0 ≤ u < len` as one integer comparison: the bits of non-negative
+        // floats order as the floats do, while a negative u (sign bit set)
+        // and a NaN (bits above those of ∞) compare above the bits of any
+        // finite len. Only −0, in bin 0 by `u >= 0.0`, fails it wrongly; it
+        // takes the full test below.
+        let len_bits: [u64; K] = len_f.map(f64::to_bits);
         for x in xs {
             for k in 0..K {
                 let u = (x - lower[k]) * per_bin[k];
-                if u >= 0.0 && u < len_f[k] {
+                if u.to_bits() < len_bits[k] || (u >= 0.0 && u < len_f[k]) {
                     // SAFETY: 0 ≤ u < len ≤ 10⁷ here (checked just above),
-                    // so u truncates to an integer that fits a u32, which is
+                    // so u truncates to an integer that fits an i64, which is
                     // all `to_int_unchecked` asks; it spares the saturating
-                    // cast's clamps (a third of this loop). Truncating
-                    // u < len gives at most len − 1 (len is exact as f64), so
-                    // no `min` is needed; the index stays bounds-checked.
-                    let i = unsafe { u.to_int_unchecked::<u32>() } as usize;
-                    parts[k].0[i] += 1;
+                    // cast's clamps. Truncating u < len gives at most len − 1
+                    // (len is exact as f64), so the index is in bounds.
+                    unsafe {
+                        let i = u.to_int_unchecked::<i64>() as usize;
+                        *parts[k].0.get_unchecked_mut(i) += 1;
+                    }
                 } else {
                     // Underflow, overflow, or NaN (fails every comparison).
                     let class = if u < 0.0 {
@@ -387,6 +394,31 @@ mod tests {
         assert!(Histogram::new(0.0, 1.0, 0.0).is_err());
         assert!(Histogram::new(1.0, 1.0, 0.1).is_err());
         assert!(Histogram::new(0.0, 1e9, 1e-3).is_err());
+    }
+
+    #[test]
+    fn a_block_push_counts_signed_zeros_and_edges_as_pushing_one_by_one() {
+        // Reference: `push` value by value. A range starting at 0 (where −0
+        // falls in bin 0 and fails the block loop's integer test), values on
+        // and a rounding unit either side of the edges, subnormals of both
+        // signs (a negative one times the bins per unit can round to −0),
+        // ±∞ and NaN.
+        let mut data = vec![-0.0, 0.0, -1e-320, 1e-320, f64::NAN, f64::INFINITY];
+        data.extend([f64::NEG_INFINITY, 1.0, -1.0, 2.0, 0.5, -5e-324]);
+        for k in 0..=20 {
+            let edge = k as f64 * 0.05;
+            data.extend([edge, edge.next_up(), edge.next_down()]);
+        }
+        for per in [0.05, 1e300] {
+            let mut one = Histogram::new(0.0, 1.0, per).unwrap();
+            let mut all = one.clone();
+            data.iter().for_each(|&x| one.push(x));
+            all.push_all(data.iter().copied());
+            assert_eq!(all.counts(), one.counts(), "bin {per}");
+            let outside = |h: &Histogram| (h.underflow(), h.overflow(), h.not_a_number());
+            assert_eq!(outside(&all), outside(&one), "bin {per}");
+            assert!(one.counts()[0] >= 2, "{:?}", one.counts());
+        }
     }
 
     #[test]
