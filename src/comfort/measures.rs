@@ -225,7 +225,7 @@ impl Meter {
     /// for bit. Two meters of one weighting and rate that have taken the
     /// same number of samples (two seats) run side by side, one two-lane
     /// instruction doing both; any others run one after the other.
-    #[inline]
+    #[inline(always)]
     pub fn push_all_pair(
         a: &mut Meter,
         b: &mut Meter,

@@ -458,7 +458,7 @@ impl WeightingFilter {
     /// values as lanes. Each lane is what `process` gives, bit for bit (the
     /// same operations in the same order); one two-lane instruction
     /// ([`F2`]) does both filters' step.
-    #[inline]
+    #[inline(always)]
     pub(crate) fn process_all_pair(
         a: &mut WeightingFilter,
         b: &mut WeightingFilter,

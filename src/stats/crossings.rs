@@ -101,7 +101,7 @@ impl LevelCrossings {
     /// [`LevelCrossings::push`] on each). A sample between the levels
     /// around the previous one costs two comparisons (a NaN fails both and
     /// is skipped on the slow side).
-    #[inline]
+    #[inline(always)]
     pub fn push_all(&mut self, xs: impl Iterator<Item = f64>) {
         let mut xs = xs;
         while self.prev.is_none() {

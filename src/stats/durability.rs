@@ -177,7 +177,7 @@ impl Channel {
     }
 
     /// [`Channel::push`] on `value(row)` of every row, in order.
-    #[inline]
+    #[inline(always)]
     fn push_rows<T>(&mut self, rows: &[T], value: impl Fn(&T) -> f64 + Copy) {
         if let Some(l) = &mut self.levels {
             rows.iter().for_each(|r| l.push(value(r)));
@@ -325,7 +325,7 @@ impl AxleDurability {
     /// from each row by `travel_m`, `force_n` and `tyre_load_n`: each
     /// counter takes its whole column in one tight loop, and the results are
     /// the same, bit for bit.
-    #[inline]
+    #[inline(always)]
     pub fn push_rows<T>(
         &mut self,
         rows: &[T],

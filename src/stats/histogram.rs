@@ -89,7 +89,7 @@ impl Histogram {
     /// each. One range test per value covers NaN too (a NaN `x` gives a NaN
     /// `u`, which fails both bounds), and the bin counts as `f64` are worked
     /// out once.
-    #[inline]
+    #[inline(always)]
     pub fn push_all_into<const K: usize>(
         histograms: [&mut Histogram; K],
         xs: impl Iterator<Item = f64>,

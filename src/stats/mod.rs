@@ -102,7 +102,7 @@ pub(crate) trait PairColumn: Column {
 /// [`push_columns`] with the columns in pairs, each pair's accumulators run
 /// side by side in two lanes ([`F2`]): `accumulators[p][l]` gets
 /// `row[p][l]` of every row, in order, exactly as `push` on each would give.
-#[inline]
+#[inline(always)]
 pub(crate) fn push_column_pairs<M: PairColumn, const P: usize>(
     accumulators: [[&mut M; 2]; P],
     rows: impl Iterator<Item = [[f64; 2]; P]>,

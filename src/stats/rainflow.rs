@@ -212,6 +212,7 @@ impl Rainflow {
     /// no flat and no NaN, so they only move the slope on. Only the blocks
     /// with a turn in them take the sample-by-sample test, and a sampled
     /// ride signal turns in few of them (at 1 kHz, about one sample in 30).
+    #[inline(always)]
     pub fn push_rows<T>(
         &mut self,
         rows: &[T],
