@@ -658,6 +658,8 @@ struct Evaluators<'h> {
     /// Per seat: its coordinate and its slot among the suspended seats
     /// (`None` for a seat on the floor).
     seat_dof: Vec<Option<(usize, usize)>>,
+    /// Per seat: what [`seat_accel_m_s2`] takes besides the sample.
+    seat_surface: Vec<(f64, Option<usize>)>,
     /// Whether any seat is suspended.
     any_suspended: bool,
     /// Per seat: the floor meter and travel of a suspended seat.
@@ -733,6 +735,9 @@ impl<'h> Evaluators<'h> {
             seat_x_m: vehicle.seats.iter().map(|s| s.x_m).collect(),
             seat_h_m: vehicle.seats.iter().map(|s| s.height_m).collect(),
             any_suspended: seat_dof.iter().any(Option::is_some),
+            seat_surface: (vehicle.seats.iter().zip(&seat_dof))
+                .map(|(s, d)| (s.x_m, d.map(|d| d.0)))
+                .collect(),
             seat_dof,
             floor,
             weighting: options.weighting,
@@ -1029,8 +1034,8 @@ impl Evaluators<'_> {
     #[inline(always)]
     fn push_floor_seats_chunk(&mut self, chunk: &[Sample]) {
         let x_m = &self.seat_x_m;
-        push_meters(&mut self.seats, chunk, |s, i| {
-            s.body_point_accel_m_s2(x_m[i])
+        push_meters(&mut self.seats, x_m, chunk, |s, x| {
+            s.body_point_accel_m_s2(x)
         });
         for (fa, &h) in self.fore_aft.iter_mut().zip(&self.seat_h_m) {
             if h != 0.0 {
@@ -1042,9 +1047,8 @@ impl Evaluators<'_> {
     /// [`Evaluators::push_seats_general`] over a chunk, seat by seat.
     #[inline(always)]
     fn push_seats_general_chunk(&mut self, chunk: &[Sample]) {
-        let (x_m, dof) = (&self.seat_x_m, &self.seat_dof);
-        push_meters(&mut self.seats, chunk, |s, i| {
-            seat_accel_m_s2(s, x_m[i], dof[i].map(|d| d.0))
+        push_meters(&mut self.seats, &self.seat_surface, chunk, |s, (x, dof)| {
+            seat_accel_m_s2(s, x, dof)
         });
         for ((f, &x), d) in self
             .floor
@@ -1159,26 +1163,28 @@ impl Evaluators<'_> {
     }
 }
 
-/// Pushes `accel(sample, i)` of every sample of `chunk` into `meters[i]`,
-/// two meters at a time ([`Meter::push_all_pair`]: the same measures, bit
-/// for bit, as one at a time).
+/// Pushes `accel(sample, params[i])` of every sample of `chunk` into
+/// `meters[i]`, two meters at a time ([`Meter::push_all_pair`]: the same
+/// measures, bit for bit, as one at a time).
 #[inline(always)]
-fn push_meters(
+fn push_meters<P: Copy>(
     meters: &mut [Meter],
+    params: &[P],
     chunk: &[Sample],
-    accel: impl Fn(&Sample, usize) -> f64 + Copy,
+    accel: impl Fn(&Sample, P) -> f64 + Copy,
 ) {
-    let last = meters.len().saturating_sub(1);
-    let mut pairs = meters.chunks_exact_mut(2);
-    for (k, pair) in (&mut pairs).enumerate() {
-        let (i, j) = (2 * k, 2 * k + 1);
-        if let [a, b] = pair {
-            let both = move |s: &Sample| [accel(s, i), accel(s, j)];
+    let mut pairs = meters.chunks_exact_mut(2).zip(params.chunks_exact(2));
+    for (pair, p) in &mut pairs {
+        if let ([a, b], &[pa, pb]) = (pair, p) {
+            let both = move |s: &Sample| [accel(s, pa), accel(s, pb)];
             Meter::push_all_pair(a, b, chunk.iter().map(both));
         }
     }
-    if let [m] = pairs.into_remainder() {
-        m.push_all(chunk.iter().map(|s| accel(s, last)));
+    let last = meters.len().wrapping_sub(1);
+    if last % 2 == 0 {
+        if let (Some(m), Some(&p)) = (meters.last_mut(), params.get(last)) {
+            m.push_all(chunk.iter().map(|s| accel(s, p)));
+        }
     }
 }
 
