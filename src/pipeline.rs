@@ -992,17 +992,23 @@ impl Evaluators<'_> {
         // the two lanes of a pair.
         let [t0, t1] = &mut self.travel;
         push_column_pairs([[t0, t1]], chunk.iter().map(|s| [s.elements.travel_m]));
+        // The forces and the body's motion in one loop.
         let ([f0, f1], [c0, c1]) = (&mut self.suspension, &mut self.contact);
-        let forces = |s: &Sample| [s.elements.suspension_n, s.elements.contact_n];
-        push_column_pairs([[f0, f1], [c0, c1]], chunk.iter().map(forces));
-        let body = |s: &Sample| [[s.q[0], s.q[1]], [s.qdd[0], s.qdd[1]]];
         let (h, p, ha, pa) = (
             &mut self.heave,
             &mut self.pitch,
             &mut self.heave_acc,
             &mut self.pitch_acc,
         );
-        push_column_pairs([[h, p], [ha, pa]], chunk.iter().map(body));
+        let rows = |s: &Sample| {
+            let e = &s.elements;
+            let (q, qdd) = ([s.q[0], s.q[1]], [s.qdd[0], s.qdd[1]]);
+            [e.suspension_n, e.contact_n, q, qdd]
+        };
+        push_column_pairs(
+            [[f0, f1], [c0, c1], [h, p], [ha, pa]],
+            chunk.iter().map(rows),
+        );
         for i in 0..2 {
             self.durability[i].push_rows(
                 chunk,

@@ -13,6 +13,7 @@ use serde::Serialize;
 
 use crate::report::fmt_grid;
 
+use super::histogram::HistogramBlock;
 use super::{
     Cycle, DamageEquivalent, Histogram, LevelCrossings, LevelSpectrum, Rainflow, RangeMeanTable,
     ResidueMethod, StatsError,
@@ -333,17 +334,23 @@ impl AxleDurability {
         force_n: impl Fn(&T) -> f64 + Copy,
         tyre_load_n: impl Fn(&T) -> f64 + Copy,
     ) {
-        let histograms = [&mut self.fine, &mut self.wide, &mut self.coarse];
-        Histogram::push_all_into(histograms, rows.iter().map(travel_m));
-        self.crossings.push_all(rows.iter().map(travel_m));
-        // No stop: a clearance of ∞, which no travel (nor NaN) passes.
+        // The travel's histograms, level crossings and time past the stops
+        // in one loop over the block. No stop: a clearance of ∞, which no
+        // travel (nor NaN) passes.
         let bump_m = self.clearances_m.0.unwrap_or(f64::INFINITY);
         let rebound_m = self.clearances_m.1.unwrap_or(f64::INFINITY);
         let (mut bump, mut rebound) = (0, 0);
+        let mut histograms =
+            HistogramBlock::new([&mut self.fine, &mut self.wide, &mut self.coarse]);
+        let mut crossings = self.crossings.block();
         for t in rows.iter().map(travel_m) {
+            histograms.push(t);
+            crossings.push(t);
             bump += (t > bump_m) as u64;
             rebound += (t < -rebound_m) as u64;
         }
+        histograms.finish();
+        crossings.finish();
         self.past_bump += bump;
         self.past_rebound += rebound;
         self.travel.push_rows(rows, travel_m);
