@@ -33,6 +33,7 @@ pub mod batch;
 pub mod comfort;
 pub mod design;
 pub mod error;
+mod lanes;
 pub mod lifetime;
 pub mod limits;
 pub mod pipeline;

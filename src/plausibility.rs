@@ -418,7 +418,7 @@ impl EnergyLedger {
             dof_count: vehicle.dof_count().min(MAX_DOF),
             force_x_m,
             bonded: false,
-            avx: has_avx(),
+            avx: crate::lanes::has_avx(),
         };
         EnergyLedger {
             model,
@@ -643,14 +643,6 @@ impl LedgerModel {
             }
         }
     }
-}
-
-/// Whether the processor has AVX (never on other architectures).
-fn has_avx() -> bool {
-    #[cfg(target_arch = "x86_64")]
-    return std::arch::is_x86_feature_detected!("avx");
-    #[cfg(not(target_arch = "x86_64"))]
-    false
 }
 
 /// Findings of the energy balance and the travel it allows.

@@ -14,6 +14,7 @@
 use serde::Serialize;
 
 use super::{ComfortError, Weighting, WeightingFilter};
+use crate::lanes::F2;
 
 /// Integration time of the running r.m.s., s (ISO 2631-1 6.3.1: τ = 1 s for MTVV).
 pub const RUNNING_RMS_TAU_S: f64 = 1.0;
@@ -116,6 +117,76 @@ impl Sums {
     }
 }
 
+/// Two meters' [`Sums`] side by side, for [`Meter::push_all_pair`]: the
+/// shared count and ring position, the rest as lanes.
+struct PairSums {
+    n: u64,
+    sum_x2: F2,
+    sum_w2: F2,
+    sum_w4: F2,
+    peak_w: F2,
+    ring_pos: usize,
+    ring_sum: F2,
+    max_window_sum: F2,
+}
+
+impl PairSums {
+    fn of(a: &Sums, b: &Sums) -> Self {
+        let pair = |f: fn(&Sums) -> f64| F2::new(f(a), f(b));
+        PairSums {
+            n: a.n,
+            sum_x2: pair(|s| s.sum_x2),
+            sum_w2: pair(|s| s.sum_w2),
+            sum_w4: pair(|s| s.sum_w4),
+            peak_w: pair(|s| s.peak_w),
+            ring_pos: a.ring_pos,
+            ring_sum: pair(|s| s.ring_sum),
+            max_window_sum: pair(|s| s.max_window_sum),
+        }
+    }
+
+    fn store(&self, a: &mut Sums, b: &mut Sums) {
+        for (lane, s) in [a, b].into_iter().enumerate() {
+            s.n = self.n;
+            s.sum_x2 = self.sum_x2.lanes()[lane];
+            s.sum_w2 = self.sum_w2.lanes()[lane];
+            s.sum_w4 = self.sum_w4.lanes()[lane];
+            s.peak_w = self.peak_w.lanes()[lane];
+            s.ring_pos = self.ring_pos;
+            s.ring_sum = self.ring_sum.lanes()[lane];
+            s.max_window_sum = self.max_window_sum.lanes()[lane];
+        }
+    }
+
+    /// [`Sums::add`] on both lanes (the same operations in the same order;
+    /// its two branches on a new maximum are [`F2::greater_or`]).
+    #[inline(always)]
+    fn add(&mut self, ring_a: &mut [f64], ring_b: &mut [f64], x: F2, w: F2) {
+        let w2 = w * w;
+        self.n += 1;
+        self.sum_x2 = self.sum_x2 + x * x;
+        self.sum_w2 = self.sum_w2 + w2;
+        self.sum_w4 = self.sum_w4 + w2 * w2;
+        self.peak_w = w.abs().greater_or(self.peak_w);
+
+        let len = ring_a.len();
+        let [wa, wb] = w2.lanes();
+        let old = F2::new(
+            std::mem::replace(&mut ring_a[self.ring_pos], wa),
+            std::mem::replace(&mut ring_b[self.ring_pos], wb),
+        );
+        self.ring_pos += 1;
+        self.ring_sum = self.ring_sum + (w2 - old);
+        if self.ring_pos == len {
+            self.ring_pos = 0;
+            self.ring_sum = F2::new(ring_a.iter().sum(), ring_b.iter().sum());
+        }
+        if self.n >= len as u64 {
+            self.max_window_sum = self.ring_sum.greater_or(self.max_window_sum);
+        }
+    }
+}
+
 impl Meter {
     /// A meter for weighting `w` at `sample_rate_hz` (refused below the
     /// weighting's minimum rate).
@@ -147,6 +218,34 @@ impl Meter {
         self.filter
             .process_all(accel_m_s2, |x, w| sums.add(ring, x, w));
         self.sums = sums;
+    }
+
+    /// [`Meter::push_all`] on two meters at once, `a` taking lane 0 of each
+    /// pair of `accel_m_s2` and `b` lane 1: the same measures on each, bit
+    /// for bit. Two meters of one weighting and rate that have taken the
+    /// same number of samples (two seats) run side by side, one two-lane
+    /// instruction doing both; any others run one after the other.
+    #[inline(always)]
+    pub fn push_all_pair(
+        a: &mut Meter,
+        b: &mut Meter,
+        accel_m_s2: impl Iterator<Item = [f64; 2]> + Clone,
+    ) {
+        let in_step = a.filter.same_design(&b.filter)
+            && a.ring.len() == b.ring.len()
+            && a.sums.n == b.sums.n
+            && a.sums.ring_pos == b.sums.ring_pos;
+        if !in_step {
+            a.push_all(accel_m_s2.clone().map(|x| x[0]));
+            b.push_all(accel_m_s2.map(|x| x[1]));
+            return;
+        }
+        let mut sums = PairSums::of(&a.sums, &b.sums);
+        let (ring_a, ring_b) = (&mut a.ring[..], &mut b.ring[..]);
+        WeightingFilter::process_all_pair(&mut a.filter, &mut b.filter, accel_m_s2, |x, w| {
+            sums.add(ring_a, ring_b, x, w)
+        });
+        sums.store(&mut a.sums, &mut b.sums);
     }
 
     /// The measures so far. A record shorter than the 1 s window has no full
@@ -305,6 +404,47 @@ mod tests {
                     .chunks(block)
                     .for_each(|c| all.push_all(c.iter().copied()));
                 assert_eq!(measure_bits(&all), measure_bits(&one), "{w}, block {block}");
+            }
+        }
+    }
+
+    #[test]
+    fn two_meters_side_by_side_give_the_one_by_one_measures_bit_for_bit() {
+        // Reference: `push` sample by sample on each meter. Two different
+        // signals (one with a NaN and a burst that sets the peak), every
+        // weighting's stage count, blocks that do and do not divide the
+        // window, and meters out of step (different weightings, different
+        // sample counts), which take the one-at-a-time path.
+        let fs = 1000.0;
+        let a: Vec<f64> = (0..5300)
+            .map(|i| (i as f64 * 0.0081).sin() + 0.3 * (i as f64 * 0.071).cos())
+            .collect();
+        let mut b: Vec<f64> = (0..5300).map(|i| 0.7 * (i as f64 * 0.013).cos()).collect();
+        b[2200] = f64::NAN;
+        b[3100] = 40.0;
+        let pairs = |n: usize| -> Vec<[f64; 2]> { (0..n).map(|i| [a[i], b[i]]).collect() };
+        let both = pairs(a.len());
+        for (wa, wb, skip) in [
+            (Weighting::Wk, Weighting::Wk, 0),
+            (Weighting::Wd, Weighting::Wd, 0),
+            (Weighting::Unweighted, Weighting::Unweighted, 0),
+            (Weighting::Wk, Weighting::Wd, 0),
+            (Weighting::Wk, Weighting::Wk, 3),
+        ] {
+            let mut one = (Meter::new(wa, fs).unwrap(), Meter::new(wb, fs).unwrap());
+            a.iter().for_each(|&x| one.0.push(x));
+            b.iter().skip(skip).for_each(|&x| one.1.push(x));
+            for block in [1, 7, 1000, 1024, both.len()] {
+                let mut two = (Meter::new(wa, fs).unwrap(), Meter::new(wb, fs).unwrap());
+                // A meter `skip` samples behind the other.
+                two.0.push_all(a[..skip].iter().copied());
+                let rest = &both[skip..];
+                for c in rest.chunks(block) {
+                    Meter::push_all_pair(&mut two.0, &mut two.1, c.iter().copied());
+                }
+                let what = format!("{wa} {wb} skip {skip} block {block}");
+                assert_eq!(measure_bits(&two.0), measure_bits(&one.0), "{what}");
+                assert_eq!(measure_bits(&two.1), measure_bits(&one.1), "{what}");
             }
         }
     }

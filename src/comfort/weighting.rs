@@ -55,6 +55,7 @@ use std::str::FromStr;
 use nalgebra::{Complex, DMatrix, DVector};
 
 use super::ComfortError;
+use crate::lanes::F2;
 
 /// Fraction of the sample rate up to which the digital magnitude is fitted.
 const DESIGN_BAND_FRACTION: f64 = 0.2;
@@ -435,6 +436,85 @@ impl WeightingFilter {
             each(x, y);
         }
         self.stages.copy_from_slice(&stages);
+    }
+
+    /// Whether `other` has this filter's design, bit for bit (gain and
+    /// coefficients), so the two can run side by side
+    /// ([`WeightingFilter::process_all_pair`]).
+    pub(crate) fn same_design(&self, other: &WeightingFilter) -> bool {
+        let coefficients = |f: &WeightingFilter| {
+            let mut c = vec![f.gain.to_bits()];
+            for st in &f.stages {
+                c.extend(st.b.iter().chain(&st.a).map(|x| x.to_bits()));
+            }
+            c
+        };
+        coefficients(self) == coefficients(other)
+    }
+
+    /// [`WeightingFilter::process_all`] on two filters of one design
+    /// ([`WeightingFilter::same_design`]) at once, `a` taking lane 0 of each
+    /// pair of `xs` and `b` lane 1; `each` gets the inputs and the weighted
+    /// values as lanes. Each lane is what `process` gives, bit for bit (the
+    /// same operations in the same order); one two-lane instruction
+    /// ([`F2`]) does both filters' step.
+    #[inline(always)]
+    pub(crate) fn process_all_pair(
+        a: &mut WeightingFilter,
+        b: &mut WeightingFilter,
+        xs: impl Iterator<Item = [f64; 2]>,
+        each: impl FnMut(F2, F2),
+    ) {
+        debug_assert!(a.same_design(b));
+        match a.stages.len() {
+            0 => Self::process_pair_fixed::<0>(a, b, xs, each),
+            1 => Self::process_pair_fixed::<1>(a, b, xs, each),
+            2 => Self::process_pair_fixed::<2>(a, b, xs, each),
+            3 => Self::process_pair_fixed::<3>(a, b, xs, each),
+            4 => Self::process_pair_fixed::<4>(a, b, xs, each),
+            _ => {
+                let mut each = each;
+                for [p, q] in xs {
+                    each(F2::new(p, q), F2::new(a.process(p), b.process(q)));
+                }
+            }
+        }
+    }
+
+    #[inline(always)]
+    fn process_pair_fixed<const N: usize>(
+        a: &mut WeightingFilter,
+        b: &mut WeightingFilter,
+        xs: impl Iterator<Item = [f64; 2]>,
+        mut each: impl FnMut(F2, F2),
+    ) {
+        // Coefficients in both lanes, states lane by lane.
+        let k: [([F2; 3], [F2; 2]); N] = std::array::from_fn(|i| {
+            let st = &a.stages[i];
+            (st.b.map(F2::splat), st.a.map(F2::splat))
+        });
+        let mut s: [[F2; 2]; N] = std::array::from_fn(|i| {
+            let (p, q) = (a.stages[i].s, b.stages[i].s);
+            [F2::new(p[0], q[0]), F2::new(p[1], q[1])]
+        });
+        let gain = F2::splat(a.gain);
+        for x in xs {
+            let x = F2::new(x[0], x[1]);
+            // `process` and `Biquad::process`, lane by lane.
+            let mut y = x * gain;
+            for (st, (bk, ak)) in s.iter_mut().zip(&k) {
+                let v = bk[0] * y + st[0];
+                st[0] = bk[1] * y - ak[0] * v + st[1];
+                st[1] = bk[2] * y - ak[1] * v;
+                y = v;
+            }
+            each(x, y);
+        }
+        for (i, st) in s.iter().enumerate() {
+            let (s0, s1) = (st[0].lanes(), st[1].lanes());
+            a.stages[i].s = [s0[0], s1[0]];
+            b.stages[i].s = [s0[1], s1[1]];
+        }
     }
 
     /// True while every stage's state is zero (as before the first sample).

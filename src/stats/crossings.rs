@@ -101,38 +101,31 @@ impl LevelCrossings {
     /// [`LevelCrossings::push`] on each). A sample between the levels
     /// around the previous one costs two comparisons (a NaN fails both and
     /// is skipped on the slow side).
-    #[inline]
+    #[inline(always)]
     pub fn push_all(&mut self, xs: impl Iterator<Item = f64>) {
-        let mut xs = xs;
-        while self.prev.is_none() {
-            match xs.next() {
-                Some(x) => self.push(x),
-                None => return,
-            }
+        let mut block = self.block();
+        xs.for_each(|x| block.push(x));
+        block.finish();
+    }
+
+    /// A block of samples to be pushed one by one by the caller's own loop
+    /// ([`CrossingBlock`]).
+    #[inline(always)]
+    pub(crate) fn block(&mut self) -> CrossingBlock<'_> {
+        let rank = self.rank;
+        // Before the first sample no value lies in the bracket, so it takes
+        // the slow way and starts the count.
+        let (below, above) = match self.prev {
+            Some(_) => self.bracket(rank),
+            None => (f64::INFINITY, f64::NEG_INFINITY),
+        };
+        CrossingBlock {
+            counter: self,
+            rank,
+            below,
+            above,
+            last: f64::NAN,
         }
-        let mut rank = self.rank;
-        let (mut below, mut above) = self.bracket(rank);
-        let mut last = None;
-        for x in xs {
-            if x >= below && x < above {
-                last = Some(x);
-                continue;
-            }
-            if x.is_nan() {
-                continue;
-            }
-            let r = self.rank_from(rank, x);
-            if r > rank {
-                self.count_ranks(rank, r);
-            }
-            rank = r;
-            (below, above) = self.bracket(rank);
-            last = Some(x);
-        }
-        if last.is_some() {
-            self.prev = last;
-        }
-        self.rank = rank;
     }
 
     /// The levels, as given.
@@ -143,6 +136,61 @@ impl LevelCrossings {
     /// Up-crossings per level, in the order of [`LevelCrossings::levels`].
     pub fn counts(&self) -> &[u64] {
         &self.counts
+    }
+}
+
+/// [`LevelCrossings::push_all`] for a caller's own loop: `push` each sample
+/// in order, then `finish`; the same counts. A sample between the levels
+/// around the previous one costs two comparisons (a NaN fails both and is
+/// skipped on the slow side).
+pub(crate) struct CrossingBlock<'c> {
+    counter: &'c mut LevelCrossings,
+    rank: usize,
+    below: f64,
+    above: f64,
+    /// The last non-NaN sample of the block (NaN while there is none).
+    last: f64,
+}
+
+impl CrossingBlock<'_> {
+    /// Adds one sample. NaN samples are skipped.
+    #[inline(always)]
+    pub(crate) fn push(&mut self, x: f64) {
+        if x >= self.below && x < self.above {
+            self.last = x;
+            return;
+        }
+        self.slow(x);
+    }
+
+    /// A sample outside the bracket (or NaN, or the first of the count).
+    #[inline]
+    fn slow(&mut self, x: f64) {
+        if x.is_nan() {
+            return;
+        }
+        self.last = x;
+        let c = &mut *self.counter;
+        if c.prev.is_none() {
+            c.push(x);
+            self.rank = c.rank;
+        } else {
+            let r = c.rank_from(self.rank, x);
+            if r > self.rank {
+                c.count_ranks(self.rank, r);
+            }
+            self.rank = r;
+        }
+        (self.below, self.above) = c.bracket(self.rank);
+    }
+
+    /// Hands the state back to the counter.
+    #[inline(always)]
+    pub(crate) fn finish(self) {
+        if !self.last.is_nan() {
+            self.counter.prev = Some(self.last);
+            self.counter.rank = self.rank;
+        }
     }
 }
 

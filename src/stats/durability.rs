@@ -13,6 +13,7 @@ use serde::Serialize;
 
 use crate::report::fmt_grid;
 
+use super::histogram::HistogramBlock;
 use super::{
     Cycle, DamageEquivalent, Histogram, LevelCrossings, LevelSpectrum, Rainflow, RangeMeanTable,
     ResidueMethod, StatsError,
@@ -176,14 +177,14 @@ impl Channel {
         });
     }
 
-    /// [`Channel::push`] on every value of `xs`, in order.
-    #[inline]
-    fn push_all(&mut self, xs: impl Iterator<Item = f64> + Clone) {
+    /// [`Channel::push`] on `value(row)` of every row, in order.
+    #[inline(always)]
+    fn push_rows<T>(&mut self, rows: &[T], value: impl Fn(&T) -> f64 + Copy) {
         if let Some(l) = &mut self.levels {
-            xs.clone().for_each(|x| l.push(x));
+            rows.iter().for_each(|r| l.push(value(r)));
         }
         let (table, damage) = (&mut self.table, &mut self.damage);
-        self.rainflow.push_all(xs, &mut |c: Cycle| {
+        self.rainflow.push_rows(rows, value, &mut |c: Cycle| {
             table.add(&c);
             damage.iter_mut().for_each(|d| d.add(&c));
         });
@@ -321,33 +322,41 @@ impl AxleDurability {
         }
     }
 
-    /// [`AxleDurability::push`] on every sample of a block, given as one
-    /// iterator per quantity (same length): each counter takes its whole
-    /// column in one tight loop, and the results are the same, bit for bit.
-    #[inline]
-    pub fn push_all(
+    /// [`AxleDurability::push`] on every row of a block, the quantities read
+    /// from each row by `travel_m`, `force_n` and `tyre_load_n`: each
+    /// counter takes its whole column in one tight loop, and the results are
+    /// the same, bit for bit.
+    #[inline(always)]
+    pub fn push_rows<T>(
         &mut self,
-        travel_m: impl Iterator<Item = f64> + Clone,
-        force_n: impl Iterator<Item = f64> + Clone,
-        tyre_load_n: impl Iterator<Item = f64> + Clone,
+        rows: &[T],
+        travel_m: impl Fn(&T) -> f64 + Copy,
+        force_n: impl Fn(&T) -> f64 + Copy,
+        tyre_load_n: impl Fn(&T) -> f64 + Copy,
     ) {
-        let histograms = [&mut self.fine, &mut self.wide, &mut self.coarse];
-        Histogram::push_all_into(histograms, travel_m.clone());
-        self.crossings.push_all(travel_m.clone());
-        // No stop: a clearance of ∞, which no travel (nor NaN) passes.
+        // The travel's histograms, level crossings and time past the stops
+        // in one loop over the block. No stop: a clearance of ∞, which no
+        // travel (nor NaN) passes.
         let bump_m = self.clearances_m.0.unwrap_or(f64::INFINITY);
         let rebound_m = self.clearances_m.1.unwrap_or(f64::INFINITY);
         let (mut bump, mut rebound) = (0, 0);
-        for t in travel_m.clone() {
+        let mut histograms =
+            HistogramBlock::new([&mut self.fine, &mut self.wide, &mut self.coarse]);
+        let mut crossings = self.crossings.block();
+        for t in rows.iter().map(travel_m) {
+            histograms.push(t);
+            crossings.push(t);
             bump += (t > bump_m) as u64;
             rebound += (t < -rebound_m) as u64;
         }
+        histograms.finish();
+        crossings.finish();
         self.past_bump += bump;
         self.past_rebound += rebound;
-        self.travel.push_all(travel_m);
-        self.force.push_all(force_n);
+        self.travel.push_rows(rows, travel_m);
+        self.force.push_rows(rows, force_n);
         if let Some(t) = &mut self.tyre {
-            t.push_all(tyre_load_n);
+            t.push_rows(rows, tyre_load_n);
         }
     }
 
@@ -635,10 +644,11 @@ mod tests {
                 );
                 for block in [1, 5, 1024, travel.len()] {
                     let mut all = AxleDurability::new(&settings, clearances).unwrap();
-                    let chunks = travel.chunks(block).zip(force.chunks(block));
-                    for ((t, f), y) in chunks.zip(tyre.chunks(block)) {
-                        let col = |c: &[f64]| c.to_vec().into_iter();
-                        all.push_all(col(t), col(f), col(y));
+                    let rows: Vec<[f64; 3]> = (0..travel.len())
+                        .map(|i| [travel[i], force[i], tyre[i]])
+                        .collect();
+                    for c in rows.chunks(block) {
+                        all.push_rows(c, |r| r[0], |r| r[1], |r| r[2]);
                     }
                     assert_eq!(
                         report(all),

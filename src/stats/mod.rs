@@ -21,6 +21,8 @@ pub use rainflow::{
 
 use thiserror::Error;
 
+use crate::lanes::F2;
+
 /// A statistics parameter was out of range.
 #[derive(Debug, Error)]
 pub enum StatsError {
@@ -80,6 +82,92 @@ pub fn push_columns<M: Column, const K: usize>(
     }
     for (a, l) in accumulators.into_iter().zip(local) {
         *a = l;
+    }
+}
+
+/// A [`Column`] that can also run as one lane of a pair of columns side by
+/// side ([`F2`]), for [`push_column_pairs`].
+pub(crate) trait PairColumn: Column {
+    /// Two accumulators' state as lanes.
+    type Lanes: Copy;
+    /// `a` in lane 0, `b` in lane 1.
+    fn to_lanes(a: &Self, b: &Self) -> Self::Lanes;
+    /// The two accumulators back.
+    fn from_lanes(lanes: &Self::Lanes) -> [Self; 2];
+    /// [`Column::push_more`] on both lanes: the same operations in the
+    /// same order, lane by lane.
+    fn push_more_lanes(lanes: &mut Self::Lanes, x: F2);
+}
+
+/// [`push_columns`] with the columns in pairs, each pair's accumulators run
+/// side by side in two lanes ([`F2`]): `accumulators[p][l]` gets
+/// `row[p][l]` of every row, in order, exactly as `push` on each would give.
+#[inline(always)]
+pub(crate) fn push_column_pairs<M: PairColumn, const P: usize>(
+    accumulators: [[&mut M; 2]; P],
+    rows: impl Iterator<Item = [[f64; 2]; P]>,
+) {
+    let mut rows = rows;
+    let Some(first) = rows.next() else {
+        return;
+    };
+    let mut accumulators = accumulators;
+    for (pair, x) in accumulators.iter_mut().zip(first) {
+        pair[0].push(x[0]);
+        pair[1].push(x[1]);
+    }
+    let mut local: [M::Lanes; P] =
+        std::array::from_fn(|p| M::to_lanes(accumulators[p][0], accumulators[p][1]));
+    for row in rows {
+        for p in 0..P {
+            M::push_more_lanes(&mut local[p], F2::new(row[p][0], row[p][1]));
+        }
+    }
+    for (pair, lanes) in accumulators.into_iter().zip(local) {
+        let [a, b] = M::from_lanes(&lanes);
+        let [pa, pb] = pair;
+        (*pa, *pb) = (a, b);
+    }
+}
+
+/// Two [`SecondMoments`] as lanes.
+#[derive(Clone, Copy)]
+pub(crate) struct SecondLanes {
+    n: [u64; 2],
+    shift: F2,
+    sum_d: F2,
+    sum_d2: F2,
+}
+
+impl PairColumn for SecondMoments {
+    type Lanes = SecondLanes;
+
+    fn to_lanes(a: &Self, b: &Self) -> SecondLanes {
+        SecondLanes {
+            n: [a.n, b.n],
+            shift: F2::new(a.shift, b.shift),
+            sum_d: F2::new(a.sum_d, b.sum_d),
+            sum_d2: F2::new(a.sum_d2, b.sum_d2),
+        }
+    }
+
+    fn from_lanes(l: &SecondLanes) -> [Self; 2] {
+        let (shift, sum_d, sum_d2) = (l.shift.lanes(), l.sum_d.lanes(), l.sum_d2.lanes());
+        [0, 1].map(|i| SecondMoments {
+            n: l.n[i],
+            shift: shift[i],
+            sum_d: sum_d[i],
+            sum_d2: sum_d2[i],
+        })
+    }
+
+    #[inline(always)]
+    fn push_more_lanes(l: &mut SecondLanes, x: F2) {
+        l.n[0] += 1;
+        l.n[1] += 1;
+        let d = x - l.shift;
+        l.sum_d = l.sum_d + d;
+        l.sum_d2 = l.sum_d2 + d * d;
     }
 }
 
@@ -190,6 +278,44 @@ impl Column for Moments {
     fn push_more(&mut self, x: f64) {
         self.sums.push_more(x);
         self.extremes(x);
+    }
+}
+
+/// Two [`Moments`] as lanes.
+#[derive(Clone, Copy)]
+pub(crate) struct MomentLanes {
+    sums: SecondLanes,
+    min: F2,
+    max: F2,
+}
+
+impl PairColumn for Moments {
+    type Lanes = MomentLanes;
+
+    fn to_lanes(a: &Self, b: &Self) -> MomentLanes {
+        MomentLanes {
+            sums: SecondMoments::to_lanes(&a.sums, &b.sums),
+            min: F2::new(a.min, b.min),
+            max: F2::new(a.max, b.max),
+        }
+    }
+
+    fn from_lanes(l: &MomentLanes) -> [Self; 2] {
+        let sums = SecondMoments::from_lanes(&l.sums);
+        let (min, max) = (l.min.lanes(), l.max.lanes());
+        [0, 1].map(|i| Moments {
+            sums: sums[i],
+            min: min[i],
+            max: max[i],
+        })
+    }
+
+    #[inline(always)]
+    fn push_more_lanes(l: &mut MomentLanes, x: F2) {
+        SecondMoments::push_more_lanes(&mut l.sums, x);
+        // [`Moments::extremes`]: `minpd`/`maxpd` are its two branches.
+        l.min = x.less_or(l.min);
+        l.max = x.greater_or(l.max);
     }
 }
 
@@ -438,13 +564,24 @@ mod tests {
             for block in [1, 2, 7, 1024, data.len()] {
                 let mut all = Moments::new();
                 let (mut a, mut b) = (SecondMoments::new(), SecondMoments::new());
+                // The same as lane pairs: Moments (x, −x), SecondMoments (x, −x).
+                let (mut pm, mut nm) = (Moments::new(), Moments::new());
+                let (mut pa, mut na) = (SecondMoments::new(), SecondMoments::new());
                 for c in data.chunks(block) {
                     all.push_all(c.iter().copied());
                     push_columns([&mut a, &mut b], c.iter().map(|&x| [x, -x]));
+                    push_column_pairs([[&mut pm, &mut nm]], c.iter().map(|&x| [[x, -x]]));
+                    push_column_pairs([[&mut pa, &mut na]], c.iter().map(|&x| [[x, -x]]));
                 }
                 assert_eq!(bits(&all), bits(&one), "block {block}");
                 assert_eq!(bits2(&a), bits2(&one_sums), "block {block}");
                 assert_eq!(bits2(&b), bits2(&one_neg), "block {block}");
+                assert_eq!(bits(&pm), bits(&one), "pairs, block {block}");
+                assert_eq!(bits2(&pa), bits2(&one_sums), "pairs, block {block}");
+                assert_eq!(bits2(&na), bits2(&one_neg), "pairs, block {block}");
+                let mut one_neg_m = Moments::new();
+                data.iter().for_each(|&x| one_neg_m.push(-x));
+                assert_eq!(bits(&nm), bits(&one_neg_m), "pairs, block {block}");
             }
         }
         // The finite data's extremes and r.m.s. as a plain fold gives them.
