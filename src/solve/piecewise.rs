@@ -94,20 +94,38 @@ struct Update<const N: usize> {
 }
 
 impl<const N: usize> Update<N> {
+    /// The update; `unforced` leaves out the force columns (their input is
+    /// 0.0 then, and `y + a·0.0` has the bits of `y` here, as in
+    /// [`super::Step::advance_unforced`]).
     #[inline(always)]
-    fn advance(&self, x: &[f64; N], w0: &[f64; 3], w1: &[f64; 3]) -> [f64; N] {
+    fn advance(&self, x: &[f64; N], w0: &[f64; 3], w1: &[f64; 3], unforced: bool) -> [f64; N] {
+        if unforced {
+            self.advance_first::<2>(x, w0, w1)
+        } else {
+            self.advance_first::<3>(x, w0, w1)
+        }
+    }
+
+    /// The update with only the first `M` input columns.
+    #[inline(always)]
+    fn advance_first<const M: usize>(
+        &self,
+        x: &[f64; N],
+        w0: &[f64; 3],
+        w1: &[f64; 3],
+    ) -> [f64; N] {
         let mut y = [0.0; N];
         for (col, &xj) in self.phi.iter().zip(x) {
             for (yi, &a) in y.iter_mut().zip(col) {
                 *yi += a * xj;
             }
         }
-        for (col, &wj) in self.g0.iter().zip(w0) {
+        for (col, &wj) in self.g0.iter().zip(w0).take(M) {
             for (yi, &a) in y.iter_mut().zip(col) {
                 *yi += a * wj;
             }
         }
-        for (col, &wj) in self.g1.iter().zip(w1) {
+        for (col, &wj) in self.g1.iter().zip(w1).take(M) {
             for (yi, &a) in y.iter_mut().zip(col) {
                 *yi += a * wj;
             }
@@ -197,6 +215,7 @@ struct Cache<'a, const N: usize> {
 /// Codes per axle: 3 damper sides × 3 stops × 2 contacts.
 const AXLE_CODES: usize = 18;
 
+#[cfg(test)]
 fn axle_code(r: &AxleRegime) -> usize {
     let d = match r.damper {
         DamperSide::Mean => 0,
@@ -211,33 +230,52 @@ fn axle_code(r: &AxleRegime) -> usize {
     d + 3 * s + 9 * usize::from(!r.on_road)
 }
 
+#[cfg(test)]
 fn regime_key(r: &[AxleRegime; 2]) -> usize {
     axle_code(&r[0]) + AXLE_CODES * axle_code(&r[1])
 }
 
+/// The regime of a [`regime_key`].
+fn regime_of_key(key: usize) -> [AxleRegime; 2] {
+    let axle = |code: usize| AxleRegime {
+        damper: [DamperSide::Mean, DamperSide::Bump, DamperSide::Rebound][code % 3],
+        stop: [StopSide::Free, StopSide::Bump, StopSide::Rebound][code / 3 % 3],
+        on_road: code < 9,
+    };
+    [axle(key % AXLE_CODES), axle(key / AXLE_CODES)]
+}
+
 impl<const N: usize> Cache<'_, N> {
-    /// Regime `r`, discretised the first time it is met.
-    fn regime(&mut self, r: &[AxleRegime; 2]) -> &Regime<N> {
-        let key = regime_key(r);
+    /// The regime of `key` ([`regime_key`]), discretised the first time it
+    /// is met.
+    #[inline(always)]
+    fn regime(&mut self, key: usize) -> &Regime<N> {
         if self.slots[key].is_none() {
-            let (ss, c) = self.vehicle.state_space_in(r, self.force_x_m);
-            // The whole output interval as the exact path discretises it,
-            // so that one regime gives its samples bit for bit.
-            let (mut d, p) = discretise_state_space(&ss, self.h_s);
-            if let Some(f) = self.harmonic_hz {
-                harmonic_columns(&ss, f, self.h_s, &mut d);
-            }
-            let gc = c.iter().any(|v| *v != 0.0).then(|| &p * &c);
-            self.slots[key] = Some(Box::new(Regime {
-                update: fixed(&d, gc.as_ref()),
-                flow: Flow::new(&ss, &c),
-            }));
-            self.met += 1;
+            self.fill(key);
         }
         match self.slots[key].as_deref() {
             Some(r) => r,
             None => unreachable!("filled above"),
         }
+    }
+
+    #[cold]
+    #[inline(never)]
+    fn fill(&mut self, key: usize) {
+        let r = regime_of_key(key);
+        let (ss, c) = self.vehicle.state_space_in(&r, self.force_x_m);
+        // The whole output interval as the exact path discretises it,
+        // so that one regime gives its samples bit for bit.
+        let (mut d, p) = discretise_state_space(&ss, self.h_s);
+        if let Some(f) = self.harmonic_hz {
+            harmonic_columns(&ss, f, self.h_s, &mut d);
+        }
+        let gc = c.iter().any(|v| *v != 0.0).then(|| &p * &c);
+        self.slots[key] = Some(Box::new(Regime {
+            update: fixed(&d, gc.as_ref()),
+            flow: Flow::new(&ss, &c),
+        }));
+        self.met += 1;
     }
 }
 
@@ -575,6 +613,8 @@ struct Probe<'a> {
     /// Per axle: bump and rebound clearances (infinite when absent, which
     /// no travel passes, as `regime_of` never engages an absent stop).
     clearance_m: [(f64, f64); 2],
+    /// Per axle: its wheel and tyre, when it has them.
+    tyred: [Option<TyreAxle>; 2],
 }
 
 impl<'a> Probe<'a> {
@@ -592,38 +632,108 @@ impl<'a> Probe<'a> {
             model: vehicle.element_model(),
             asymmetric: [0, 1].map(|i| axle(i).damper.is_asymmetric()),
             clearance_m: [clearance(0), clearance(1)],
+            tyred: [0, 1].map(|i| {
+                let t = axle(i).tyre?;
+                Some(TyreAxle {
+                    x_m: axle(i).x_m,
+                    wheel: vehicle.wheel_dof(i)?,
+                    rate_n_m: t.rate_n_m,
+                    damping_n_s_m: t.damping_n_s_m,
+                    static_n: vehicle.static_contact_n()[i],
+                })
+            }),
         }
     }
 
     /// The regime at `x` with held inputs `w` (road rates of the hold).
-    #[inline]
+    #[cfg(test)]
     fn regime<const N: usize>(
         &self,
         x: &[f64; N],
         w: &[f64; 3],
         rate_m_s: [f64; 2],
     ) -> [AxleRegime; 2] {
-        let road = road(w, rate_m_s);
-        let mut out = [AxleRegime::LINEAR; 2];
-        for (i, r) in out.iter_mut().enumerate() {
-            let (travel, rate, margin) = self.model.axle_margins_of_state(i, x, &road);
-            if self.asymmetric[i] {
-                r.damper = if rate >= 0.0 {
-                    DamperSide::Bump
-                } else {
-                    DamperSide::Rebound
-                };
-            }
-            let (bump_m, rebound_m) = self.clearance_m[i];
-            if travel > bump_m {
-                r.stop = StopSide::Bump;
-            } else if travel < -rebound_m {
-                r.stop = StopSide::Rebound;
-            }
-            r.on_road = !(margin < 0.0);
-        }
-        out
+        regime_of_key(self.key(x, w, rate_m_s))
     }
+
+    /// The [`regime_key`] of the regime at `x` with held inputs `w` (road
+    /// rates of the hold).
+    #[inline(always)]
+    fn key<const N: usize>(&self, x: &[f64; N], w: &[f64; 3], rate_m_s: [f64; 2]) -> usize {
+        self.keys(x, w, rate_m_s, rate_m_s).0
+    }
+
+    /// [`Probe::key`] at one state and elevation for two road rates: the
+    /// end of an interval and the start of the next (the state-only
+    /// arithmetic is done once).
+    #[inline(always)]
+    fn keys<const N: usize>(
+        &self,
+        x: &[f64; N],
+        w: &[f64; 3],
+        rate_m_s: [f64; 2],
+        next_rate_m_s: [f64; 2],
+    ) -> (usize, usize) {
+        let (a0, b0) = self.axle_codes(0, x, w, rate_m_s, next_rate_m_s);
+        let (a1, b1) = self.axle_codes(1, x, w, rate_m_s, next_rate_m_s);
+        (a0 + AXLE_CODES * a1, b0 + AXLE_CODES * b1)
+    }
+
+    /// Axle `i`'s [`axle_code`] for the two road rates.
+    #[inline(always)]
+    fn axle_codes<const N: usize>(
+        &self,
+        i: usize,
+        x: &[f64; N],
+        w: &[f64; 3],
+        rate_m_s: [f64; 2],
+        next_rate_m_s: [f64; 2],
+    ) -> (usize, usize) {
+        let n = N / 2;
+        if let Some(t) = self.tyred[i].filter(|t| t.wheel < n) {
+            // `ElementModel::axle_margins_by` for a wheel on a tyre, term
+            // for term (so bit for bit), the tyre's elastic part shared.
+            let zb = x[0] + t.x_m * x[1];
+            let vb = x[n] + t.x_m * x[n + 1];
+            let (zw, vw) = (x[t.wheel], x[n + t.wheel]);
+            let side = self.side_code(i, zw - zb, vw - vb);
+            let elastic_n = t.rate_n_m * (w[i] - zw);
+            let margin = |r: f64| elastic_n + t.damping_n_s_m * (r - vw) + t.static_n;
+            let off = |r: f64| 9 * usize::from(margin(r) < 0.0);
+            return (side + off(rate_m_s[i]), side + off(next_rate_m_s[i]));
+        }
+        let code = |rate: [f64; 2]| {
+            let road = road(w, rate);
+            let (travel, rate, margin) = self.model.axle_margins_of_state(i, x, &road);
+            self.side_code(i, travel, rate) + 9 * usize::from(margin < 0.0)
+        };
+        (code(rate_m_s), code(next_rate_m_s))
+    }
+
+    /// The damper and stop part of [`axle_code`] of axle `i` from its
+    /// travel and travel rate, compared as [`regime_of`] compares them.
+    #[inline(always)]
+    fn side_code(&self, i: usize, travel: f64, rate: f64) -> usize {
+        // Bump at a rate ≥ 0, rebound below (or NaN), for a one-sided damper.
+        let damper = usize::from(self.asymmetric[i]) * (1 + usize::from(!(rate >= 0.0)));
+        let (bump_m, rebound_m) = self.clearance_m[i];
+        let stop = if travel > bump_m {
+            1
+        } else {
+            2 * usize::from(travel < -rebound_m)
+        };
+        damper + 3 * stop
+    }
+}
+
+/// An axle whose wheel stands on a tyre, as the element model reads it.
+#[derive(Debug, Clone, Copy)]
+struct TyreAxle {
+    x_m: f64,
+    wheel: usize,
+    rate_n_m: f64,
+    damping_n_s_m: f64,
+    static_n: f64,
 }
 
 fn road(w: &[f64; 3], rate_m_s: [f64; 2]) -> RoadState {
@@ -654,6 +764,8 @@ struct Walk<'a, const N: usize> {
     stats: PiecewiseStats,
     /// The series' storage, reused from switch to switch.
     series: Option<Box<Series<N>>>,
+    /// No body force: the update leaves out its columns.
+    unforced: bool,
 }
 
 impl<const N: usize> Walk<'_, N> {
@@ -670,28 +782,44 @@ impl<const N: usize> Walk<'_, N> {
         }
     }
 
-    /// Advances `x` across one output interval; returns the regime at its
-    /// end. The whole-interval update is tried first; only when the regime
-    /// at its end differs is the interval walked along the series.
-    fn interval(&mut self, x: &mut [f64; N], iv: &Interval) -> [AxleRegime; 2] {
-        let start = self.probe.regime(x, &iv.w0, iv.rate_m_s);
-        let x_try = self.cache.regime(&start).update.advance(x, &iv.w0, &iv.w1);
-        let end = self.probe.regime(&x_try, &iv.w1, iv.rate_m_s);
+    /// Advances `x` across one output interval that starts in the regime
+    /// of key `start`; returns the key of the regime the next interval
+    /// starts in (read with its road rates `next_rate_m_s`, if there is a
+    /// next one). The whole-interval update is tried first; only when the
+    /// regime at its end differs is the interval walked along the series.
+    #[inline(always)]
+    fn interval(
+        &mut self,
+        x: &mut [f64; N],
+        iv: &Interval,
+        start: usize,
+        next_rate_m_s: Option<[f64; 2]>,
+    ) -> usize {
+        let unforced = self.unforced;
+        let x_try = self.cache.regime(start).update.advance(x, &iv.w0, &iv.w1, unforced);
+        let (end, next) = match next_rate_m_s {
+            Some(r) => self.probe.keys(&x_try, &iv.w1, iv.rate_m_s, r),
+            None => {
+                let end = self.probe.key(&x_try, &iv.w1, iv.rate_m_s);
+                (end, end)
+            }
+        };
         if end == start {
             *x = x_try;
-            return end;
+            return next;
         }
-        self.across(x, iv, start)
+        let end = self.across(x, iv, start);
+        match next_rate_m_s {
+            Some(r) => self.probe.key(x, &iv.w1, r),
+            None => end,
+        }
     }
 
     /// Walks an interval that has a switch: piece by piece along each
     /// regime's series, each switch located on its switching function.
-    fn across(
-        &mut self,
-        x: &mut [f64; N],
-        iv: &Interval,
-        regime: [AxleRegime; 2],
-    ) -> [AxleRegime; 2] {
+    #[cold]
+    #[inline(never)]
+    fn across(&mut self, x: &mut [f64; N], iv: &Interval, regime: usize) -> usize {
         let mut series = self.series.take().unwrap_or_else(Series::new);
         let end = self.walk(&mut series, x, iv, regime);
         self.series = Some(series);
@@ -703,8 +831,8 @@ impl<const N: usize> Walk<'_, N> {
         series: &mut Series<N>,
         x: &mut [f64; N],
         iv: &Interval,
-        mut regime: [AxleRegime; 2],
-    ) -> [AxleRegime; 2] {
+        mut regime: usize,
+    ) -> usize {
         let h_s = self.cache.h_s;
         let (mut s0, mut switches) = (0.0f64, 0u32);
         // Past the cap, pieces of a fixed length, not located.
@@ -713,7 +841,7 @@ impl<const N: usize> Walk<'_, N> {
             let remaining = h_s - s0;
             let want = capped_piece_s.map_or(remaining, |p| p.min(remaining));
             let inputs = self.inputs.series_at(iv, s0);
-            let flow = &self.cache.regime(&regime).flow;
+            let flow = &self.cache.regime(regime).flow;
             let len = series.build(flow, x, &inputs, want);
             let last = len >= remaining;
             let w_end = if last {
@@ -722,7 +850,7 @@ impl<const N: usize> Walk<'_, N> {
                 self.inputs.at(iv, s0 + len)
             };
             let x_end = series.eval(if last { remaining } else { len });
-            let end = self.probe.regime(&x_end, &w_end, iv.rate_m_s);
+            let end = self.probe.key(&x_end, &w_end, iv.rate_m_s);
             if end == regime || capped_piece_s.is_some() {
                 *x = x_end;
                 regime = end;
@@ -732,7 +860,8 @@ impl<const N: usize> Walk<'_, N> {
                 s0 += len;
                 continue;
             }
-            let sigma = self.locate(series, iv, s0, len.min(remaining), &regime, &end);
+            let (from, to) = (regime_of_key(regime), regime_of_key(end));
+            let sigma = self.locate(series, iv, s0, len.min(remaining), &from, &to);
             let at_end = last && sigma >= remaining;
             let w = if at_end {
                 iv.w1
@@ -740,10 +869,10 @@ impl<const N: usize> Walk<'_, N> {
                 self.inputs.at(iv, s0 + sigma)
             };
             *x = series.eval(sigma);
-            let new = self.probe.regime(x, &w, iv.rate_m_s);
+            let new = self.probe.key(x, &w, iv.rate_m_s);
             switches += 1;
             if new != regime {
-                self.count(&regime, &new);
+                self.count(&from, &regime_of_key(new));
             }
             regime = new;
             if at_end {
@@ -882,9 +1011,20 @@ fn run_fixed<const N: usize, const D: usize>(
         },
         stats: PiecewiseStats::default(),
         series: None,
+        unforced: excitation.force.is_none(),
     };
     let mut x = [0.0; N];
-    let mut inputs = excitation.at(0.0);
+    let road = excitation.profile.reader();
+    let at = |k: usize| excitation.at_with(&road, k as f64 * dt);
+    let rate_of = |w0: &[f64; 3], w1: &[f64; 3]| [(w1[0] - w0[0]) / dt, (w1[1] - w0[1]) / dt];
+    let mut inputs = at(0);
+    // The inputs of the next sample too, so that the end of each interval
+    // also reads the regime the next one starts in.
+    let mut next = (total > 1).then(|| at(1));
+    let mut start = next.map_or(0, |n| {
+        let (w0, w1) = (hold_inputs(&inputs), hold_inputs(&n));
+        walk.probe.key(&x, &w0, rate_of(&w0, &w1))
+    });
     for k in 0..total {
         let t = k as f64 * dt;
         let mut q = [0.0; MAX_DOF];
@@ -902,17 +1042,19 @@ fn run_fixed<const N: usize, const D: usize>(
         );
         super::check_block(k, &x, t, vehicle)?;
         sink.accept(&sample)?;
-        if k + 1 < total {
-            let next = excitation.at((k + 1) as f64 * dt);
-            let (w0, w1) = (hold_inputs(&inputs), hold_inputs(&next));
+        if let Some(n1) = next {
+            let after = (k + 2 < total).then(|| at(k + 2));
+            let (w0, w1) = (hold_inputs(&inputs), hold_inputs(&n1));
             let iv = Interval {
                 t0_s: t,
                 w0,
                 w1,
-                rate_m_s: [(w1[0] - w0[0]) / dt, (w1[1] - w0[1]) / dt],
+                rate_m_s: rate_of(&w0, &w1),
             };
-            walk.interval(&mut x, &iv);
-            inputs = next;
+            let next_rate = after.map(|a| rate_of(&w1, &hold_inputs(&a)));
+            start = walk.interval(&mut x, &iv, start, next_rate);
+            inputs = n1;
+            next = after;
         }
     }
     super::check_finite(&x, (total - 1) as f64 * dt, vehicle)?;
