@@ -147,6 +147,12 @@ struct Flow<const N: usize> {
     a: [[f64; N]; N],
     b: [[f64; N]; 5],
     c: [f64; N],
+    /// Whether the first half of the rows is the kinematic `q̇ = q̇`
+    /// (`A = [[0, I], [·, ·]]`, no input or constant there), as
+    /// [`Vehicle::state_space_in`] builds it: those rows of `A v` are then
+    /// the second half of `v`, with the same bits as the dense product
+    /// (`0 + 0·v + … + 1·v_j + …` is `v_j` for finite `v`).
+    kinematic: bool,
 }
 
 impl<const N: usize> Flow<N> {
@@ -155,6 +161,7 @@ impl<const N: usize> Flow<N> {
             a: [[0.0; N]; N],
             b: [[0.0; N]; 5],
             c: [0.0; N],
+            kinematic: false,
         };
         for r in 0..N {
             for col in 0..N {
@@ -165,6 +172,12 @@ impl<const N: usize> Flow<N> {
             }
             f.c[r] = c[r];
         }
+        let n = N / 2;
+        f.kinematic = (0..n).all(|r| {
+            (0..N).all(|col| f.a[col][r] == if col == n + r { 1.0 } else { 0.0 })
+                && (0..5).all(|col| f.b[col][r] == 0.0)
+                && f.c[r] == 0.0
+        });
         f
     }
 
@@ -172,6 +185,17 @@ impl<const N: usize> Flow<N> {
     #[inline(always)]
     fn times(&self, v: &[f64; N]) -> [f64; N] {
         let mut y = [0.0; N];
+        if self.kinematic {
+            for i in 0..N / 2 {
+                y[i] = v[N / 2 + i];
+            }
+            for (col, &vj) in self.a.iter().zip(v) {
+                for i in N / 2..N {
+                    y[i] += col[i] * vj;
+                }
+            }
+            return y;
+        }
         for (col, &vj) in self.a.iter().zip(v) {
             for (yi, &a) in y.iter_mut().zip(col) {
                 *yi += a * vj;
@@ -184,10 +208,11 @@ impl<const N: usize> Flow<N> {
     #[inline(always)]
     fn input(&self, u: &[f64; 5], with_constant: bool) -> [f64; N] {
         let mut y = if with_constant { self.c } else { [0.0; N] };
+        let from = if self.kinematic { N / 2 } else { 0 };
         for (col, &uj) in self.b.iter().zip(u) {
             if uj != 0.0 {
-                for (yi, &a) in y.iter_mut().zip(col) {
-                    *yi += a * uj;
+                for i in from..N {
+                    y[i] += col[i] * uj;
                 }
             }
         }
@@ -470,6 +495,28 @@ impl<const N: usize> Series<N> {
         len
     }
 
+    /// The components `reads` of `x(σ)` (all when `None`), each by
+    /// Horner's rule as in [`Series::eval`], so with the same bits; the
+    /// others are zero.
+    #[inline]
+    fn eval_only(&self, sigma_s: f64, reads: Option<[usize; 3]>) -> [f64; N] {
+        let Some(j) = reads else {
+            return self.eval(sigma_s);
+        };
+        let top = &self.e[self.terms - 1];
+        let mut v = j.map(|j| top[j]);
+        for e in self.e[..self.terms - 1].iter().rev() {
+            for (v, &j) in v.iter_mut().zip(&j) {
+                *v = *v * sigma_s + e[j];
+            }
+        }
+        let mut y = [0.0; N];
+        for (v, &j) in v.iter().zip(&j) {
+            y[j] = *v;
+        }
+        y
+    }
+
     /// `x(σ)` by Horner's rule.
     #[inline]
     fn eval(&self, sigma_s: f64) -> [f64; N] {
@@ -547,6 +594,31 @@ enum Switching {
 }
 
 impl Switching {
+    fn axle(self) -> usize {
+        match self {
+            Switching::Rate(i)
+            | Switching::BumpStop(i, _)
+            | Switching::ReboundStop(i, _)
+            | Switching::Contact(i) => i,
+        }
+    }
+
+    /// The components of the state [`Switching::value`] reads, for an axle
+    /// whose wheel stands on a tyre: travel reads the body's and wheel's
+    /// positions, travel rate their rates, the tyre's margin the wheel's
+    /// position and rate (read twice here)
+    /// ([`ElementModel::axle_margins_of_state`]). `None` otherwise: then
+    /// the whole state is read.
+    fn reads<const N: usize>(self, probe: &Probe<'_>) -> Option<[usize; 3]> {
+        let n = N / 2;
+        let w = probe.tyred[self.axle()].filter(|t| t.wheel < n)?.wheel;
+        Some(match self {
+            Switching::Rate(_) => [n, n + 1, n + w],
+            Switching::BumpStop(..) | Switching::ReboundStop(..) => [0, 1, w],
+            Switching::Contact(_) => [w, n + w, w],
+        })
+    }
+
     fn value<const N: usize>(
         self,
         model: &ElementModel<'_>,
@@ -932,23 +1004,24 @@ impl<const N: usize> Walk<'_, N> {
         from: &[AxleRegime; 2],
         to: &[AxleRegime; 2],
     ) -> f64 {
-        let value = |f: Switching, sigma: f64| {
+        let value = |f: Switching, reads: Option<[usize; 3]>, sigma: f64| {
             let w = self.inputs.at(iv, s0 + sigma);
             f.value(
                 &self.probe.model,
-                &series.eval(sigma),
+                &series.eval_only(sigma, reads),
                 &road(&w, iv.rate_m_s),
             )
         };
         let mut first = len;
         for f in candidates(self.probe.model.vehicle(), from, to) {
-            let g0 = value(f, 0.0);
-            let g1 = value(f, first);
+            let reads = f.reads::<N>(&self.probe);
+            let g0 = value(f, reads, 0.0);
+            let g1 = value(f, reads, first);
             if f.side(g0) == f.side(g1) {
                 continue;
             }
             first = illinois(
-                |s| value(f, s),
+                |s| value(f, reads, s),
                 |g| f.side(g) == f.side(g0),
                 (0.0, g0),
                 (first, g1),
