@@ -495,14 +495,10 @@ impl<const N: usize> Series<N> {
         len
     }
 
-    /// The components `reads` of `x(σ)` (all when `None`), each by
-    /// Horner's rule as in [`Series::eval`], so with the same bits; the
-    /// others are zero.
+    /// The components `j` of `x(σ)`, each by Horner's rule as in
+    /// [`Series::eval`], so with the same bits.
     #[inline]
-    fn eval_only(&self, sigma_s: f64, reads: Option<[usize; 3]>) -> [f64; N] {
-        let Some(j) = reads else {
-            return self.eval(sigma_s);
-        };
+    fn eval3(&self, sigma_s: f64, j: [usize; 3]) -> [f64; 3] {
         let top = &self.e[self.terms - 1];
         let mut v = j.map(|j| top[j]);
         for e in self.e[..self.terms - 1].iter().rev() {
@@ -510,11 +506,7 @@ impl<const N: usize> Series<N> {
                 *v = *v * sigma_s + e[j];
             }
         }
-        let mut y = [0.0; N];
-        for (v, &j) in v.iter().zip(&j) {
-            y[j] = *v;
-        }
-        y
+        v
     }
 
     /// `x(σ)` by Horner's rule.
@@ -617,6 +609,27 @@ impl Switching {
             Switching::BumpStop(..) | Switching::ReboundStop(..) => [0, 1, w],
             Switching::Contact(_) => [w, n + w, w],
         })
+    }
+
+    /// [`Switching::value`] for an axle whose wheel stands on tyre `t`,
+    /// from the components [`Switching::reads`] names, in the element
+    /// model's arithmetic term for term (`ElementModel::axle_margins_by`),
+    /// so with the same bits; `road` gives the axle's road elevation and
+    /// rate (read only for the contact margin).
+    #[inline(always)]
+    fn value_on_tyre(self, t: &TyreAxle, y: [f64; 3], road: impl Fn() -> (f64, f64)) -> f64 {
+        // Body point then wheel: `(z_w − (z_0 + x θ))`, positions or rates.
+        let relative = || y[2] - (y[0] + t.x_m * y[1]);
+        match self {
+            Switching::Rate(_) => relative(),
+            Switching::BumpStop(_, c) => relative() - c,
+            Switching::ReboundStop(_, c) => -relative() - c,
+            Switching::Contact(_) => {
+                let (elevation_m, rate_m_s) = road();
+                let ft = t.rate_n_m * (elevation_m - y[0]) + t.damping_n_s_m * (rate_m_s - y[1]);
+                ft + t.static_n
+            }
+        }
     }
 
     fn value<const N: usize>(
@@ -1005,12 +1018,17 @@ impl<const N: usize> Walk<'_, N> {
         to: &[AxleRegime; 2],
     ) -> f64 {
         let value = |f: Switching, reads: Option<[usize; 3]>, sigma: f64| {
-            let w = self.inputs.at(iv, s0 + sigma);
-            f.value(
-                &self.probe.model,
-                &series.eval_only(sigma, reads),
-                &road(&w, iv.rate_m_s),
-            )
+            let elevation_m = || self.inputs.at(iv, s0 + sigma);
+            match (reads, self.probe.tyred[f.axle()]) {
+                (Some(j), Some(t)) => f.value_on_tyre(&t, series.eval3(sigma, j), || {
+                    (elevation_m()[f.axle()], iv.rate_m_s[f.axle()])
+                }),
+                _ => f.value(
+                    &self.probe.model,
+                    &series.eval(sigma),
+                    &road(&elevation_m(), iv.rate_m_s),
+                ),
+            }
         };
         let mut first = len;
         for f in candidates(self.probe.model.vehicle(), from, to) {
