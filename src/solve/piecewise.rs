@@ -700,6 +700,8 @@ struct Probe<'a> {
     clearance_m: [(f64, f64); 2],
     /// Per axle: its wheel and tyre, when it has them.
     tyred: [Option<TyreAxle>; 2],
+    /// Both, when both axles have them.
+    tyred_both: Option<[TyreAxle; 2]>,
 }
 
 impl<'a> Probe<'a> {
@@ -713,20 +715,25 @@ impl<'a> Probe<'a> {
                 )
             })
         };
+        let tyred = [0, 1].map(|i| {
+            let t = axle(i).tyre?;
+            Some(TyreAxle {
+                x_m: axle(i).x_m,
+                wheel: vehicle.wheel_dof(i)?,
+                rate_n_m: t.rate_n_m,
+                damping_n_s_m: t.damping_n_s_m,
+                static_n: vehicle.static_contact_n()[i],
+            })
+        });
         Probe {
             model: vehicle.element_model(),
             asymmetric: [0, 1].map(|i| axle(i).damper.is_asymmetric()),
             clearance_m: [clearance(0), clearance(1)],
-            tyred: [0, 1].map(|i| {
-                let t = axle(i).tyre?;
-                Some(TyreAxle {
-                    x_m: axle(i).x_m,
-                    wheel: vehicle.wheel_dof(i)?,
-                    rate_n_m: t.rate_n_m,
-                    damping_n_s_m: t.damping_n_s_m,
-                    static_n: vehicle.static_contact_n()[i],
-                })
-            }),
+            tyred,
+            tyred_both: match tyred {
+                [Some(f), Some(r)] => Some([f, r]),
+                _ => None,
+            },
         }
     }
 
@@ -759,9 +766,37 @@ impl<'a> Probe<'a> {
         rate_m_s: [f64; 2],
         next_rate_m_s: [f64; 2],
     ) -> (usize, usize) {
+        if let Some(t) = self.tyred_both.filter(|t| t[0].wheel.max(t[1].wheel) < N / 2) {
+            let (a0, b0) = self.tyre_codes(0, &t[0], x, w, rate_m_s, next_rate_m_s);
+            let (a1, b1) = self.tyre_codes(1, &t[1], x, w, rate_m_s, next_rate_m_s);
+            return (a0 + AXLE_CODES * a1, b0 + AXLE_CODES * b1);
+        }
         let (a0, b0) = self.axle_codes(0, x, w, rate_m_s, next_rate_m_s);
         let (a1, b1) = self.axle_codes(1, x, w, rate_m_s, next_rate_m_s);
         (a0 + AXLE_CODES * a1, b0 + AXLE_CODES * b1)
+    }
+
+    /// [`Probe::axle_codes`] of axle `i`, whose wheel stands on tyre `t`:
+    /// `ElementModel::axle_margins_by` term for term (so bit for bit), the
+    /// tyre's elastic part shared by the two rates.
+    #[inline(always)]
+    fn tyre_codes<const N: usize>(
+        &self,
+        i: usize,
+        t: &TyreAxle,
+        x: &[f64; N],
+        w: &[f64; 3],
+        rate_m_s: [f64; 2],
+        next_rate_m_s: [f64; 2],
+    ) -> (usize, usize) {
+        let n = N / 2;
+        let zb = x[0] + t.x_m * x[1];
+        let vb = x[n] + t.x_m * x[n + 1];
+        let (zw, vw) = (x[t.wheel], x[n + t.wheel]);
+        let side = self.side_code(i, zw - zb, vw - vb);
+        let elastic_n = t.rate_n_m * (w[i] - zw);
+        let off = |r: f64| 9 * usize::from(elastic_n + t.damping_n_s_m * (r - vw) + t.static_n < 0.0);
+        (side + off(rate_m_s[i]), side + off(next_rate_m_s[i]))
     }
 
     /// Axle `i`'s [`axle_code`] for the two road rates.
@@ -774,18 +809,8 @@ impl<'a> Probe<'a> {
         rate_m_s: [f64; 2],
         next_rate_m_s: [f64; 2],
     ) -> (usize, usize) {
-        let n = N / 2;
-        if let Some(t) = self.tyred[i].filter(|t| t.wheel < n) {
-            // `ElementModel::axle_margins_by` for a wheel on a tyre, term
-            // for term (so bit for bit), the tyre's elastic part shared.
-            let zb = x[0] + t.x_m * x[1];
-            let vb = x[n] + t.x_m * x[n + 1];
-            let (zw, vw) = (x[t.wheel], x[n + t.wheel]);
-            let side = self.side_code(i, zw - zb, vw - vb);
-            let elastic_n = t.rate_n_m * (w[i] - zw);
-            let margin = |r: f64| elastic_n + t.damping_n_s_m * (r - vw) + t.static_n;
-            let off = |r: f64| 9 * usize::from(margin(r) < 0.0);
-            return (side + off(rate_m_s[i]), side + off(next_rate_m_s[i]));
+        if let Some(t) = self.tyred[i].filter(|t| t.wheel < N / 2) {
+            return self.tyre_codes(i, &t, x, w, rate_m_s, next_rate_m_s);
         }
         let code = |rate: [f64; 2]| {
             let road = road(w, rate);
@@ -802,11 +827,9 @@ impl<'a> Probe<'a> {
         // Bump at a rate ≥ 0, rebound below (or NaN), for a one-sided damper.
         let damper = usize::from(self.asymmetric[i]) * (1 + usize::from(!(rate >= 0.0)));
         let (bump_m, rebound_m) = self.clearance_m[i];
-        let stop = if travel > bump_m {
-            1
-        } else {
-            2 * usize::from(travel < -rebound_m)
-        };
+        // Past the bump clearance, else past the rebound clearance.
+        let bump = travel > bump_m;
+        let stop = usize::from(bump) + 2 * usize::from(!bump & (travel < -rebound_m));
         damper + 3 * stop
     }
 }
@@ -1141,14 +1164,15 @@ fn run_fixed<const N: usize, const D: usize>(
     let road = excitation.profile.reader();
     let at = |k: usize| excitation.at_with(&road, k as f64 * dt);
     let rate_of = |w0: &[f64; 3], w1: &[f64; 3]| [(w1[0] - w0[0]) / dt, (w1[1] - w0[1]) / dt];
+    let last = total - 1;
     let mut inputs = at(0);
     // The inputs of the next sample too, so that the end of each interval
     // also reads the regime the next one starts in.
-    let mut next = (total > 1).then(|| at(1));
-    let mut start = next.map_or(0, |n| {
-        let (w0, w1) = (hold_inputs(&inputs), hold_inputs(&n));
+    let mut next = at(last.min(1));
+    let mut start = {
+        let (w0, w1) = (hold_inputs(&inputs), hold_inputs(&next));
         walk.probe.key(&x, &w0, rate_of(&w0, &w1))
-    });
+    };
     for k in 0..total {
         let t = k as f64 * dt;
         let mut q = [0.0; MAX_DOF];
@@ -1166,18 +1190,18 @@ fn run_fixed<const N: usize, const D: usize>(
         );
         super::check_block(k, &x, t, vehicle)?;
         sink.accept(&sample)?;
-        if let Some(n1) = next {
-            let after = (k + 2 < total).then(|| at(k + 2));
-            let (w0, w1) = (hold_inputs(&inputs), hold_inputs(&n1));
+        if k < last {
+            let after = at(last.min(k + 2));
+            let (w0, w1, w2) = (hold_inputs(&inputs), hold_inputs(&next), hold_inputs(&after));
             let iv = Interval {
                 t0_s: t,
                 w0,
                 w1,
                 rate_m_s: rate_of(&w0, &w1),
             };
-            let next_rate = after.map(|a| rate_of(&w1, &hold_inputs(&a)));
+            let next_rate = (k + 1 < last).then(|| rate_of(&w1, &w2));
             start = walk.interval(&mut x, &iv, start, next_rate);
-            inputs = n1;
+            inputs = next;
             next = after;
         }
     }
