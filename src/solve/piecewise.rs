@@ -495,18 +495,16 @@ impl<const N: usize> Series<N> {
         len
     }
 
-    /// The components `j` of `x(σ)`, each by Horner's rule as in
-    /// [`Series::eval`], so with the same bits.
-    #[inline]
-    fn eval3(&self, sigma_s: f64, j: [usize; 3]) -> [f64; 3] {
-        let top = &self.e[self.terms - 1];
-        let mut v = j.map(|j| top[j]);
-        for e in self.e[..self.terms - 1].iter().rev() {
-            for (v, &j) in v.iter_mut().zip(&j) {
-                *v = *v * sigma_s + e[j];
-            }
+    /// The series of the components `j` of the state, side by side.
+    fn part(&self, j: [usize; 3]) -> Part {
+        let mut p = Part {
+            e: [[0.0; 3]; MAX_TERMS],
+            terms: self.terms,
+        };
+        for (pk, ek) in p.e.iter_mut().zip(&self.e[..self.terms]) {
+            *pk = j.map(|j| ek[j]);
         }
-        v
+        p
     }
 
     /// `x(σ)` by Horner's rule.
@@ -519,6 +517,27 @@ impl<const N: usize> Series<N> {
             }
         }
         y
+    }
+}
+
+/// A few components of a [`Series`], side by side.
+struct Part {
+    e: [[f64; 3]; MAX_TERMS],
+    terms: usize,
+}
+
+impl Part {
+    /// The components at `σ`, each by Horner's rule as in [`Series::eval`]
+    /// (so with the same bits).
+    #[inline]
+    fn eval(&self, sigma_s: f64) -> [f64; 3] {
+        let mut v = self.e[self.terms - 1];
+        for e in self.e[..self.terms - 1].iter().rev() {
+            for (v, &ek) in v.iter_mut().zip(e) {
+                *v = *v * sigma_s + ek;
+            }
+        }
+        v
     }
 }
 
@@ -1040,10 +1059,10 @@ impl<const N: usize> Walk<'_, N> {
         from: &[AxleRegime; 2],
         to: &[AxleRegime; 2],
     ) -> f64 {
-        let value = |f: Switching, reads: Option<[usize; 3]>, sigma: f64| {
+        let value = |f: Switching, part: Option<&Part>, sigma: f64| {
             let elevation_m = || self.inputs.at(iv, s0 + sigma);
-            match (reads, self.probe.tyred[f.axle()]) {
-                (Some(j), Some(t)) => f.value_on_tyre(&t, series.eval3(sigma, j), || {
+            match (part, self.probe.tyred[f.axle()]) {
+                (Some(p), Some(t)) => f.value_on_tyre(&t, p.eval(sigma), || {
                     (elevation_m()[f.axle()], iv.rate_m_s[f.axle()])
                 }),
                 _ => f.value(
@@ -1055,7 +1074,8 @@ impl<const N: usize> Walk<'_, N> {
         };
         let mut first = len;
         for f in candidates(self.probe.model.vehicle(), from, to) {
-            let reads = f.reads::<N>(&self.probe);
+            let part = f.reads::<N>(&self.probe).map(|j| series.part(j));
+            let reads = part.as_ref();
             let g0 = value(f, reads, 0.0);
             let g1 = value(f, reads, first);
             if f.side(g0) == f.side(g1) {
