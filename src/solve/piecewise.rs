@@ -575,14 +575,14 @@ impl<const N: usize> Convergence<N> {
     /// Takes the next term; true once two terms in a row were negligible.
     #[inline]
     fn push(&mut self, term: &[f64; N]) -> bool {
-        let mut small = self.k > 1;
+        let mut large = 0usize;
         for (m, &t) in self.largest.iter_mut().zip(term) {
             let size = t.abs() * self.scale;
-            if size > TERM_TOL * *m {
-                small = false;
-            }
-            *m = m.max(size);
+            large |= usize::from(size > TERM_TOL * *m);
+            // `m.max(size)`, as `m` is never NaN (a NaN size leaves it).
+            *m = if size > *m { size } else { *m };
         }
+        let small = self.k > 1 && large == 0;
         self.small_run = if small { self.small_run + 1 } else { 0 };
         self.scale *= self.len_s;
         self.k += 1;
