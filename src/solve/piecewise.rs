@@ -189,9 +189,10 @@ impl<const N: usize> Flow<N> {
             for i in 0..N / 2 {
                 y[i] = v[N / 2 + i];
             }
+            let (_, bottom) = y.split_at_mut(N / 2);
             for (col, &vj) in self.a.iter().zip(v) {
-                for i in N / 2..N {
-                    y[i] += col[i] * vj;
+                for (yi, &a) in bottom.iter_mut().zip(&col[N / 2..]) {
+                    *yi += a * vj;
                 }
             }
             return y;
@@ -445,6 +446,7 @@ impl<const N: usize> Series<N> {
 
     /// Fills the terms for `x` and `inputs`; returns the longest piece
     /// (`len_s`, halved as needed) over which they have converged.
+    #[inline(always)]
     fn build(&mut self, flow: &Flow<N>, x: &[f64; N], inputs: &InputSeries, len_s: f64) -> f64 {
         let s = self;
         s.terms = MAX_TERMS;
@@ -903,6 +905,13 @@ fn run_fixed_fastest<const N: usize, const D: usize>(
     run_fixed::<N, D>(vehicle, excitation, plan, sink)
 }
 
+fn has_avx() -> bool {
+    #[cfg(target_arch = "x86_64")]
+    return std::arch::is_x86_feature_detected!("avx");
+    #[cfg(not(target_arch = "x86_64"))]
+    false
+}
+
 /// [`run_fixed`] with AVX enabled (see [`run_fixed_fastest`]).
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx")]
@@ -925,6 +934,8 @@ struct Walk<'a, const N: usize> {
     series: Option<Box<Series<N>>>,
     /// No body force: the update leaves out its columns.
     unforced: bool,
+    /// The processor has AVX.
+    avx: bool,
 }
 
 impl<const N: usize> Walk<'_, N> {
@@ -979,12 +990,31 @@ impl<const N: usize> Walk<'_, N> {
     #[cold]
     #[inline(never)]
     fn across(&mut self, x: &mut [f64; N], iv: &Interval, regime: usize) -> usize {
+        #[cfg(target_arch = "x86_64")]
+        if self.avx {
+            // SAFETY: `avx` is set only where the processor has AVX.
+            return unsafe { self.across_avx(x, iv, regime) };
+        }
+        self.across_as_built(x, iv, regime)
+    }
+
+    /// [`Walk::across`] with AVX enabled (same multiply-then-add order,
+    /// no FMA, so the same bits).
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "avx")]
+    fn across_avx(&mut self, x: &mut [f64; N], iv: &Interval, regime: usize) -> usize {
+        self.across_as_built(x, iv, regime)
+    }
+
+    #[inline(always)]
+    fn across_as_built(&mut self, x: &mut [f64; N], iv: &Interval, regime: usize) -> usize {
         let mut series = self.series.take().unwrap_or_else(Series::new);
         let end = self.walk(&mut series, x, iv, regime);
         self.series = Some(series);
         end
     }
 
+    #[inline(always)]
     fn walk(
         &mut self,
         series: &mut Series<N>,
@@ -1179,6 +1209,7 @@ fn run_fixed<const N: usize, const D: usize>(
         stats: PiecewiseStats::default(),
         series: None,
         unforced: excitation.force.is_none(),
+        avx: has_avx(),
     };
     let mut x = [0.0; N];
     let road = excitation.profile.reader();
