@@ -1075,11 +1075,38 @@ impl<const N: usize> Walk<'_, N> {
         }
     }
 
+    /// Switching function `f` at `sigma` into the piece of `series`, which
+    /// is `at_s` into the interval: from `part` (its components) where the
+    /// axle stands on a tyre, otherwise from the whole state.
+    #[inline(always)]
+    fn switching_value(
+        &self,
+        f: Switching,
+        part: Option<&Part>,
+        series: &Series<N>,
+        iv: &Interval,
+        at_s: f64,
+        sigma: f64,
+    ) -> f64 {
+        let elevation_m = || self.inputs.at(iv, at_s);
+        match (part, self.probe.tyred[f.axle()]) {
+            (Some(p), Some(t)) => f.value_on_tyre(&t, p.eval(sigma), || {
+                (elevation_m()[f.axle()], iv.rate_m_s[f.axle()])
+            }),
+            _ => f.value(
+                &self.probe.model,
+                &series.eval(sigma),
+                &road(&elevation_m(), iv.rate_m_s),
+            ),
+        }
+    }
+
     /// The first instant in `(0, len]` after `s0` at which one of the
     /// switching functions that differ between `from` and `to` changes
     /// side, to [`LOCATE_WIDTH`]: the earliest of their roots, each found by the
     /// Illinois variant of regula falsi on the series (Dowell & Jarratt,
     /// BIT 11, 1971), returned on the new side of the bracket.
+    #[inline(always)]
     fn locate(
         &self,
         series: &Series<N>,
@@ -1089,30 +1116,17 @@ impl<const N: usize> Walk<'_, N> {
         from: &[AxleRegime; 2],
         to: &[AxleRegime; 2],
     ) -> f64 {
-        let value = |f: Switching, part: Option<&Part>, sigma: f64| {
-            let elevation_m = || self.inputs.at(iv, s0 + sigma);
-            match (part, self.probe.tyred[f.axle()]) {
-                (Some(p), Some(t)) => f.value_on_tyre(&t, p.eval(sigma), || {
-                    (elevation_m()[f.axle()], iv.rate_m_s[f.axle()])
-                }),
-                _ => f.value(
-                    &self.probe.model,
-                    &series.eval(sigma),
-                    &road(&elevation_m(), iv.rate_m_s),
-                ),
-            }
-        };
         let mut first = len;
         for f in candidates(self.probe.model.vehicle(), from, to) {
             let part = f.reads::<N>(&self.probe).map(|j| series.part(j));
             let reads = part.as_ref();
-            let g0 = value(f, reads, 0.0);
-            let g1 = value(f, reads, first);
+            let g0 = self.switching_value(f, reads, series, iv, s0, 0.0);
+            let g1 = self.switching_value(f, reads, series, iv, s0 + first, first);
             if f.side(g0) == f.side(g1) {
                 continue;
             }
             first = illinois(
-                |s| value(f, reads, s),
+                |s| self.switching_value(f, reads, series, iv, s0 + s, s),
                 |g| f.side(g) == f.side(g0),
                 (0.0, g0),
                 (first, g1),
@@ -1136,6 +1150,7 @@ const CAPPED_PIECES: f64 = 16.0;
 /// (not): the Illinois method, bisecting when a step would leave the
 /// bracket; returns the bracket's new-side end once the bracket is a few
 /// rounding units wide.
+#[inline(always)]
 fn illinois(
     g: impl Fn(f64) -> f64,
     old: impl Fn(f64) -> bool,
