@@ -787,7 +787,7 @@ impl<'a> Probe<'a> {
         rate_m_s: [f64; 2],
         next_rate_m_s: [f64; 2],
     ) -> (usize, usize) {
-        if let Some(t) = self.tyred_both.filter(|t| t[0].wheel.max(t[1].wheel) < N / 2) {
+        if let Some(t) = self.tyred_both.as_ref().filter(|t| t[0].wheel.max(t[1].wheel) < N / 2) {
             let (a0, b0) = self.tyre_codes(0, &t[0], x, w, rate_m_s, next_rate_m_s);
             let (a1, b1) = self.tyre_codes(1, &t[1], x, w, rate_m_s, next_rate_m_s);
             return (a0 + AXLE_CODES * a1, b0 + AXLE_CODES * b1);
@@ -830,8 +830,8 @@ impl<'a> Probe<'a> {
         rate_m_s: [f64; 2],
         next_rate_m_s: [f64; 2],
     ) -> (usize, usize) {
-        if let Some(t) = self.tyred[i].filter(|t| t.wheel < N / 2) {
-            return self.tyre_codes(i, &t, x, w, rate_m_s, next_rate_m_s);
+        if let Some(t) = self.tyred[i].as_ref().filter(|t| t.wheel < N / 2) {
+            return self.tyre_codes(i, t, x, w, rate_m_s, next_rate_m_s);
         }
         let code = |rate: [f64; 2]| {
             let road = road(w, rate);
@@ -1089,8 +1089,8 @@ impl<const N: usize> Walk<'_, N> {
         sigma: f64,
     ) -> f64 {
         let elevation_m = || self.inputs.at(iv, at_s);
-        match (part, self.probe.tyred[f.axle()]) {
-            (Some(p), Some(t)) => f.value_on_tyre(&t, p.eval(sigma), || {
+        match (part, &self.probe.tyred[f.axle()]) {
+            (Some(p), Some(t)) => f.value_on_tyre(t, p.eval(sigma), || {
                 (elevation_m()[f.axle()], iv.rate_m_s[f.axle()])
             }),
             _ => f.value(
