@@ -787,7 +787,11 @@ impl<'a> Probe<'a> {
         rate_m_s: [f64; 2],
         next_rate_m_s: [f64; 2],
     ) -> (usize, usize) {
-        if let Some(t) = self.tyred_both.as_ref().filter(|t| t[0].wheel.max(t[1].wheel) < N / 2) {
+        if let Some(t) = self
+            .tyred_both
+            .as_ref()
+            .filter(|t| t[0].wheel.max(t[1].wheel) < N / 2)
+        {
             let (a0, b0) = self.tyre_codes(0, &t[0], x, w, rate_m_s, next_rate_m_s);
             let (a1, b1) = self.tyre_codes(1, &t[1], x, w, rate_m_s, next_rate_m_s);
             return (a0 + AXLE_CODES * a1, b0 + AXLE_CODES * b1);
@@ -816,7 +820,8 @@ impl<'a> Probe<'a> {
         let (zw, vw) = (x[t.wheel], x[n + t.wheel]);
         let side = self.side_code(i, zw - zb, vw - vb);
         let elastic_n = t.rate_n_m * (w[i] - zw);
-        let off = |r: f64| 9 * usize::from(elastic_n + t.damping_n_s_m * (r - vw) + t.static_n < 0.0);
+        let off =
+            |r: f64| 9 * usize::from(elastic_n + t.damping_n_s_m * (r - vw) + t.static_n < 0.0);
         (side + off(rate_m_s[i]), side + off(next_rate_m_s[i]))
     }
 
@@ -966,7 +971,11 @@ impl<const N: usize> Walk<'_, N> {
         next_rate_m_s: Option<[f64; 2]>,
     ) -> usize {
         let unforced = self.unforced;
-        let x_try = self.cache.regime(start).update.advance(x, &iv.w0, &iv.w1, unforced);
+        let x_try = self
+            .cache
+            .regime(start)
+            .update
+            .advance(x, &iv.w0, &iv.w1, unforced);
         let (end, next) = match next_rate_m_s {
             Some(r) => self.probe.keys(&x_try, &iv.w1, iv.rate_m_s, r),
             None => {
@@ -978,7 +987,7 @@ impl<const N: usize> Walk<'_, N> {
             *x = x_try;
             return next;
         }
-        let end = self.across(x, iv, start);
+        let end = self.across(x, iv, start, end);
         match next_rate_m_s {
             Some(r) => self.probe.key(x, &iv.w1, r),
             None => end,
@@ -989,27 +998,33 @@ impl<const N: usize> Walk<'_, N> {
     /// regime's series, each switch located on its switching function.
     #[cold]
     #[inline(never)]
-    fn across(&mut self, x: &mut [f64; N], iv: &Interval, regime: usize) -> usize {
+    fn across(&mut self, x: &mut [f64; N], iv: &Interval, regime: usize, end: usize) -> usize {
         #[cfg(target_arch = "x86_64")]
         if self.avx {
             // SAFETY: `avx` is set only where the processor has AVX.
-            return unsafe { self.across_avx(x, iv, regime) };
+            return unsafe { self.across_avx(x, iv, regime, end) };
         }
-        self.across_as_built(x, iv, regime)
+        self.across_as_built(x, iv, regime, end)
     }
 
     /// [`Walk::across`] with AVX enabled (same multiply-then-add order,
     /// no FMA, so the same bits).
     #[cfg(target_arch = "x86_64")]
     #[target_feature(enable = "avx")]
-    fn across_avx(&mut self, x: &mut [f64; N], iv: &Interval, regime: usize) -> usize {
-        self.across_as_built(x, iv, regime)
+    fn across_avx(&mut self, x: &mut [f64; N], iv: &Interval, regime: usize, end: usize) -> usize {
+        self.across_as_built(x, iv, regime, end)
     }
 
     #[inline(always)]
-    fn across_as_built(&mut self, x: &mut [f64; N], iv: &Interval, regime: usize) -> usize {
+    fn across_as_built(
+        &mut self,
+        x: &mut [f64; N],
+        iv: &Interval,
+        regime: usize,
+        end: usize,
+    ) -> usize {
         let mut series = self.series.take().unwrap_or_else(Series::new);
-        let end = self.walk(&mut series, x, iv, regime);
+        let end = self.walk(&mut series, x, iv, regime, end);
         self.series = Some(series);
         end
     }
@@ -1021,8 +1036,14 @@ impl<const N: usize> Walk<'_, N> {
         x: &mut [f64; N],
         iv: &Interval,
         mut regime: usize,
+        whole_end: usize,
     ) -> usize {
         let h_s = self.cache.h_s;
+        // The regime at the end of the whole-interval update (which differs
+        // from `regime`): that of the first piece's end when the piece is
+        // the whole interval (the same solution, up to rounding), so that
+        // end is not read again.
+        let mut whole_end = Some(whole_end);
         let (mut s0, mut switches) = (0.0f64, 0u32);
         // Past the cap, pieces of a fixed length, not located.
         let mut capped_piece_s: Option<f64> = None;
@@ -1038,10 +1059,13 @@ impl<const N: usize> Walk<'_, N> {
             } else {
                 self.inputs.at(iv, s0 + len)
             };
-            let x_end = series.eval(if last { remaining } else { len });
-            let end = self.probe.key(&x_end, &w_end, iv.rate_m_s);
+            let piece_s = if last { remaining } else { len };
+            let end = match whole_end.take() {
+                Some(end) if last => end,
+                _ => self.probe.key(&series.eval(piece_s), &w_end, iv.rate_m_s),
+            };
             if end == regime || capped_piece_s.is_some() {
-                *x = x_end;
+                *x = series.eval(piece_s);
                 regime = end;
                 if last {
                     return regime;
@@ -1258,7 +1282,11 @@ fn run_fixed<const N: usize, const D: usize>(
         sink.accept(&sample)?;
         if k < last {
             let after = at(last.min(k + 2));
-            let (w0, w1, w2) = (hold_inputs(&inputs), hold_inputs(&next), hold_inputs(&after));
+            let (w0, w1, w2) = (
+                hold_inputs(&inputs),
+                hold_inputs(&next),
+                hold_inputs(&after),
+            );
             let iv = Interval {
                 t0_s: t,
                 w0,
