@@ -397,6 +397,14 @@ impl Inputs {
         [lerp(iv.w0[0], iv.w1[0]), lerp(iv.w0[1], iv.w1[1]), force_n]
     }
 
+    /// Axle `i`'s road elevation `s_s` into the interval, as [`Inputs::at`]
+    /// gives it (the same expression, so the same bits).
+    #[inline(always)]
+    fn elevation_at(&self, iv: &Interval, s_s: f64, i: usize) -> f64 {
+        let f = s_s / self.h_s;
+        iv.w0[i] + f * (iv.w1[i] - iv.w0[i])
+    }
+
     fn series_at(&self, iv: &Interval, s_s: f64) -> InputSeries {
         let w = self.at(iv, s_s);
         let [rf, rr] = iv.rate_m_s;
@@ -1112,17 +1120,27 @@ impl<const N: usize> Walk<'_, N> {
         at_s: f64,
         sigma: f64,
     ) -> f64 {
-        let elevation_m = || self.inputs.at(iv, at_s);
-        match (part, &self.probe.tyred[f.axle()]) {
+        let i = f.axle();
+        match (part, &self.probe.tyred[i]) {
             (Some(p), Some(t)) => f.value_on_tyre(t, p.eval(sigma), || {
-                (elevation_m()[f.axle()], iv.rate_m_s[f.axle()])
+                (self.inputs.elevation_at(iv, at_s, i), iv.rate_m_s[i])
             }),
-            _ => f.value(
-                &self.probe.model,
-                &series.eval(sigma),
-                &road(&elevation_m(), iv.rate_m_s),
-            ),
+            _ => self.switching_value_of_state(f, series, iv, at_s, sigma),
         }
+    }
+
+    /// [`Walk::switching_value`] from the whole state.
+    #[inline(never)]
+    fn switching_value_of_state(
+        &self,
+        f: Switching,
+        series: &Series<N>,
+        iv: &Interval,
+        at_s: f64,
+        sigma: f64,
+    ) -> f64 {
+        let w = self.inputs.at(iv, at_s);
+        f.value(&self.probe.model, &series.eval(sigma), &road(&w, iv.rate_m_s))
     }
 
     /// The first instant in `(0, len]` after `s0` at which one of the
