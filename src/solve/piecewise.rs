@@ -94,20 +94,38 @@ struct Update<const N: usize> {
 }
 
 impl<const N: usize> Update<N> {
+    /// The update; `unforced` leaves out the force columns (their input is
+    /// 0.0 then, and `y + a·0.0` has the bits of `y` here, as in
+    /// [`super::Step::advance_unforced`]).
     #[inline(always)]
-    fn advance(&self, x: &[f64; N], w0: &[f64; 3], w1: &[f64; 3]) -> [f64; N] {
+    fn advance(&self, x: &[f64; N], w0: &[f64; 3], w1: &[f64; 3], unforced: bool) -> [f64; N] {
+        if unforced {
+            self.advance_first::<2>(x, w0, w1)
+        } else {
+            self.advance_first::<3>(x, w0, w1)
+        }
+    }
+
+    /// The update with only the first `M` input columns.
+    #[inline(always)]
+    fn advance_first<const M: usize>(
+        &self,
+        x: &[f64; N],
+        w0: &[f64; 3],
+        w1: &[f64; 3],
+    ) -> [f64; N] {
         let mut y = [0.0; N];
         for (col, &xj) in self.phi.iter().zip(x) {
             for (yi, &a) in y.iter_mut().zip(col) {
                 *yi += a * xj;
             }
         }
-        for (col, &wj) in self.g0.iter().zip(w0) {
+        for (col, &wj) in self.g0.iter().zip(w0).take(M) {
             for (yi, &a) in y.iter_mut().zip(col) {
                 *yi += a * wj;
             }
         }
-        for (col, &wj) in self.g1.iter().zip(w1) {
+        for (col, &wj) in self.g1.iter().zip(w1).take(M) {
             for (yi, &a) in y.iter_mut().zip(col) {
                 *yi += a * wj;
             }
@@ -129,6 +147,12 @@ struct Flow<const N: usize> {
     a: [[f64; N]; N],
     b: [[f64; N]; 5],
     c: [f64; N],
+    /// Whether the first half of the rows is the kinematic `q̇ = q̇`
+    /// (`A = [[0, I], [·, ·]]`, no input or constant there), as
+    /// [`Vehicle::state_space_in`] builds it: those rows of `A v` are then
+    /// the second half of `v`, with the same bits as the dense product
+    /// (`0 + 0·v + … + 1·v_j + …` is `v_j` for finite `v`).
+    kinematic: bool,
 }
 
 impl<const N: usize> Flow<N> {
@@ -137,6 +161,7 @@ impl<const N: usize> Flow<N> {
             a: [[0.0; N]; N],
             b: [[0.0; N]; 5],
             c: [0.0; N],
+            kinematic: false,
         };
         for r in 0..N {
             for col in 0..N {
@@ -147,6 +172,12 @@ impl<const N: usize> Flow<N> {
             }
             f.c[r] = c[r];
         }
+        let n = N / 2;
+        f.kinematic = (0..n).all(|r| {
+            (0..N).all(|col| f.a[col][r] == if col == n + r { 1.0 } else { 0.0 })
+                && (0..5).all(|col| f.b[col][r] == 0.0)
+                && f.c[r] == 0.0
+        });
         f
     }
 
@@ -154,6 +185,18 @@ impl<const N: usize> Flow<N> {
     #[inline(always)]
     fn times(&self, v: &[f64; N]) -> [f64; N] {
         let mut y = [0.0; N];
+        if self.kinematic {
+            for i in 0..N / 2 {
+                y[i] = v[N / 2 + i];
+            }
+            let (_, bottom) = y.split_at_mut(N / 2);
+            for (col, &vj) in self.a.iter().zip(v) {
+                for (yi, &a) in bottom.iter_mut().zip(&col[N / 2..]) {
+                    *yi += a * vj;
+                }
+            }
+            return y;
+        }
         for (col, &vj) in self.a.iter().zip(v) {
             for (yi, &a) in y.iter_mut().zip(col) {
                 *yi += a * vj;
@@ -166,10 +209,11 @@ impl<const N: usize> Flow<N> {
     #[inline(always)]
     fn input(&self, u: &[f64; 5], with_constant: bool) -> [f64; N] {
         let mut y = if with_constant { self.c } else { [0.0; N] };
+        let from = if self.kinematic { N / 2 } else { 0 };
         for (col, &uj) in self.b.iter().zip(u) {
             if uj != 0.0 {
-                for (yi, &a) in y.iter_mut().zip(col) {
-                    *yi += a * uj;
+                for i in from..N {
+                    y[i] += col[i] * uj;
                 }
             }
         }
@@ -197,6 +241,7 @@ struct Cache<'a, const N: usize> {
 /// Codes per axle: 3 damper sides × 3 stops × 2 contacts.
 const AXLE_CODES: usize = 18;
 
+#[cfg(test)]
 fn axle_code(r: &AxleRegime) -> usize {
     let d = match r.damper {
         DamperSide::Mean => 0,
@@ -211,33 +256,52 @@ fn axle_code(r: &AxleRegime) -> usize {
     d + 3 * s + 9 * usize::from(!r.on_road)
 }
 
+#[cfg(test)]
 fn regime_key(r: &[AxleRegime; 2]) -> usize {
     axle_code(&r[0]) + AXLE_CODES * axle_code(&r[1])
 }
 
+/// The regime of a [`regime_key`].
+fn regime_of_key(key: usize) -> [AxleRegime; 2] {
+    let axle = |code: usize| AxleRegime {
+        damper: [DamperSide::Mean, DamperSide::Bump, DamperSide::Rebound][code % 3],
+        stop: [StopSide::Free, StopSide::Bump, StopSide::Rebound][code / 3 % 3],
+        on_road: code < 9,
+    };
+    [axle(key % AXLE_CODES), axle(key / AXLE_CODES)]
+}
+
 impl<const N: usize> Cache<'_, N> {
-    /// Regime `r`, discretised the first time it is met.
-    fn regime(&mut self, r: &[AxleRegime; 2]) -> &Regime<N> {
-        let key = regime_key(r);
+    /// The regime of `key` ([`regime_key`]), discretised the first time it
+    /// is met.
+    #[inline(always)]
+    fn regime(&mut self, key: usize) -> &Regime<N> {
         if self.slots[key].is_none() {
-            let (ss, c) = self.vehicle.state_space_in(r, self.force_x_m);
-            // The whole output interval as the exact path discretises it,
-            // so that one regime gives its samples bit for bit.
-            let (mut d, p) = discretise_state_space(&ss, self.h_s);
-            if let Some(f) = self.harmonic_hz {
-                harmonic_columns(&ss, f, self.h_s, &mut d);
-            }
-            let gc = c.iter().any(|v| *v != 0.0).then(|| &p * &c);
-            self.slots[key] = Some(Box::new(Regime {
-                update: fixed(&d, gc.as_ref()),
-                flow: Flow::new(&ss, &c),
-            }));
-            self.met += 1;
+            self.fill(key);
         }
         match self.slots[key].as_deref() {
             Some(r) => r,
             None => unreachable!("filled above"),
         }
+    }
+
+    #[cold]
+    #[inline(never)]
+    fn fill(&mut self, key: usize) {
+        let r = regime_of_key(key);
+        let (ss, c) = self.vehicle.state_space_in(&r, self.force_x_m);
+        // The whole output interval as the exact path discretises it,
+        // so that one regime gives its samples bit for bit.
+        let (mut d, p) = discretise_state_space(&ss, self.h_s);
+        if let Some(f) = self.harmonic_hz {
+            harmonic_columns(&ss, f, self.h_s, &mut d);
+        }
+        let gc = c.iter().any(|v| *v != 0.0).then(|| &p * &c);
+        self.slots[key] = Some(Box::new(Regime {
+            update: fixed(&d, gc.as_ref()),
+            flow: Flow::new(&ss, &c),
+        }));
+        self.met += 1;
     }
 }
 
@@ -333,6 +397,14 @@ impl Inputs {
         [lerp(iv.w0[0], iv.w1[0]), lerp(iv.w0[1], iv.w1[1]), force_n]
     }
 
+    /// Axle `i`'s road elevation `s_s` into the interval, as [`Inputs::at`]
+    /// gives it (the same expression, so the same bits).
+    #[inline(always)]
+    fn elevation_at(&self, iv: &Interval, s_s: f64, i: usize) -> f64 {
+        let f = s_s / self.h_s;
+        iv.w0[i] + f * (iv.w1[i] - iv.w0[i])
+    }
+
     fn series_at(&self, iv: &Interval, s_s: f64) -> InputSeries {
         let w = self.at(iv, s_s);
         let [rf, rr] = iv.rate_m_s;
@@ -382,6 +454,7 @@ impl<const N: usize> Series<N> {
 
     /// Fills the terms for `x` and `inputs`; returns the longest piece
     /// (`len_s`, halved as needed) over which they have converged.
+    #[inline(always)]
     fn build(&mut self, flow: &Flow<N>, x: &[f64; N], inputs: &InputSeries, len_s: f64) -> f64 {
         let s = self;
         s.terms = MAX_TERMS;
@@ -432,6 +505,18 @@ impl<const N: usize> Series<N> {
         len
     }
 
+    /// The series of the components `j` of the state, side by side.
+    fn part(&self, j: [usize; 3]) -> Part {
+        let mut p = Part {
+            e: [[0.0; 3]; MAX_TERMS],
+            terms: self.terms,
+        };
+        for (pk, ek) in p.e.iter_mut().zip(&self.e[..self.terms]) {
+            *pk = j.map(|j| ek[j]);
+        }
+        p
+    }
+
     /// `x(σ)` by Horner's rule.
     #[inline]
     fn eval(&self, sigma_s: f64) -> [f64; N] {
@@ -442,6 +527,27 @@ impl<const N: usize> Series<N> {
             }
         }
         y
+    }
+}
+
+/// A few components of a [`Series`], side by side.
+struct Part {
+    e: [[f64; 3]; MAX_TERMS],
+    terms: usize,
+}
+
+impl Part {
+    /// The components at `σ`, each by Horner's rule as in [`Series::eval`]
+    /// (so with the same bits).
+    #[inline]
+    fn eval(&self, sigma_s: f64) -> [f64; 3] {
+        let mut v = self.e[self.terms - 1];
+        for e in self.e[..self.terms - 1].iter().rev() {
+            for (v, &ek) in v.iter_mut().zip(e) {
+                *v = *v * sigma_s + ek;
+            }
+        }
+        v
     }
 }
 
@@ -479,14 +585,14 @@ impl<const N: usize> Convergence<N> {
     /// Takes the next term; true once two terms in a row were negligible.
     #[inline]
     fn push(&mut self, term: &[f64; N]) -> bool {
-        let mut small = self.k > 1;
+        let mut large = 0usize;
         for (m, &t) in self.largest.iter_mut().zip(term) {
             let size = t.abs() * self.scale;
-            if size > TERM_TOL * *m {
-                small = false;
-            }
-            *m = m.max(size);
+            large |= usize::from(size > TERM_TOL * *m);
+            // `m.max(size)`, as `m` is never NaN (a NaN size leaves it).
+            *m = if size > *m { size } else { *m };
         }
+        let small = self.k > 1 && large == 0;
         self.small_run = if small { self.small_run + 1 } else { 0 };
         self.scale *= self.len_s;
         self.k += 1;
@@ -509,6 +615,52 @@ enum Switching {
 }
 
 impl Switching {
+    fn axle(self) -> usize {
+        match self {
+            Switching::Rate(i)
+            | Switching::BumpStop(i, _)
+            | Switching::ReboundStop(i, _)
+            | Switching::Contact(i) => i,
+        }
+    }
+
+    /// The components of the state [`Switching::value`] reads, for an axle
+    /// whose wheel stands on a tyre: travel reads the body's and wheel's
+    /// positions, travel rate their rates, the tyre's margin the wheel's
+    /// position and rate (read twice here)
+    /// ([`ElementModel::axle_margins_of_state`]). `None` otherwise: then
+    /// the whole state is read.
+    fn reads<const N: usize>(self, probe: &Probe<'_>) -> Option<[usize; 3]> {
+        let n = N / 2;
+        let w = probe.tyred[self.axle()].filter(|t| t.wheel < n)?.wheel;
+        Some(match self {
+            Switching::Rate(_) => [n, n + 1, n + w],
+            Switching::BumpStop(..) | Switching::ReboundStop(..) => [0, 1, w],
+            Switching::Contact(_) => [w, n + w, w],
+        })
+    }
+
+    /// [`Switching::value`] for an axle whose wheel stands on tyre `t`,
+    /// from the components [`Switching::reads`] names, in the element
+    /// model's arithmetic term for term (`ElementModel::axle_margins_by`),
+    /// so with the same bits; `road` gives the axle's road elevation and
+    /// rate (read only for the contact margin).
+    #[inline(always)]
+    fn value_on_tyre(self, t: &TyreAxle, y: [f64; 3], road: impl Fn() -> (f64, f64)) -> f64 {
+        // Body point then wheel: `(z_w − (z_0 + x θ))`, positions or rates.
+        let relative = || y[2] - (y[0] + t.x_m * y[1]);
+        match self {
+            Switching::Rate(_) => relative(),
+            Switching::BumpStop(_, c) => relative() - c,
+            Switching::ReboundStop(_, c) => -relative() - c,
+            Switching::Contact(_) => {
+                let (elevation_m, rate_m_s) = road();
+                let ft = t.rate_n_m * (elevation_m - y[0]) + t.damping_n_s_m * (rate_m_s - y[1]);
+                ft + t.static_n
+            }
+        }
+    }
+
     fn value<const N: usize>(
         self,
         model: &ElementModel<'_>,
@@ -575,6 +727,10 @@ struct Probe<'a> {
     /// Per axle: bump and rebound clearances (infinite when absent, which
     /// no travel passes, as `regime_of` never engages an absent stop).
     clearance_m: [(f64, f64); 2],
+    /// Per axle: its wheel and tyre, when it has them.
+    tyred: [Option<TyreAxle>; 2],
+    /// Both, when both axles have them.
+    tyred_both: Option<[TyreAxle; 2]>,
 }
 
 impl<'a> Probe<'a> {
@@ -588,42 +744,138 @@ impl<'a> Probe<'a> {
                 )
             })
         };
+        let tyred = [0, 1].map(|i| {
+            let t = axle(i).tyre?;
+            Some(TyreAxle {
+                x_m: axle(i).x_m,
+                wheel: vehicle.wheel_dof(i)?,
+                rate_n_m: t.rate_n_m,
+                damping_n_s_m: t.damping_n_s_m,
+                static_n: vehicle.static_contact_n()[i],
+            })
+        });
         Probe {
             model: vehicle.element_model(),
             asymmetric: [0, 1].map(|i| axle(i).damper.is_asymmetric()),
             clearance_m: [clearance(0), clearance(1)],
+            tyred,
+            tyred_both: match tyred {
+                [Some(f), Some(r)] => Some([f, r]),
+                _ => None,
+            },
         }
     }
 
     /// The regime at `x` with held inputs `w` (road rates of the hold).
-    #[inline]
+    #[cfg(test)]
     fn regime<const N: usize>(
         &self,
         x: &[f64; N],
         w: &[f64; 3],
         rate_m_s: [f64; 2],
     ) -> [AxleRegime; 2] {
-        let road = road(w, rate_m_s);
-        let mut out = [AxleRegime::LINEAR; 2];
-        for (i, r) in out.iter_mut().enumerate() {
-            let (travel, rate, margin) = self.model.axle_margins_of_state(i, x, &road);
-            if self.asymmetric[i] {
-                r.damper = if rate >= 0.0 {
-                    DamperSide::Bump
-                } else {
-                    DamperSide::Rebound
-                };
-            }
-            let (bump_m, rebound_m) = self.clearance_m[i];
-            if travel > bump_m {
-                r.stop = StopSide::Bump;
-            } else if travel < -rebound_m {
-                r.stop = StopSide::Rebound;
-            }
-            r.on_road = !(margin < 0.0);
-        }
-        out
+        regime_of_key(self.key(x, w, rate_m_s))
     }
+
+    /// The [`regime_key`] of the regime at `x` with held inputs `w` (road
+    /// rates of the hold).
+    #[inline(always)]
+    fn key<const N: usize>(&self, x: &[f64; N], w: &[f64; 3], rate_m_s: [f64; 2]) -> usize {
+        self.keys(x, w, rate_m_s, rate_m_s).0
+    }
+
+    /// [`Probe::key`] at one state and elevation for two road rates: the
+    /// end of an interval and the start of the next (the state-only
+    /// arithmetic is done once).
+    #[inline(always)]
+    fn keys<const N: usize>(
+        &self,
+        x: &[f64; N],
+        w: &[f64; 3],
+        rate_m_s: [f64; 2],
+        next_rate_m_s: [f64; 2],
+    ) -> (usize, usize) {
+        if let Some(t) = self
+            .tyred_both
+            .as_ref()
+            .filter(|t| t[0].wheel.max(t[1].wheel) < N / 2)
+        {
+            let (a0, b0) = self.tyre_codes(0, &t[0], x, w, rate_m_s, next_rate_m_s);
+            let (a1, b1) = self.tyre_codes(1, &t[1], x, w, rate_m_s, next_rate_m_s);
+            return (a0 + AXLE_CODES * a1, b0 + AXLE_CODES * b1);
+        }
+        let (a0, b0) = self.axle_codes(0, x, w, rate_m_s, next_rate_m_s);
+        let (a1, b1) = self.axle_codes(1, x, w, rate_m_s, next_rate_m_s);
+        (a0 + AXLE_CODES * a1, b0 + AXLE_CODES * b1)
+    }
+
+    /// [`Probe::axle_codes`] of axle `i`, whose wheel stands on tyre `t`:
+    /// `ElementModel::axle_margins_by` term for term (so bit for bit), the
+    /// tyre's elastic part shared by the two rates.
+    #[inline(always)]
+    fn tyre_codes<const N: usize>(
+        &self,
+        i: usize,
+        t: &TyreAxle,
+        x: &[f64; N],
+        w: &[f64; 3],
+        rate_m_s: [f64; 2],
+        next_rate_m_s: [f64; 2],
+    ) -> (usize, usize) {
+        let n = N / 2;
+        let zb = x[0] + t.x_m * x[1];
+        let vb = x[n] + t.x_m * x[n + 1];
+        let (zw, vw) = (x[t.wheel], x[n + t.wheel]);
+        let side = self.side_code(i, zw - zb, vw - vb);
+        let elastic_n = t.rate_n_m * (w[i] - zw);
+        let off =
+            |r: f64| 9 * usize::from(elastic_n + t.damping_n_s_m * (r - vw) + t.static_n < 0.0);
+        (side + off(rate_m_s[i]), side + off(next_rate_m_s[i]))
+    }
+
+    /// Axle `i`'s [`axle_code`] for the two road rates.
+    #[inline(always)]
+    fn axle_codes<const N: usize>(
+        &self,
+        i: usize,
+        x: &[f64; N],
+        w: &[f64; 3],
+        rate_m_s: [f64; 2],
+        next_rate_m_s: [f64; 2],
+    ) -> (usize, usize) {
+        if let Some(t) = self.tyred[i].as_ref().filter(|t| t.wheel < N / 2) {
+            return self.tyre_codes(i, t, x, w, rate_m_s, next_rate_m_s);
+        }
+        let code = |rate: [f64; 2]| {
+            let road = road(w, rate);
+            let (travel, rate, margin) = self.model.axle_margins_of_state(i, x, &road);
+            self.side_code(i, travel, rate) + 9 * usize::from(margin < 0.0)
+        };
+        (code(rate_m_s), code(next_rate_m_s))
+    }
+
+    /// The damper and stop part of [`axle_code`] of axle `i` from its
+    /// travel and travel rate, compared as [`regime_of`] compares them.
+    #[inline(always)]
+    fn side_code(&self, i: usize, travel: f64, rate: f64) -> usize {
+        // Bump at a rate ≥ 0, rebound below (or NaN), for a one-sided damper.
+        let damper = usize::from(self.asymmetric[i]) * (1 + usize::from(!(rate >= 0.0)));
+        let (bump_m, rebound_m) = self.clearance_m[i];
+        // Past the bump clearance, else past the rebound clearance.
+        let bump = travel > bump_m;
+        let stop = usize::from(bump) + 2 * usize::from(!bump & (travel < -rebound_m));
+        damper + 3 * stop
+    }
+}
+
+/// An axle whose wheel stands on a tyre, as the element model reads it.
+#[derive(Debug, Clone, Copy)]
+struct TyreAxle {
+    x_m: f64,
+    wheel: usize,
+    rate_n_m: f64,
+    damping_n_s_m: f64,
+    static_n: f64,
 }
 
 fn road(w: &[f64; 3], rate_m_s: [f64; 2]) -> RoadState {
@@ -642,8 +894,47 @@ pub(super) fn run(
     super::by_model_size!(
         vehicle.dof_count(),
         "piecewise-exact",
-        run_fixed(vehicle, excitation, plan, sink)
+        run_fixed_fastest(vehicle, excitation, plan, sink)
     )
+}
+
+/// [`run_fixed`] compiled for AVX where the processor has it, otherwise as
+/// built: the per-interval loop (the whole-interval update and the probe),
+/// not the walk across a switch ([`Walk::across`], compiled apart). As for
+/// the exact path, each lane is the same multiply then add in the same
+/// order, with no fused multiply–add, so the numbers are the same bit for
+/// bit on either path.
+fn run_fixed_fastest<const N: usize, const D: usize>(
+    vehicle: &Vehicle,
+    excitation: &Excitation<'_>,
+    plan: &Plan,
+    sink: &mut dyn SampleSink,
+) -> Result<RunInfo, SolveError> {
+    #[cfg(target_arch = "x86_64")]
+    if std::arch::is_x86_feature_detected!("avx") {
+        // SAFETY: the processor has AVX, checked just above.
+        return unsafe { run_fixed_avx::<N, D>(vehicle, excitation, plan, sink) };
+    }
+    run_fixed::<N, D>(vehicle, excitation, plan, sink)
+}
+
+fn has_avx() -> bool {
+    #[cfg(target_arch = "x86_64")]
+    return std::arch::is_x86_feature_detected!("avx");
+    #[cfg(not(target_arch = "x86_64"))]
+    false
+}
+
+/// [`run_fixed`] with AVX enabled (see [`run_fixed_fastest`]).
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx")]
+fn run_fixed_avx<const N: usize, const D: usize>(
+    vehicle: &Vehicle,
+    excitation: &Excitation<'_>,
+    plan: &Plan,
+    sink: &mut dyn SampleSink,
+) -> Result<RunInfo, SolveError> {
+    run_fixed::<N, D>(vehicle, excitation, plan, sink)
 }
 
 /// State of the stepping across intervals.
@@ -654,6 +945,10 @@ struct Walk<'a, const N: usize> {
     stats: PiecewiseStats,
     /// The series' storage, reused from switch to switch.
     series: Option<Box<Series<N>>>,
+    /// No body force: the update leaves out its columns.
+    unforced: bool,
+    /// The processor has AVX.
+    avx: bool,
 }
 
 impl<const N: usize> Walk<'_, N> {
@@ -670,42 +965,93 @@ impl<const N: usize> Walk<'_, N> {
         }
     }
 
-    /// Advances `x` across one output interval; returns the regime at its
-    /// end. The whole-interval update is tried first; only when the regime
-    /// at its end differs is the interval walked along the series.
-    fn interval(&mut self, x: &mut [f64; N], iv: &Interval) -> [AxleRegime; 2] {
-        let start = self.probe.regime(x, &iv.w0, iv.rate_m_s);
-        let x_try = self.cache.regime(&start).update.advance(x, &iv.w0, &iv.w1);
-        let end = self.probe.regime(&x_try, &iv.w1, iv.rate_m_s);
+    /// Advances `x` across one output interval that starts in the regime
+    /// of key `start`; returns the key of the regime the next interval
+    /// starts in (read with its road rates `next_rate_m_s`, if there is a
+    /// next one). The whole-interval update is tried first; only when the
+    /// regime at its end differs is the interval walked along the series.
+    #[inline(always)]
+    fn interval(
+        &mut self,
+        x: &mut [f64; N],
+        iv: &Interval,
+        start: usize,
+        next_rate_m_s: Option<[f64; 2]>,
+    ) -> usize {
+        let unforced = self.unforced;
+        let x_try = self
+            .cache
+            .regime(start)
+            .update
+            .advance(x, &iv.w0, &iv.w1, unforced);
+        let (end, next) = match next_rate_m_s {
+            Some(r) => self.probe.keys(&x_try, &iv.w1, iv.rate_m_s, r),
+            None => {
+                let end = self.probe.key(&x_try, &iv.w1, iv.rate_m_s);
+                (end, end)
+            }
+        };
         if end == start {
             *x = x_try;
-            return end;
+            return next;
         }
-        self.across(x, iv, start)
+        let end = self.across(x, iv, start, end);
+        match next_rate_m_s {
+            Some(r) => self.probe.key(x, &iv.w1, r),
+            None => end,
+        }
     }
 
     /// Walks an interval that has a switch: piece by piece along each
     /// regime's series, each switch located on its switching function.
-    fn across(
+    #[cold]
+    #[inline(never)]
+    fn across(&mut self, x: &mut [f64; N], iv: &Interval, regime: usize, end: usize) -> usize {
+        #[cfg(target_arch = "x86_64")]
+        if self.avx {
+            // SAFETY: `avx` is set only where the processor has AVX.
+            return unsafe { self.across_avx(x, iv, regime, end) };
+        }
+        self.across_as_built(x, iv, regime, end)
+    }
+
+    /// [`Walk::across`] with AVX enabled (same multiply-then-add order,
+    /// no FMA, so the same bits).
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "avx")]
+    fn across_avx(&mut self, x: &mut [f64; N], iv: &Interval, regime: usize, end: usize) -> usize {
+        self.across_as_built(x, iv, regime, end)
+    }
+
+    #[inline(always)]
+    fn across_as_built(
         &mut self,
         x: &mut [f64; N],
         iv: &Interval,
-        regime: [AxleRegime; 2],
-    ) -> [AxleRegime; 2] {
+        regime: usize,
+        end: usize,
+    ) -> usize {
         let mut series = self.series.take().unwrap_or_else(Series::new);
-        let end = self.walk(&mut series, x, iv, regime);
+        let end = self.walk(&mut series, x, iv, regime, end);
         self.series = Some(series);
         end
     }
 
+    #[inline(always)]
     fn walk(
         &mut self,
         series: &mut Series<N>,
         x: &mut [f64; N],
         iv: &Interval,
-        mut regime: [AxleRegime; 2],
-    ) -> [AxleRegime; 2] {
+        mut regime: usize,
+        whole_end: usize,
+    ) -> usize {
         let h_s = self.cache.h_s;
+        // The regime at the end of the whole-interval update (which differs
+        // from `regime`): that of the first piece's end when the piece is
+        // the whole interval (the same solution, up to rounding), so that
+        // end is not read again.
+        let mut whole_end = Some(whole_end);
         let (mut s0, mut switches) = (0.0f64, 0u32);
         // Past the cap, pieces of a fixed length, not located.
         let mut capped_piece_s: Option<f64> = None;
@@ -713,7 +1059,7 @@ impl<const N: usize> Walk<'_, N> {
             let remaining = h_s - s0;
             let want = capped_piece_s.map_or(remaining, |p| p.min(remaining));
             let inputs = self.inputs.series_at(iv, s0);
-            let flow = &self.cache.regime(&regime).flow;
+            let flow = &self.cache.regime(regime).flow;
             let len = series.build(flow, x, &inputs, want);
             let last = len >= remaining;
             let w_end = if last {
@@ -721,10 +1067,13 @@ impl<const N: usize> Walk<'_, N> {
             } else {
                 self.inputs.at(iv, s0 + len)
             };
-            let x_end = series.eval(if last { remaining } else { len });
-            let end = self.probe.regime(&x_end, &w_end, iv.rate_m_s);
+            let piece_s = if last { remaining } else { len };
+            let end = match whole_end.take() {
+                Some(end) if last => end,
+                _ => self.probe.key(&series.eval(piece_s), &w_end, iv.rate_m_s),
+            };
             if end == regime || capped_piece_s.is_some() {
-                *x = x_end;
+                *x = series.eval(piece_s);
                 regime = end;
                 if last {
                     return regime;
@@ -732,7 +1081,8 @@ impl<const N: usize> Walk<'_, N> {
                 s0 += len;
                 continue;
             }
-            let sigma = self.locate(series, iv, s0, len.min(remaining), &regime, &end);
+            let (from, to) = (regime_of_key(regime), regime_of_key(end));
+            let sigma = self.locate(series, iv, s0, len.min(remaining), &from, &to);
             let at_end = last && sigma >= remaining;
             let w = if at_end {
                 iv.w1
@@ -740,10 +1090,10 @@ impl<const N: usize> Walk<'_, N> {
                 self.inputs.at(iv, s0 + sigma)
             };
             *x = series.eval(sigma);
-            let new = self.probe.regime(x, &w, iv.rate_m_s);
+            let new = self.probe.key(x, &w, iv.rate_m_s);
             switches += 1;
             if new != regime {
-                self.count(&regime, &new);
+                self.count(&from, &regime_of_key(new));
             }
             regime = new;
             if at_end {
@@ -757,11 +1107,48 @@ impl<const N: usize> Walk<'_, N> {
         }
     }
 
+    /// Switching function `f` at `sigma` into the piece of `series`, which
+    /// is `at_s` into the interval: from `part` (its components) where the
+    /// axle stands on a tyre, otherwise from the whole state.
+    #[inline(always)]
+    fn switching_value(
+        &self,
+        f: Switching,
+        part: Option<&Part>,
+        series: &Series<N>,
+        iv: &Interval,
+        at_s: f64,
+        sigma: f64,
+    ) -> f64 {
+        let i = f.axle();
+        match (part, &self.probe.tyred[i]) {
+            (Some(p), Some(t)) => f.value_on_tyre(t, p.eval(sigma), || {
+                (self.inputs.elevation_at(iv, at_s, i), iv.rate_m_s[i])
+            }),
+            _ => self.switching_value_of_state(f, series, iv, at_s, sigma),
+        }
+    }
+
+    /// [`Walk::switching_value`] from the whole state.
+    #[inline(never)]
+    fn switching_value_of_state(
+        &self,
+        f: Switching,
+        series: &Series<N>,
+        iv: &Interval,
+        at_s: f64,
+        sigma: f64,
+    ) -> f64 {
+        let w = self.inputs.at(iv, at_s);
+        f.value(&self.probe.model, &series.eval(sigma), &road(&w, iv.rate_m_s))
+    }
+
     /// The first instant in `(0, len]` after `s0` at which one of the
     /// switching functions that differ between `from` and `to` changes
     /// side, to [`LOCATE_WIDTH`]: the earliest of their roots, each found by the
     /// Illinois variant of regula falsi on the series (Dowell & Jarratt,
     /// BIT 11, 1971), returned on the new side of the bracket.
+    #[inline(always)]
     fn locate(
         &self,
         series: &Series<N>,
@@ -771,23 +1158,17 @@ impl<const N: usize> Walk<'_, N> {
         from: &[AxleRegime; 2],
         to: &[AxleRegime; 2],
     ) -> f64 {
-        let value = |f: Switching, sigma: f64| {
-            let w = self.inputs.at(iv, s0 + sigma);
-            f.value(
-                &self.probe.model,
-                &series.eval(sigma),
-                &road(&w, iv.rate_m_s),
-            )
-        };
         let mut first = len;
         for f in candidates(self.probe.model.vehicle(), from, to) {
-            let g0 = value(f, 0.0);
-            let g1 = value(f, first);
+            let part = f.reads::<N>(&self.probe).map(|j| series.part(j));
+            let reads = part.as_ref();
+            let g0 = self.switching_value(f, reads, series, iv, s0, 0.0);
+            let g1 = self.switching_value(f, reads, series, iv, s0 + first, first);
             if f.side(g0) == f.side(g1) {
                 continue;
             }
             first = illinois(
-                |s| value(f, s),
+                |s| self.switching_value(f, reads, series, iv, s0 + s, s),
                 |g| f.side(g) == f.side(g0),
                 (0.0, g0),
                 (first, g1),
@@ -811,6 +1192,7 @@ const CAPPED_PIECES: f64 = 16.0;
 /// (not): the Illinois method, bisecting when a step would leave the
 /// bracket; returns the bracket's new-side end once the bracket is a few
 /// rounding units wide.
+#[inline(always)]
 fn illinois(
     g: impl Fn(f64) -> f64,
     old: impl Fn(f64) -> bool,
@@ -847,6 +1229,7 @@ fn illinois(
     hi
 }
 
+#[inline(always)]
 fn run_fixed<const N: usize, const D: usize>(
     vehicle: &Vehicle,
     excitation: &Excitation<'_>,
@@ -882,9 +1265,22 @@ fn run_fixed<const N: usize, const D: usize>(
         },
         stats: PiecewiseStats::default(),
         series: None,
+        unforced: excitation.force.is_none(),
+        avx: has_avx(),
     };
     let mut x = [0.0; N];
-    let mut inputs = excitation.at(0.0);
+    let road = excitation.profile.reader();
+    let at = |k: usize| excitation.at_with(&road, k as f64 * dt);
+    let rate_of = |w0: &[f64; 3], w1: &[f64; 3]| [(w1[0] - w0[0]) / dt, (w1[1] - w0[1]) / dt];
+    let last = total - 1;
+    let mut inputs = at(0);
+    // The inputs of the next sample too, so that the end of each interval
+    // also reads the regime the next one starts in.
+    let mut next = at(last.min(1));
+    let mut start = {
+        let (w0, w1) = (hold_inputs(&inputs), hold_inputs(&next));
+        walk.probe.key(&x, &w0, rate_of(&w0, &w1))
+    };
     for k in 0..total {
         let t = k as f64 * dt;
         let mut q = [0.0; MAX_DOF];
@@ -902,17 +1298,23 @@ fn run_fixed<const N: usize, const D: usize>(
         );
         super::check_block(k, &x, t, vehicle)?;
         sink.accept(&sample)?;
-        if k + 1 < total {
-            let next = excitation.at((k + 1) as f64 * dt);
-            let (w0, w1) = (hold_inputs(&inputs), hold_inputs(&next));
+        if k < last {
+            let after = at(last.min(k + 2));
+            let (w0, w1, w2) = (
+                hold_inputs(&inputs),
+                hold_inputs(&next),
+                hold_inputs(&after),
+            );
             let iv = Interval {
                 t0_s: t,
                 w0,
                 w1,
-                rate_m_s: [(w1[0] - w0[0]) / dt, (w1[1] - w0[1]) / dt],
+                rate_m_s: rate_of(&w0, &w1),
             };
-            walk.interval(&mut x, &iv);
+            let next_rate = (k + 1 < last).then(|| rate_of(&w1, &w2));
+            start = walk.interval(&mut x, &iv, start, next_rate);
             inputs = next;
+            next = after;
         }
     }
     super::check_finite(&x, (total - 1) as f64 * dt, vehicle)?;
