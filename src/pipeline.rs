@@ -473,8 +473,9 @@ fn run_streaming(
     }
     // The energy ledger goes with the other evaluators: with their chunk
     // loops the two threads are then about even (20 km class C exact run,
-    // callgrind: solver 615 M instructions, evaluators 587 M; with the
-    // ledger beside the solver 798 M and 404 M).
+    // callgrind: solver 589 M instructions, evaluators with half the
+    // profile's parsing 613 M; with the ledger beside the solver 798 M and
+    // 404 M).
     let evaluators = &mut *sink;
     let result = std::thread::scope(|scope| {
         let (tx, rx) = mpsc::sync_channel::<Handover>(CHUNKS_IN_FLIGHT);
