@@ -559,6 +559,13 @@ mod tests {
         read_profile_from(text.as_bytes(), Path::new("road.csv"))
     }
 
+    /// A profile and its CSV as `write_profile_csv` prints it.
+    fn written(p: Profile) -> (Profile, Vec<u8>) {
+        let mut csv = Vec::new();
+        write_profile_csv(&p, &mut csv).unwrap();
+        (p, csv)
+    }
+
     #[test]
     fn reads_uniform_rows_and_ignores_other_columns() {
         let (p, w) =
@@ -730,15 +737,13 @@ mod tests {
             assert_eq!(read(text).unwrap().0, general);
         }
         // A file large enough to be parsed in two halves.
-        let p = Profile::new(
+        let (p, big) = written(Profile::new(
             0.0,
             0.05,
             (0..60_000)
                 .map(|i| 1e-3 * (i as f64 * 0.37).sin())
                 .collect(),
-        );
-        let mut big = Vec::new();
-        write_profile_csv(&p, &mut big).unwrap();
+        ));
         assert!(big.len() >= PARALLEL_PARSE_BYTES);
         let direct = read_plain(&big).expect("plain file takes the direct path");
         let (general, _) = read_general(&big, Path::new("road.csv")).unwrap();
@@ -814,15 +819,13 @@ mod tests {
             }
         }
         // Large enough to be cut in two halves, and cut into many blocks.
-        let p = Profile::new(
+        let (_, big) = written(Profile::new(
             3.0,
             0.05,
             (0..60_000)
                 .map(|i| 1e-3 * (i as f64 * 0.37).sin())
                 .collect(),
-        );
-        let mut big = Vec::new();
-        write_profile_csv(&p, &mut big).unwrap();
+        ));
         assert!(big.len() >= PARALLEL_PARSE_BYTES + 64);
         let (general, _) = read_general(&big, Path::new("road.csv")).unwrap();
         for block in [4096, 65_537, streamed::BLOCK_BYTES] {
@@ -882,15 +885,13 @@ mod tests {
     #[test]
     fn a_large_file_on_disk_reads_as_the_general_reader_reads_it() {
         // Reference: the general reader (`csv` crate) on the same bytes.
-        let p = Profile::new(
+        let (_, big) = written(Profile::new(
             0.0,
             0.1,
             (0..50_000)
                 .map(|i| 2e-3 * (i as f64 * 0.11).cos())
                 .collect(),
-        );
-        let mut big = Vec::new();
-        write_profile_csv(&p, &mut big).unwrap();
+        ));
         let path =
             std::env::temp_dir().join(format!("roughride-csv-io-{}.csv", std::process::id()));
         std::fs::write(&path, &big).unwrap();

@@ -1140,7 +1140,11 @@ impl<const N: usize> Walk<'_, N> {
         sigma: f64,
     ) -> f64 {
         let w = self.inputs.at(iv, at_s);
-        f.value(&self.probe.model, &series.eval(sigma), &road(&w, iv.rate_m_s))
+        f.value(
+            &self.probe.model,
+            &series.eval(sigma),
+            &road(&w, iv.rate_m_s),
+        )
     }
 
     /// The first instant in `(0, len]` after `s0` at which one of the
