@@ -218,7 +218,7 @@ impl Meter {
     /// Adds every sample of `accel_m_s2` in order: the same as calling
     /// [`Meter::push`] on each, bit for bit, with the filter state and the
     /// sums held in locals for the whole loop.
-    #[inline]
+    #[inline(always)]
     pub fn push_all(&mut self, accel_m_s2: impl Iterator<Item = f64>) {
         let mut sums = self.sums;
         let ring = &mut self.ring[..];
