@@ -1050,40 +1050,35 @@ impl Evaluators<'_> {
     /// [`Evaluators::push_floor_seats`] over a chunk, seat by seat.
     #[inline(always)]
     fn push_floor_seats_chunk(&mut self, chunk: &[Sample]) {
-        let x_m = &self.seat_x_m;
-        push_meters(&mut self.seats, x_m, chunk, |s, x| {
-            s.body_point_accel_m_s2(x)
-        });
-        for (fa, &h) in self.fore_aft.iter_mut().zip(&self.seat_h_m) {
-            if h != 0.0 {
-                fa.push_all(chunk.iter().map(|s| fore_aft_accel_m_s2(s, h)));
-            }
-        }
+        let seats = self.seats.iter_mut().zip(self.seat_x_m.iter().copied());
+        push_meters(seats, chunk, |s, x| s.body_point_accel_m_s2(x));
+        self.push_fore_aft_chunk(chunk);
     }
 
     /// [`Evaluators::push_seats_general`] over a chunk, seat by seat.
     #[inline(always)]
     fn push_seats_general_chunk(&mut self, chunk: &[Sample]) {
-        push_meters(&mut self.seats, &self.seat_surface, chunk, |s, (x, dof)| {
-            seat_accel_m_s2(s, x, dof)
-        });
-        for ((f, &x), d) in self
-            .floor
-            .iter_mut()
-            .zip(&self.seat_x_m)
-            .zip(&self.seat_dof)
-        {
-            if let (Some((m, travel)), Some((_, slot))) = (f, d) {
-                m.push_all(chunk.iter().map(|s| s.body_point_accel_m_s2(x)));
+        let seats = self.seats.iter_mut().zip(self.seat_surface.iter().copied());
+        push_meters(seats, chunk, |s, (x, dof)| seat_accel_m_s2(s, x, dof));
+        let floors = (self.floor.iter_mut().zip(&self.seat_x_m))
+            .filter_map(|(f, &x)| f.as_mut().map(|(m, _)| (m, x)));
+        push_meters(floors, chunk, |s, x| s.body_point_accel_m_s2(x));
+        for (f, d) in self.floor.iter_mut().zip(&self.seat_dof) {
+            if let (Some((_, travel)), Some((_, slot))) = (f, d) {
                 let slot = *slot;
                 travel.push_all(chunk.iter().map(|s| s.elements.seat_travel_m[slot]));
             }
         }
-        for (m, &h) in self.fore_aft.iter_mut().zip(&self.seat_h_m) {
-            if h != 0.0 {
-                m.push_all(chunk.iter().map(|s| fore_aft_accel_m_s2(s, h)));
-            }
-        }
+        self.push_fore_aft_chunk(chunk);
+    }
+
+    /// The fore-aft meters of the seats above the CG height (a seat at
+    /// height 0 moves +0 fore and aft: its zeros are counted in `summary`).
+    #[inline(always)]
+    fn push_fore_aft_chunk(&mut self, chunk: &[Sample]) {
+        let raised = (self.fore_aft.iter_mut().zip(self.seat_h_m.iter().copied()))
+            .filter(|(_, h)| *h != 0.0);
+        push_meters(raised, chunk, fore_aft_accel_m_s2);
     }
 
     /// The seats' measures when every seat sits on the floor (the common
@@ -1180,28 +1175,27 @@ impl Evaluators<'_> {
     }
 }
 
-/// Pushes `accel(sample, params[i])` of every sample of `chunk` into
-/// `meters[i]`, two meters at a time ([`Meter::push_all_pair`]: the same
-/// measures, bit for bit, as one at a time).
+/// Pushes `accel(sample, p)` of every sample of `chunk` into each meter of
+/// `meters` with its `p`, two meters at a time ([`Meter::push_all_pair`]:
+/// the same measures, bit for bit, as one at a time).
 #[inline(always)]
-fn push_meters<P: Copy>(
-    meters: &mut [Meter],
-    params: &[P],
+fn push_meters<'m, P: Copy>(
+    meters: impl Iterator<Item = (&'m mut Meter, P)>,
     chunk: &[Sample],
     accel: impl Fn(&Sample, P) -> f64 + Copy,
 ) {
-    let mut pairs = meters.chunks_exact_mut(2).zip(params.chunks_exact(2));
-    for (pair, p) in &mut pairs {
-        if let ([a, b], &[pa, pb]) = (pair, p) {
-            let both = move |s: &Sample| [accel(s, pa), accel(s, pb)];
-            Meter::push_all_pair(a, b, chunk.iter().map(both));
+    let mut waiting: Option<(&mut Meter, P)> = None;
+    for (m, p) in meters {
+        match waiting.take() {
+            None => waiting = Some((m, p)),
+            Some((a, pa)) => {
+                let both = move |s: &Sample| [accel(s, pa), accel(s, p)];
+                Meter::push_all_pair(a, m, chunk.iter().map(both));
+            }
         }
     }
-    let last = meters.len().wrapping_sub(1);
-    if last % 2 == 0 {
-        if let (Some(m), Some(&p)) = (meters.last_mut(), params.get(last)) {
-            m.push_all(chunk.iter().map(|s| accel(s, p)));
-        }
+    if let Some((m, p)) = waiting {
+        m.push_all(chunk.iter().map(|s| accel(s, p)));
     }
 }
 

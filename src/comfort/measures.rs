@@ -160,8 +160,11 @@ impl PairSums {
 
     /// [`Sums::add`] on both lanes (the same operations in the same order;
     /// its two branches on a new maximum are [`F2::greater_or`]).
+    ///
+    /// # Safety
+    /// Both rings have one length, above `ring_pos` (which this keeps so).
     #[inline(always)]
-    fn add(&mut self, ring_a: &mut [f64], ring_b: &mut [f64], x: F2, w: F2) {
+    unsafe fn add(&mut self, ring_a: &mut [f64], ring_b: &mut [f64], x: F2, w: F2) {
         let w2 = w * w;
         self.n += 1;
         self.sum_x2 = self.sum_x2 + x * x;
@@ -171,10 +174,14 @@ impl PairSums {
 
         let len = ring_a.len();
         let [wa, wb] = w2.lanes();
-        let old = F2::new(
-            std::mem::replace(&mut ring_a[self.ring_pos], wa),
-            std::mem::replace(&mut ring_b[self.ring_pos], wb),
-        );
+        // SAFETY: `ring_pos < len` (the caller's promise), and it wraps to 0
+        // on reaching `len` below.
+        let old = unsafe {
+            F2::new(
+                std::mem::replace(ring_a.get_unchecked_mut(self.ring_pos), wa),
+                std::mem::replace(ring_b.get_unchecked_mut(self.ring_pos), wb),
+            )
+        };
         self.ring_pos += 1;
         self.ring_sum = self.ring_sum + (w2 - old);
         if self.ring_pos == len {
@@ -211,7 +218,7 @@ impl Meter {
     /// Adds every sample of `accel_m_s2` in order: the same as calling
     /// [`Meter::push`] on each, bit for bit, with the filter state and the
     /// sums held in locals for the whole loop.
-    #[inline]
+    #[inline(always)]
     pub fn push_all(&mut self, accel_m_s2: impl Iterator<Item = f64>) {
         let mut sums = self.sums;
         let ring = &mut self.ring[..];
@@ -234,7 +241,8 @@ impl Meter {
         let in_step = a.filter.same_design(&b.filter)
             && a.ring.len() == b.ring.len()
             && a.sums.n == b.sums.n
-            && a.sums.ring_pos == b.sums.ring_pos;
+            && a.sums.ring_pos == b.sums.ring_pos
+            && a.sums.ring_pos < a.ring.len();
         if !in_step {
             a.push_all(accel_m_s2.clone().map(|x| x[0]));
             b.push_all(accel_m_s2.map(|x| x[1]));
@@ -243,7 +251,9 @@ impl Meter {
         let mut sums = PairSums::of(&a.sums, &b.sums);
         let (ring_a, ring_b) = (&mut a.ring[..], &mut b.ring[..]);
         WeightingFilter::process_all_pair(&mut a.filter, &mut b.filter, accel_m_s2, |x, w| {
-            sums.add(ring_a, ring_b, x, w)
+            // SAFETY: the rings have one length, above `ring_pos` (checked
+            // in `in_step`).
+            unsafe { sums.add(ring_a, ring_b, x, w) }
         });
         sums.store(&mut a.sums, &mut b.sums);
     }

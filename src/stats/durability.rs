@@ -334,9 +334,30 @@ impl AxleDurability {
         force_n: impl Fn(&T) -> f64 + Copy,
         tyre_load_n: impl Fn(&T) -> f64 + Copy,
     ) {
-        // The travel's histograms, level crossings and time past the stops
-        // in one loop over the block. No stop: a clearance of ∞, which no
-        // travel (nor NaN) passes.
+        // Without stops nothing is past them: the loop without the tests.
+        let (bump, rebound) = match self.clearances_m {
+            (None, None) => self.push_travel::<false, T>(rows, travel_m),
+            _ => self.push_travel::<true, T>(rows, travel_m),
+        };
+        self.past_bump += bump;
+        self.past_rebound += rebound;
+        self.travel.push_rows(rows, travel_m);
+        self.force.push_rows(rows, force_n);
+        if let Some(t) = &mut self.tyre {
+            t.push_rows(rows, tyre_load_n);
+        }
+    }
+
+    /// The travel's histograms, level crossings and (with `STOPS`) time
+    /// past the stops in one loop over the block; returns the samples past
+    /// the bump and the rebound clearance.
+    #[inline(always)]
+    fn push_travel<const STOPS: bool, T>(
+        &mut self,
+        rows: &[T],
+        travel_m: impl Fn(&T) -> f64,
+    ) -> (u64, u64) {
+        // No stop: a clearance of ∞, which no travel (nor NaN) passes.
         let bump_m = self.clearances_m.0.unwrap_or(f64::INFINITY);
         let rebound_m = self.clearances_m.1.unwrap_or(f64::INFINITY);
         let (mut bump, mut rebound) = (0, 0);
@@ -346,18 +367,14 @@ impl AxleDurability {
         for t in rows.iter().map(travel_m) {
             histograms.push(t);
             crossings.push(t);
-            bump += (t > bump_m) as u64;
-            rebound += (t < -rebound_m) as u64;
+            if STOPS {
+                bump += (t > bump_m) as u64;
+                rebound += (t < -rebound_m) as u64;
+            }
         }
         histograms.finish();
         crossings.finish();
-        self.past_bump += bump;
-        self.past_rebound += rebound;
-        self.travel.push_rows(rows, travel_m);
-        self.force.push_rows(rows, force_n);
-        if let Some(t) = &mut self.tyre {
-            t.push_rows(rows, tyre_load_n);
-        }
+        (bump, rebound)
     }
 
     /// Closes the rainflow residues (by the settings' method) and returns
