@@ -506,15 +506,11 @@ impl<const N: usize> Series<N> {
     }
 
     /// The series of the components `j` of the state, side by side.
-    fn part(&self, j: [usize; 3]) -> Part {
-        let mut p = Part {
-            e: [[0.0; 3]; MAX_TERMS],
-            terms: self.terms,
-        };
+    fn fill_part(&self, p: &mut Part, j: [usize; 3]) {
+        p.terms = self.terms;
         for (pk, ek) in p.e.iter_mut().zip(&self.e[..self.terms]) {
             *pk = j.map(|j| ek[j]);
         }
-        p
     }
 
     /// `x(σ)` by Horner's rule.
@@ -693,8 +689,11 @@ impl Switching {
 }
 
 /// The switching functions that can explain a change from `a` to `b`.
-fn candidates(vehicle: &Vehicle, a: &[AxleRegime; 2], b: &[AxleRegime; 2]) -> Vec<Switching> {
-    let mut out = Vec::with_capacity(4);
+fn candidates(vehicle: &Vehicle, a: &[AxleRegime; 2], b: &[AxleRegime; 2]) -> Candidates {
+    let mut out = Candidates {
+        f: [Switching::Rate(0); 8],
+        count: 0,
+    };
     for (i, axle) in vehicle.axles.iter().enumerate() {
         if a[i].damper != b[i].damper {
             out.push(Switching::Rate(i));
@@ -713,6 +712,23 @@ fn candidates(vehicle: &Vehicle, a: &[AxleRegime; 2], b: &[AxleRegime; 2]) -> Ve
         }
     }
     out
+}
+
+/// At most four switching functions per axle, without a heap allocation.
+struct Candidates {
+    f: [Switching; 8],
+    count: usize,
+}
+
+impl Candidates {
+    fn push(&mut self, f: Switching) {
+        self.f[self.count] = f;
+        self.count += 1;
+    }
+
+    fn as_slice(&self) -> &[Switching] {
+        &self.f[..self.count]
+    }
 }
 
 /// The regime test of [`regime_of`] with each axle's damper and stops read
@@ -1163,9 +1179,18 @@ impl<const N: usize> Walk<'_, N> {
         to: &[AxleRegime; 2],
     ) -> f64 {
         let mut first = len;
-        for f in candidates(self.probe.model.vehicle(), from, to) {
-            let part = f.reads::<N>(&self.probe).map(|j| series.part(j));
-            let reads = part.as_ref();
+        let mut part = Part {
+            e: [[0.0; 3]; MAX_TERMS],
+            terms: 0,
+        };
+        for &f in candidates(self.probe.model.vehicle(), from, to).as_slice() {
+            let reads = match f.reads::<N>(&self.probe) {
+                Some(j) => {
+                    series.fill_part(&mut part, j);
+                    Some(&part)
+                }
+                None => None,
+            };
             let g0 = self.switching_value(f, reads, series, iv, s0, 0.0);
             let g1 = self.switching_value(f, reads, series, iv, s0 + first, first);
             if f.side(g0) == f.side(g1) {
@@ -1281,10 +1306,9 @@ fn run_fixed<const N: usize, const D: usize>(
     // The inputs of the next sample too, so that the end of each interval
     // also reads the regime the next one starts in.
     let mut next = at(last.min(1));
-    let mut start = {
-        let (w0, w1) = (hold_inputs(&inputs), hold_inputs(&next));
-        walk.probe.key(&x, &w0, rate_of(&w0, &w1))
-    };
+    // The hold's road rates over the next interval.
+    let mut rate_m_s = rate_of(&hold_inputs(&inputs), &hold_inputs(&next));
+    let mut start = walk.probe.key(&x, &hold_inputs(&inputs), rate_m_s);
     for k in 0..total {
         let t = k as f64 * dt;
         let mut q = [0.0; MAX_DOF];
@@ -1303,7 +1327,7 @@ fn run_fixed<const N: usize, const D: usize>(
         super::check_block(k, &x, t, vehicle)?;
         sink.accept(&sample)?;
         if k < last {
-            let after = at(last.min(k + 2));
+            let after = excitation.at_with(&road, last.min(k + 2) as f64 * dt);
             let (w0, w1, w2) = (
                 hold_inputs(&inputs),
                 hold_inputs(&next),
@@ -1313,10 +1337,11 @@ fn run_fixed<const N: usize, const D: usize>(
                 t0_s: t,
                 w0,
                 w1,
-                rate_m_s: rate_of(&w0, &w1),
+                rate_m_s,
             };
             let next_rate = (k + 1 < last).then(|| rate_of(&w1, &w2));
             start = walk.interval(&mut x, &iv, start, next_rate);
+            rate_m_s = next_rate.unwrap_or(rate_m_s);
             inputs = next;
             next = after;
         }
