@@ -18,8 +18,8 @@ use crate::comfort::{
     seat_totals,
 };
 use crate::plausibility::{
-    EnergyBalance, EnergyLedger, Engagement, Finding, energy_findings, gaps, non_finite_fields,
-    spectral_findings,
+    EnergyBalance, EnergyLedger, Engagement, Finding, LedgerStep, energy_findings, gaps,
+    non_finite_fields, spectral_findings,
 };
 use crate::report::{AtomicFile, ExportError, fmt_micro};
 use crate::road::Profile;
@@ -471,25 +471,27 @@ fn run_streaming(
         buffered.flush()?;
         return Ok(info);
     }
-    // The energy ledger goes with the other evaluators: with their chunk
-    // loops the two threads are then about even (20 km class C exact run,
-    // callgrind: solver 589 M instructions, evaluators with half the
-    // profile's parsing 613 M; with the ledger beside the solver 798 M and
-    // 404 M).
+    // The energy ledger is shared out: its per-sample terms are taken here,
+    // beside the solver, and the running sums added on the evaluators'
+    // thread (the terms take most of its time, but on either thread alone
+    // the whole ledger set the pace: 20 km class C exact run 63 ms wall
+    // with it on either side, 40 ms without it).
+    let mut ledger = sink.energy.clone();
     let evaluators = &mut *sink;
-    let result = std::thread::scope(|scope| {
+    std::thread::scope(|scope| {
         let (tx, rx) = mpsc::sync_channel::<Handover>(CHUNKS_IN_FLIGHT);
-        let (back_tx, back_rx) = mpsc::sync_channel::<Vec<Sample>>(CHUNKS_IN_FLIGHT + 2);
+        let (back_tx, back_rx) =
+            mpsc::sync_channel::<(Vec<Sample>, Vec<LedgerStep>)>(CHUNKS_IN_FLIGHT + 2);
         let evaluator = scope.spawn(move || -> Result<(), SolveError> {
             for item in rx {
                 match item {
                     Handover::Start(kind) => evaluators.start(kind)?,
-                    Handover::Samples(chunk) => {
-                        evaluators.accept_chunk(&chunk)?;
+                    Handover::Samples(chunk, steps) => {
+                        evaluators.accept_chunk(&chunk, Some(&steps))?;
                         // Back for reuse, samples and all (the solver
                         // overwrites them); a full return queue only means
                         // one buffer fewer to reuse.
-                        let _ = back_tx.try_send(chunk);
+                        let _ = back_tx.try_send((chunk, steps));
                     }
                 }
             }
@@ -500,6 +502,8 @@ fn run_streaming(
             back: back_rx,
             chunk: vec![Sample::default(); CHUNK_SAMPLES],
             filled: 0,
+            ledger: &mut ledger,
+            steps: Vec::with_capacity(CHUNK_SAMPLES),
         };
         let solved = solve::run(vehicle, excitation, plan, &mut feed).and_then(|info| {
             feed.hand_over()?;
@@ -513,8 +517,7 @@ fn run_streaming(
             Ok(Err(e)) => Err(e),
             Ok(Ok(())) => solved,
         }
-    });
-    result
+    })
 }
 
 /// The evaluators on the solver's own thread, a chunk at a time: the
@@ -532,7 +535,7 @@ impl Buffered<'_, '_> {
     /// Evaluates the samples collected so far.
     fn flush(&mut self) -> Result<(), SolveError> {
         let filled = std::mem::take(&mut self.filled);
-        self.evaluators.accept_chunk(&self.chunk[..filled])
+        self.evaluators.accept_chunk(&self.chunk[..filled], None)
     }
 }
 
@@ -569,21 +572,25 @@ enum Handover {
     /// A (re)start: discard everything evaluated so far.
     Start(SolverKind),
     /// The next samples.
-    Samples(Vec<Sample>),
+    Samples(Vec<Sample>, Vec<LedgerStep>),
 }
 
 /// The solver's side of [`run_streaming`]: collects samples into chunks.
-struct Feed {
+struct Feed<'l> {
     tx: mpsc::SyncSender<Handover>,
-    back: mpsc::Receiver<Vec<Sample>>,
+    back: mpsc::Receiver<(Vec<Sample>, Vec<LedgerStep>)>,
     /// Always [`CHUNK_SAMPLES`] long, so the solver can build each sample
     /// in its slot ([`SampleSink::next_slot`]); the first `filled` are this
     /// run's, the rest are left over from the buffer's previous use.
     chunk: Vec<Sample>,
     filled: usize,
+    /// Takes the energy ledger's per-sample terms of each chunk
+    /// ([`EnergyLedger::steps_block`]), sent along with it.
+    ledger: &'l mut EnergyLedger,
+    steps: Vec<LedgerStep>,
 }
 
-impl Feed {
+impl Feed<'_> {
     fn send(&self, item: Handover) -> Result<(), SolveError> {
         self.tx.send(item).map_err(|_| {
             SolveError::Settings("the evaluator thread stopped before the run ended".to_string())
@@ -595,16 +602,21 @@ impl Feed {
         if self.filled == 0 {
             return Ok(());
         }
-        let mut fresh = self
-            .back
-            .try_recv()
-            .unwrap_or_else(|_| vec![Sample::default(); CHUNK_SAMPLES]);
+        let (mut fresh, fresh_steps) = self.back.try_recv().unwrap_or_else(|_| {
+            (
+                vec![Sample::default(); CHUNK_SAMPLES],
+                Vec::with_capacity(CHUNK_SAMPLES),
+            )
+        });
         // Only the run's last chunk comes back short.
         fresh.resize(CHUNK_SAMPLES, Sample::default());
+        self.ledger
+            .steps_block(&self.chunk[..self.filled], &mut self.steps);
+        let steps = std::mem::replace(&mut self.steps, fresh_steps);
         let mut full = std::mem::replace(&mut self.chunk, fresh);
         full.truncate(self.filled);
         self.filled = 0;
-        self.send(Handover::Samples(full))
+        self.send(Handover::Samples(full, steps))
     }
 
     /// Counts in the sample in slot `filled`.
@@ -618,10 +630,11 @@ impl Feed {
     }
 }
 
-impl SampleSink for Feed {
+impl SampleSink for Feed<'_> {
     fn start(&mut self, solver: SolverKind) -> Result<(), SolveError> {
         // Samples not yet handed over belong to the run being discarded.
         self.filled = 0;
+        self.ledger.start(solver);
         self.send(Handover::Start(solver))
     }
 
@@ -974,13 +987,20 @@ impl Evaluators<'_> {
     /// taken once) instead of every evaluator in turn per sample. Each
     /// evaluator still sees its values in sample order, and they share
     /// nothing, so the order between evaluators does not matter.
-    fn accept_chunk(&mut self, chunk: &[Sample]) -> Result<(), SolveError> {
+    ///
+    /// `steps`: the energy ledger's per-sample terms of `chunk`, when they
+    /// were taken on the solver's thread; the ledger then only adds them.
+    fn accept_chunk(
+        &mut self,
+        chunk: &[Sample],
+        steps: Option<&[LedgerStep]>,
+    ) -> Result<(), SolveError> {
         #[cfg(target_arch = "x86_64")]
         if self.avx {
             // SAFETY: `avx` is true only where the processor has AVX.
-            return unsafe { self.accept_chunk_avx(chunk) };
+            return unsafe { self.accept_chunk_avx(chunk, steps) };
         }
-        self.accept_chunk_inlined(chunk)
+        self.accept_chunk_inlined(chunk, steps)
     }
 
     /// [`Evaluators::accept_chunk`] compiled for AVX where the processor has
@@ -989,13 +1009,21 @@ impl Evaluators<'_> {
     /// register copies).
     #[cfg(target_arch = "x86_64")]
     #[target_feature(enable = "avx")]
-    fn accept_chunk_avx(&mut self, chunk: &[Sample]) -> Result<(), SolveError> {
-        self.accept_chunk_inlined(chunk)
+    fn accept_chunk_avx(
+        &mut self,
+        chunk: &[Sample],
+        steps: Option<&[LedgerStep]>,
+    ) -> Result<(), SolveError> {
+        self.accept_chunk_inlined(chunk, steps)
     }
 
     /// The body of [`Evaluators::accept_chunk`].
     #[inline(always)]
-    fn accept_chunk_inlined(&mut self, chunk: &[Sample]) -> Result<(), SolveError> {
+    fn accept_chunk_inlined(
+        &mut self,
+        chunk: &[Sample],
+        steps: Option<&[LedgerStep]>,
+    ) -> Result<(), SolveError> {
         if self.any_suspended {
             self.push_seats_general_chunk(chunk);
         } else {
@@ -1038,7 +1066,10 @@ impl Evaluators<'_> {
         }
         self.off_ground[0] += off[0];
         self.off_ground[1] += off[1];
-        self.energy.push_block(chunk);
+        match steps {
+            Some(steps) => self.energy.add_steps(chunk, steps),
+            None => self.energy.push_block(chunk),
+        }
         if self.history.is_some() {
             for s in chunk {
                 self.write_history(s)?;

@@ -177,6 +177,16 @@ pub struct EnergyLedger {
     sums: Sums,
 }
 
+/// One sample's part of the energy balance, apart from the running sums:
+/// its stored energy and the work done on the vehicle and in its dampers
+/// since the sample before (both 0 for a run's first sample), J.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct LedgerStep {
+    stored_j: f64,
+    input_j: f64,
+    damping_j: f64,
+}
+
 /// What the ledger knows of the vehicle, worked out once.
 #[derive(Debug, Clone)]
 struct LedgerModel {
@@ -458,41 +468,61 @@ impl EnergyLedger {
     /// `push`, so their own loops stay as compact as before.
     #[inline(always)]
     pub fn push_inlined(&mut self, s: &Sample) {
-        // The current sample's terms go to the slot not holding the last.
+        let step = self.step_next(s);
+        self.add(s.time_s, step);
+    }
+
+    /// One sample's terms ([`LedgerStep`]); its work slot is the one not
+    /// holding the last sample's. A run's first sample did no work since
+    /// a sample before: its work terms are +0, which leave the running
+    /// sums (+0 then) with the same bits as not adding them.
+    #[inline(always)]
+    fn step_next(&mut self, s: &Sample) -> LedgerStep {
         let now = self.last ^ 1;
         let [w0, w1] = &mut self.work;
         let (work, prev) = if now == 0 { (w0, &*w1) } else { (w1, &*w0) };
-        let stored = self.model.terms(s, work);
-        let m = &mut self.sums;
-        if self.has_last {
-            m.input_j += work.input_j(prev);
-            m.dissipated_j += work.damping_j(prev, self.model.damping_slots);
-        }
+        let stored_j = self.model.terms(s, work);
+        let step = if self.has_last {
+            LedgerStep {
+                stored_j,
+                input_j: work.input_j(prev),
+                damping_j: work.damping_j(prev, self.model.damping_slots),
+            }
+        } else {
+            LedgerStep {
+                stored_j,
+                input_j: 0.0,
+                damping_j: 0.0,
+            }
+        };
         self.last = now;
         self.has_last = true;
-        self.tally(s, stored);
+        step
     }
 
-    /// [`EnergyLedger::push_inlined`] for a sample after the first, whose
+    /// [`EnergyLedger::step_next`] for a sample after the first, whose
     /// terms go to slot `NOW` (the last sample's are in the other): the
     /// same arithmetic, with the slots known where it is compiled.
     #[inline(always)]
-    fn push_at<const NOW: usize>(&mut self, s: &Sample) {
+    fn step_at<const NOW: usize>(&mut self, s: &Sample) -> LedgerStep {
         let [w0, w1] = &mut self.work;
         let (work, prev) = if NOW == 0 { (w0, &*w1) } else { (w1, &*w0) };
-        let stored = self.model.terms(s, work);
-        let m = &mut self.sums;
-        m.input_j += work.input_j(prev);
-        m.dissipated_j += work.damping_j(prev, self.model.damping_slots);
+        let stored_j = self.model.terms(s, work);
         self.last = NOW;
-        self.tally(s, stored);
+        LedgerStep {
+            stored_j,
+            input_j: work.input_j(prev),
+            damping_j: work.damping_j(prev, self.model.damping_slots),
+        }
     }
 
-    /// The running extremes and the local balance after a sample whose
-    /// stored energy is `stored`.
+    /// Adds one sample's terms, taken at `time_s`, to the running sums.
     #[inline(always)]
-    fn tally(&mut self, s: &Sample, stored: f64) {
+    fn add(&mut self, time_s: f64, step: LedgerStep) {
         let m = &mut self.sums;
+        m.input_j += step.input_j;
+        m.dissipated_j += step.damping_j;
+        let stored = step.stored_j;
         m.input_max_j = m.input_max_j.max(m.input_j);
         m.stored_max_j = m.stored_max_j.max(stored);
         let signed = stored - (m.input_j - m.dissipated_j);
@@ -500,49 +530,87 @@ impl EnergyLedger {
         // `!(a <= b)` also catches a NaN residual.
         if !(residual <= m.residual_max_j) {
             m.residual_max_j = residual;
-            m.residual_at_s = s.time_s;
+            m.residual_at_s = time_s;
         }
-        m.local(s.time_s, signed, stored);
+        m.local(time_s, signed, stored);
     }
 
     /// Adds output samples in time order, as [`EnergyLedger::push`] for
-    /// each would, bit for bit: in pairs, so that each sample's work slot
-    /// is fixed in the code rather than chosen per sample; compiled for
-    /// AVX where the processor has it (the same arithmetic, so the same
-    /// bits; about an eighth fewer instructions).
+    /// each would, bit for bit (see [`EnergyLedger::for_each_step`]).
     pub fn push_block(&mut self, samples: &[Sample]) {
         #[cfg(target_arch = "x86_64")]
         if self.model.avx {
             // SAFETY: `avx` is true only where the processor has AVX.
             return unsafe { self.push_block_avx(samples) };
         }
-        self.push_block_inlined(samples)
+        self.for_each_step(samples, |l, s, step| l.add(s.time_s, step));
     }
 
     /// [`EnergyLedger::push_block`] with AVX enabled.
     #[cfg(target_arch = "x86_64")]
     #[target_feature(enable = "avx")]
     fn push_block_avx(&mut self, samples: &[Sample]) {
-        self.push_block_inlined(samples)
+        self.for_each_step(samples, |l, s, step| l.add(s.time_s, step));
     }
 
+    /// The per-sample half of [`EnergyLedger::push_block`]: each sample's
+    /// terms written to `steps` (cleared first), the running sums left
+    /// alone, so that another thread can add them in order with
+    /// [`EnergyLedger::add_steps`]. This ledger then only serves to take
+    /// terms; the one that adds them must see the same starts.
+    pub fn steps_block(&mut self, samples: &[Sample], steps: &mut Vec<LedgerStep>) {
+        steps.clear();
+        #[cfg(target_arch = "x86_64")]
+        if self.model.avx {
+            // SAFETY: `avx` is true only where the processor has AVX.
+            return unsafe { self.steps_block_avx(samples, steps) };
+        }
+        self.for_each_step(samples, |_, _, step| steps.push(step));
+    }
+
+    /// [`EnergyLedger::steps_block`] with AVX enabled.
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "avx")]
+    fn steps_block_avx(&mut self, samples: &[Sample], steps: &mut Vec<LedgerStep>) {
+        self.for_each_step(samples, |_, _, step| steps.push(step));
+    }
+
+    /// Adds the terms [`EnergyLedger::steps_block`] took of `samples`, in
+    /// order: the same sums, bit for bit, as [`EnergyLedger::push_block`].
+    pub fn add_steps(&mut self, samples: &[Sample], steps: &[LedgerStep]) {
+        for (s, &step) in samples.iter().zip(steps) {
+            self.add(s.time_s, step);
+        }
+    }
+
+    /// Each sample's terms handed to `f` in order: in pairs, so that each
+    /// sample's work slot is fixed in the code rather than chosen per
+    /// sample (about an eighth fewer instructions).
     #[inline(always)]
-    fn push_block_inlined(&mut self, samples: &[Sample]) {
+    fn for_each_step(
+        &mut self,
+        samples: &[Sample],
+        mut f: impl FnMut(&mut Self, &Sample, LedgerStep),
+    ) {
         let mut rest = samples;
         while let Some((s, tail)) = rest.split_first() {
             if self.has_last && self.last == 1 {
                 break;
             }
-            self.push_inlined(s);
+            let step = self.step_next(s);
+            f(self, s, step);
             rest = tail;
         }
         let mut pairs = rest.chunks_exact(2);
         for pair in &mut pairs {
-            self.push_at::<0>(&pair[0]);
-            self.push_at::<1>(&pair[1]);
+            let step = self.step_at::<0>(&pair[0]);
+            f(self, &pair[0], step);
+            let step = self.step_at::<1>(&pair[1]);
+            f(self, &pair[1], step);
         }
         if let [s] = pairs.remainder() {
-            self.push_at::<0>(s);
+            let step = self.step_at::<0>(s);
+            f(self, s, step);
         }
     }
 
