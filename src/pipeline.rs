@@ -436,7 +436,7 @@ fn check(
     }
 }
 
-/// Output samples per chunk handed to the evaluator thread (about 230 kB).
+/// Output samples per chunk handed to the evaluator thread (about 330 kB).
 const CHUNK_SAMPLES: usize = 1024;
 /// Output samples evaluated at a time on the solver's own thread
 /// ([`Buffered`]): enough for the chunk loops to pay (as fast per sample as

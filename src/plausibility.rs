@@ -455,19 +455,10 @@ impl EnergyLedger {
     /// continuous where the road's slope jumps, so an output instant that
     /// falls on a road sample (taking the slope of the segment ahead) biases
     /// nothing.
-    // Kept out of line: inlined, it crowds the evaluators' loop (which
-    // calls it only when the ledger is not on the solver's thread).
+    // Kept out of line: inlined, it crowds the sample-by-sample
+    // evaluators' loop (runs take the chunk path, `push_block`, today).
     #[inline(never)]
     pub fn push(&mut self, s: &Sample) {
-        self.push_inlined(s)
-    }
-
-    /// [`EnergyLedger::push`], always inlined: for a caller compiled with
-    /// other instruction-set features (the solver thread's AVX path),
-    /// which a call could not carry into the ledger. Other callers use
-    /// `push`, so their own loops stay as compact as before.
-    #[inline(always)]
-    pub fn push_inlined(&mut self, s: &Sample) {
         let step = self.step_next(s);
         self.add(s.time_s, step);
     }
